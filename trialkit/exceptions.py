@@ -1,0 +1,62 @@
+"""Errors and warnings raised by trialkit.
+
+Every error is a ``ValueError`` subclass so that callers who do not care about the
+detail can catch one familiar type.  Messages say what was received, what is allowed
+and what to try.  Errors that gather several problems (a trial file, an ingested
+sheet) carry them as a :class:`trialkit.problems.ProblemReport` in ``.problems``.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # pragma: no cover
+    from trialkit.problems import ProblemReport
+
+
+class TrialkitError(ValueError):
+    """Base class of every error trialkit raises on bad input."""
+
+    def __init__(self, message: str, problems: ProblemReport | None = None):
+        super().__init__(message)
+        self.problems = problems
+
+
+class TrialFileError(TrialkitError):
+    """The trial file has one or more problems (see ``.problems``)."""
+
+
+class DesignError(TrialkitError):
+    """A design cannot be built from the factors and options given."""
+
+
+class PlanError(TrialkitError):
+    """The layout (replicates, blocks, controls, coupons) cannot be laid out."""
+
+
+class ChemistryError(TrialkitError):
+    """A bath cannot be computed: unknown ingredient, unreachable pH, solver failure."""
+
+
+class SheetError(TrialkitError):
+    """A recording sheet was refused on ingest (see ``.problems``)."""
+
+
+class RecordLogError(TrialkitError):
+    """The record log cannot be opened or written."""
+
+
+class ResponseError(TrialkitError):
+    """A response cannot be computed from the readings."""
+
+
+class ModelSpecError(TrialkitError):
+    """A model specification names unknown factors or is not in the grammar."""
+
+
+class AnalysisError(TrialkitError):
+    """A model cannot be fitted to the data given."""
+
+
+class TrialkitWarning(UserWarning):
+    """Something was computed, but the user should look at it."""
