@@ -96,10 +96,10 @@ def center_points(design: Design, n: int) -> pd.DataFrame:
     >>> fs = (Factor.continuous("ph", 5, 8), Factor.categorical("stir", ["off", "on"]))
     >>> d = build_design(fs, "full-factorial", {}, seed=1)
     >>> center_points(d, 3)
-         ph stir
-    0   0.0  off
-    1   0.0   on
-    2   0.0  off
+        ph stir
+    0  0.0  off
+    1  0.0   on
+    2  0.0  off
     """
     if not isinstance(n, (int, np.integer)) or isinstance(n, bool) or n < 0:
         raise DesignError(f"number of center points must be a whole number >= 0; got {n!r}")
