@@ -22,7 +22,7 @@ def test_center_points_continuous_at_zero_and_natural_midpoint():
     assert CONT[0].to_natural(c["chelator"].to_numpy()).tolist() == [6.0] * 4
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=40, deadline=None, derandomize=True)
 @given(n=st.integers(0, 40), a=st.integers(2, 3), b=st.integers(2, 4))
 def test_property_center_points_cycle_categorical_levels_evenly(n, a, b):
     fs = CONT[:1] + [Factor.categorical("s", [f"s{i}" for i in range(a)]),

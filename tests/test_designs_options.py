@@ -87,6 +87,9 @@ CASES = [
      "geometric_nonpositive"),
     ("sweep_no_count", ZERO_LOW, 'kind = "sweep"\nspacing = "linear"',
      "missing_design_option"),
+    ("untabulated", "".join(HEAD.replace("chelator", f"c{i}").replace("ph", f"p{i}").replace(
+        "temperature", f"t{i}") for i in range(4)),
+     'kind = "fractional-factorial"\nresolution = 4', "no_tabulated_design"),
     ("lhs_runs", HEAD, 'kind = "latin-hypercube"\nruns = 1', "runs_invalid"),
     ("lhs_crit", HEAD, 'kind = "latin-hypercube"\ncriterion = "maxmin"', "criterion_invalid"),
 ]
@@ -165,3 +168,12 @@ def test_every_kind_has_an_options_entry():
     assert set(DESIGN_OPTIONS) == set(DESIGN_KINDS)
     assert DESIGN_KINDS == ("full-factorial", "fractional-factorial", "plackett-burman",
                             "central-composite", "box-behnken", "sweep", "latin-hypercube")
+
+
+def test_faulty_factors_do_not_crash_the_option_checks():
+    # a factor with low >= high is the trial-file checker's problem, not ours
+    bad = [Factor("c", "continuous", "", 5.0, 1.0), Factor("d", "continuous", "", None, None)]
+    report = ProblemReport("t")
+    check_design_options(bad, "sweep", {"factor": "c", "levels": [2.0, 3.0],
+                                        "nonsense": 1}, report)
+    assert report.checks() == ["unknown_design_option"]

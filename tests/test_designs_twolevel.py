@@ -123,7 +123,7 @@ def two_level_cases():
     return st.one_of(full, frac, pb)
 
 
-@settings(max_examples=40, deadline=None)
+@settings(max_examples=40, deadline=None, derandomize=True)
 @given(two_level_cases())
 def test_property_two_level_balanced_and_orthogonal(case):
     # defining property of orthogonal two-level designs (common practice)
@@ -133,3 +133,10 @@ def test_property_two_level_balanced_and_orthogonal(case):
     n = len(x)
     assert np.all(x.sum(axis=0) == 0)
     assert np.array_equal(x.T @ x, n * np.eye(k))
+
+
+def test_listed_levels_of_continuous_factor_noted_in_two_level_design():
+    fs = cont(3) + [Factor.continuous("c", 1, 9, levels=[1, 3, 9])]
+    d = build_design(fs, "plackett-burman", {}, seed=0)
+    assert sorted(set(d.coded["c"])) == [-1.0, 1.0]
+    assert any("listed levels of c" in n for n in d.notes)

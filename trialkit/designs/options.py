@@ -19,6 +19,7 @@ categorical_not_two_level  a two-level kind got a categorical factor without 2 l
 resolution_out_of_range    resolution outside 3..8
 resolution_unreachable     no fraction of this many factors reaches the resolution
 resolution_not_met         the given generators give less than the given resolution
+no_tabulated_design        resolution asked for more than 10 factors (beyond Table 3.17)
 generators_invalid         a generator that cannot be parsed or does not fit the factors
 levels_invalid             full-factorial ``levels`` not a whole number >= 2
 alpha_invalid              alpha not rotatable/face/inscribed or a number > 0
@@ -80,7 +81,8 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
     "sweep": {
         "factor": "name of the continuous factor to sweep (default: the only one)",
         "levels": "list of natural values, strictly increasing, within low..high",
-        "count": "whole number >= 2 of levels from low to high",
+        "count": "whole number >= 2 of levels from low to high (default: the factor's "
+                 "own levels, else 5)",
         "spacing": "\"linear\" (default) or \"geometric\" (constant ratio; low > 0)",
     },
     "latin-hypercube": {
@@ -93,6 +95,7 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
 MAX_FULL_FACTORIAL_RUNS = 4096
 MAX_TWO_LEVEL_FACTORS = len(FACTOR_LETTERS)
 MAX_PB_FACTORS = 47
+MAX_TABULATED_FACTORS = 10
 
 
 def _is_int(v) -> bool:
@@ -121,6 +124,9 @@ def check_design_options(factors: Sequence[Factor], kind: str, options: Mapping,
     opts = {k: v for k, v in options.items() if k in allowed}
     cont = [f for f in factors if f.is_continuous]
     cats = [f for f in factors if not f.is_continuous]
+    if any(not (_is_num(f.low) and _is_num(f.high) and f.low < f.high) for f in cont) or \
+            any(len(f.levels) < 2 for f in cats):
+        return  # the factors themselves are faulty; the trial-file checks report that
     _CHECKERS[kind](factors, cont, cats, opts, problems, where)
 
 
@@ -185,6 +191,12 @@ def _check_fractional(factors, cont, cats, opts, problems, where):
                          value=res, check="resolution_unreachable",
                          fix=f"lower the resolution to {k} or less, or use kind = "
                              "'full-factorial'")
+        elif gens is None and k > MAX_TABULATED_FACTORS:
+            problems.add(f"{where}.resolution", f"the published table of fractions goes to "
+                         f"{MAX_TABULATED_FACTORS} factors; got {k}", value=res,
+                         check="no_tabulated_design",
+                         fix="give generators = [...] explicitly, or use kind = "
+                             "'plackett-burman' for screening")
     if gens is not None:
         if not (isinstance(gens, (list, tuple)) and all(isinstance(g, str) for g in gens)):
             problems.add(f"{where}.generators", "generators must be a list of text such as "
