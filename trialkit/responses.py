@@ -25,9 +25,11 @@ removal) come from :mod:`trialkit.kinetics` when time-course readings are given.
 from __future__ import annotations
 
 import math
+import os
 import re
 import warnings
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -324,3 +326,53 @@ def compute_responses(
     return Responses(coupons=coupons, baths=baths, methods=defs.methods(density, metal_name),
                      problems=report, warnings=notes, metal=metal_name,
                      density_g_cm3=density, kinetics=fits)
+
+
+def timecourse_from_log(long: pd.DataFrame, plan_table: pd.DataFrame) -> pd.DataFrame:
+    """Turn the record log's long inspection values into the time-course table.
+
+    ``long`` has columns coupon, inspection, field, value (as the record log gives
+    them); the result has one row per coupon and inspection with ``coupon``, ``bath``
+    (from the plan), ``inspection`` and the fields (``elapsed_h``, ``coverage_pct``,
+    ``mass_g``...), numbers as floats.
+    """
+    cols = ["coupon", "bath", "inspection", "elapsed_h", "coverage_pct", "mass_g"]
+    if long is None or len(long) == 0:
+        return pd.DataFrame(columns=cols)
+    wide = long.pivot_table(index=["coupon", "inspection"], columns="field", values="value",
+                            aggfunc="last").reset_index()
+    wide.columns.name = None
+    for name in ("elapsed_h", "coverage_pct", "mass_g"):
+        wide[name] = pd.to_numeric(wide[name], errors="coerce") if name in wide else np.nan
+    bath = plan_table[["coupon", "bath"]].astype(str)
+    wide["coupon"] = wide["coupon"].astype(str)
+    wide = wide.merge(bath, on="coupon", how="left")
+    return wide[cols + [c for c in wide.columns if c not in cols]]
+
+
+def load_responses(folder: str | os.PathLike, *, metal: str | None = None,
+                   strict: bool = False, kinetic_model: str = "auto") -> Responses:
+    """Responses of a trial folder: its plan, and the current values of its record log.
+
+    Raises
+    ------
+    ResponseError
+        The folder has no record log yet (nothing has been ingested).
+    """
+    from trialkit import store
+    from trialkit.plan import load_plan
+
+    folder = Path(folder)
+    trial_folder = folder if folder.is_dir() else folder.parent
+    log_path = trial_folder / store.LOG_FILE
+    plan = load_plan(folder)
+    if not log_path.exists():
+        raise ResponseError(
+            f"no record log in {trial_folder} (looked for {log_path.name}); nothing has "
+            "been recorded yet. Fill in a sheet and read it in with 'trialkit ingest'.")
+    log = store.RecordLog.for_folder(trial_folder)
+    readings = log.current_values(plan=plan)
+    timecourse = timecourse_from_log(log.current_timecourse(), plan.table)
+    return compute_responses(readings, coupon_spec=plan.trial.coupons, metal=metal,
+                             timecourse=timecourse if len(timecourse) else None,
+                             kinetic_model=kinetic_model, strict=strict)
