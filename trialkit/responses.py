@@ -115,6 +115,20 @@ class Responses:
         return pd.Series(self.baths[col].to_numpy(dtype=float), index=self.baths["bath"],
                          name=measure)
 
+    def time_ratio(self, bath: str, reference: str, *, level_pct: float = 90.0,
+                   confidence: float = 0.95):
+        """How many times as long ``bath`` takes as ``reference`` (see
+        :func:`trialkit.kinetics.time_ratio`); needs time-course readings of both."""
+        from trialkit.kinetics import time_ratio
+
+        missing = [b for b in (bath, reference) if b not in self.kinetics]
+        if missing:
+            raise ResponseError(
+                f"no fitted removal curve for {missing}; fitted baths: "
+                f"{sorted(self.kinetics) or 'none'}. Record time-course readings first.")
+        return time_ratio(self.kinetics[bath], self.kinetics[reference], level_pct=level_pct,
+                          bath=bath, reference_name=reference, confidence=confidence)
+
     def to_dict(self) -> dict:
         """Plain data for JSON: ``coupons`` and ``baths`` lists, methods, problems."""
         return {
