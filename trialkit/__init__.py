@@ -53,6 +53,22 @@ _EXPORTS: dict[str, str] = {
     "Plan": "trialkit.plan",
     "make_plan": "trialkit.plan",
     "load_plan": "trialkit.plan",
+    # responses
+    "coupon_area_cm2": "trialkit.geometry",
+    "metal": "trialkit.materials",
+    "density_g_cm3": "trialkit.materials",
+    "corrosion_rate": "trialkit.corrosion",
+    "convert_rate": "trialkit.corrosion",
+    "cycle_extrapolation": "trialkit.corrosion",
+    "blank_corrected_loss": "trialkit.corrosion",
+    "K_CONSTANTS": "trialkit.corrosion",
+    "d610_grade": "trialkit.rust_grade",
+    "compute_responses": "trialkit.responses",
+    "load_responses": "trialkit.responses",
+    "Responses": "trialkit.responses",
+    "fit_removal": "trialkit.kinetics",
+    "time_ratio": "trialkit.kinetics",
+    "RemovalFit": "trialkit.kinetics",
 }
 
 __all__ = sorted(_EXPORTS)
