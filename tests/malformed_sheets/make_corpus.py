@@ -98,7 +98,7 @@ def hand_plan(trial: Any) -> Any:
                 coded=bath_table.set_index("bath")[["chelator", "surfactant"]])
 
 
-def test_plan(folder: Path, **kw: Any) -> Any:
+def make_test_plan(folder: Path, **kw: Any) -> Any:
     """Write the test trial into ``folder`` and return its plan."""
     from trialkit.plan import make_plan
     from trialkit.trialfile import load_trial
@@ -135,7 +135,7 @@ def _hand_trial(folder: Path) -> Any:
     return trial
 
 
-test_plan.__test__ = False  # not a test function
+
 
 
 # -- filling sheets ----------------------------------------------------------------------
@@ -259,7 +259,7 @@ def _set(grid: list[list[str]], coupon: str, name: str, value: str) -> None:
 def build_corpus(folder: Path, plan: Any) -> dict[str, tuple[Path, list[str]]]:
     """Write every malformed sheet into ``folder``; return name -> (path, expected checks).
 
-    ``plan`` is the test plan (:func:`test_plan`); sheets are exported from it first.
+    ``plan`` is the test plan (:func:`make_test_plan`); sheets are exported from it first.
     """
     from trialkit.sheets.export_csv import export_csv
     from trialkit.sheets.export_xlsx import export_xlsx
@@ -374,7 +374,7 @@ def build_corpus(folder: Path, plan: Any) -> dict[str, tuple[Path, list[str]]]:
     import tempfile
 
     with tempfile.TemporaryDirectory() as tmp:
-        other = test_plan(Path(tmp), seed=777)
+        other = make_test_plan(Path(tmp), seed=777)
         other_blank = export_csv(other, Path(tmp) / "other.csv")
         out["other_plan"] = (fill_csv(other_blank, folder / "other_plan.csv", good),
                              ["wrong_plan"])
@@ -385,6 +385,6 @@ def build_corpus(folder: Path, plan: Any) -> dict[str, tuple[Path, list[str]]]:
 
 if __name__ == "__main__":  # pragma: no cover - manual use
     target = Path(sys.argv[1] if len(sys.argv) > 1 else "corpus")
-    plan = test_plan(target / "trial")
-    for name, (path, check) in build_corpus(target, plan).items():
+    plan = make_test_plan(target / "trial")
+    for _name, (path, check) in build_corpus(target, plan).items():
         print(f"{','.join(check):40s} {path}")

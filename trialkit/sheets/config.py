@@ -250,12 +250,12 @@ def parse_sheet_section(raw: Any, trial: Any, problems: ProblemReport,
             problems.add(f"{where}.ranges.{name}", "a range is [minimum, maximum], minimum first",
                          value=pair, fix="write e.g. [1, 500]", check="wrong_type")
             continue
+        if any(lists[li][i].kind != "number" for li, i in found):
+            problems.add(f"{where}.ranges.{name}", f"{name!r} is not a number field",
+                         value=name, fix="give ranges only for number fields",
+                         check="wrong_type")
+            continue
         for li, i in found:
-            if lists[li][i].kind != "number":
-                problems.add(f"{where}.ranges.{name}", f"{name!r} is not a number field",
-                             value=name, fix="give ranges only for number fields",
-                             check="wrong_type")
-                continue
             lists[li][i] = replace(lists[li][i], minimum=float(pair[0]), maximum=float(pair[1]))
 
     all_names = [f.name for f in fields]
