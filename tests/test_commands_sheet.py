@@ -31,15 +31,29 @@ def test_sheet_each_format(cli, tmp_path, fmt):
         assert plan.fingerprint in text_or_book.read_text(encoding="utf-8-sig")
 
 
-def test_sheet_out_option_and_starter_trial(cli, tmp_path):
-    assert cli("new", str(tmp_path / "starter")).returncode == 0
-    out = tmp_path / "bench.html"
-    res = cli("sheet", str(tmp_path / "starter"), "--format", "html", "--out", str(out),
-              "--paper", "Letter")
+def test_starter_trial_whole_loop(cli, tmp_path):
+    """new -> sheet --out -> fill -> ingest -> corrected copy -> history (invented values)."""
+    from malformed_sheets.make_corpus import fill_csv
+
+    folder = tmp_path / "starter"
+    assert cli("new", str(folder)).returncode == 0
+    blank = tmp_path / "bench.csv"
+    res = cli("sheet", str(folder), "--format", "csv", "--out", str(blank))
     assert res.returncode == 0, res.stderr
-    page = out.read_text(encoding="utf-8")
-    assert "letter landscape" in page
-    assert load_plan(tmp_path / "starter").fingerprint in res.stdout
+    plan = load_plan(folder)
+    assert plan.fingerprint in res.stdout
+    coupon = plan.table.loc[plan.table["point"] != "control", "coupon"].iloc[0]
+    first = fill_csv(blank, tmp_path / "day1.csv",
+                     {coupon: {"mass_initial_g": 25.0, "mass_final_g": 24.6}})
+    fixed = fill_csv(blank, tmp_path / "day1-fixed.csv",
+                     {coupon: {"mass_initial_g": 25.0, "mass_final_g": 24.4}})
+    for sheet in (first, fixed):
+        res = cli("ingest", str(sheet), "--trial", str(folder))
+        assert res.returncode == 0, res.stdout + res.stderr
+    res = cli("history", str(folder), "--json")
+    rows = [(r["field"], r["value"], r["revision"]) for r in json.loads(res.stdout)]
+    assert rows == [("mass_final_g", 24.6, 1), ("mass_final_g", 24.4, 2),
+                    ("mass_initial_g", 25.0, 1)]
 
 
 def test_sheet_bad_folder(cli, tmp_path):
