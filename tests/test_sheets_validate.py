@@ -65,3 +65,20 @@ def test_all_problems_of_one_row_are_reported(setup):
         "mass_initial_g": 20.0, "mass_final_g": 21.0, "bath_ph": "acidic",
         "immersion_start": "2026-12-02 10:00", "immersion_end": "2026-12-01 10:00"}})
     assert sorted(problems.checks()) == ["end_before_start", "mass_gain", "wrong_type"]
+
+
+@pytest.mark.parametrize("heading, checks", [
+    ("Exposed area (cm^2)", []),  # the same unit spelt differently (pint: cm^2 == cm²)
+    ("Exposed area (square centimeter)", []),
+    ("Exposed area (mm^2)", ["unit_mismatch"]),
+    ("Exposed area (bananas)", ["unit_mismatch"]),
+])
+def test_unit_spellings_in_headings(setup, heading, checks):
+    from malformed_sheets.make_corpus import _csv_grid, _write_grid
+
+    plan, blank, tmp = setup
+    grid = _csv_grid(fill_csv(blank, tmp / "f.csv", {"B01-R1": {"mass_initial_g": 1.0,
+                                                                "area_cm2": 20.0}}))
+    grid[1][grid[2].index("area_cm2")] = heading
+    result = check_sheet(_write_grid(tmp / "g.csv", grid), plan)
+    assert result.problems.checks() == checks
