@@ -189,7 +189,12 @@ def solution_block(number: int, composition: dict[str, float], temperature_c: fl
     names = _NAMES[database]
     lines = [f"SOLUTION {number}", f"    temp {temperature_c:.6g}", "    units mol/l",
              "    density 1", "    pH 7 charge"]
+    from trialkit.chemistry.catalogue import SPECIES
+
     for species, mol_l in sorted(composition.items()):
+        if species not in SPECIES:
+            raise ChemistryError(f"unknown master species {species!r}; allowed: "
+                                 + ", ".join(SPECIES))
         if mol_l < 0 or not math.isfinite(mol_l):
             raise ChemistryError(f"negative or non-finite amount of {species}: {mol_l}")
         if mol_l > 0:
