@@ -236,7 +236,7 @@ def _rule(t: Any, where: str, cat: Catalogue, factors: dict, problems: ProblemRe
                 problems.add(f"{where}.present_when", "present_when applies to categorical "
                              "factors only", value=present, check="bad_present_when")
         else:
-            if amount is None:
+            if "amount" not in t:
                 problems.add(f"{where}.amount", "an ingredient switched by a categorical "
                              "factor needs its amount", value="", check="missing_amount")
             levels = [str(x) for x in f.levels]
@@ -249,7 +249,7 @@ def _rule(t: Any, where: str, cat: Catalogue, factors: dict, problems: ProblemRe
                 if str(lv) not in levels:
                     problems.add(f"{where}.present_when", f"not a level of {fname!r}", value=lv,
                                  check="unknown_level", fix=did_you_mean(str(lv), levels))
-    elif amount is None:
+    elif "amount" not in t:
         problems.add(f"{where}.amount", "an ingredient not set by a factor needs an amount",
                      value="", check="missing_amount", fix='add amount = "5 % w/v"')
     return IngredientRule(canonical, amount, fname, tuple(str(x) for x in present))
@@ -318,7 +318,7 @@ def _quantity(text: Any, unit: str, where: str, problems: ProblemReport, what: s
     from trialkit.units import to_unit
 
     try:
-        value = to_unit(text, unit) if isinstance(text, str) else None
+        value = to_unit(_exponents(text), unit) if isinstance(text, str) else None
     except TrialkitError:
         value = None
     if value is None or not value > 0:
@@ -326,6 +326,13 @@ def _quantity(text: Any, unit: str, where: str, problems: ProblemReport, what: s
                      check="bad_quantity")
         return None
     return value
+
+
+def _exponents(text: str) -> str:
+    """``"mg/cm2"`` -> ``"mg/cm**2"`` (pint wants the exponent written out)."""
+    import re
+
+    return re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", text)
 
 
 def _temperature(text: Any, where: str, problems: ProblemReport) -> float | None:
