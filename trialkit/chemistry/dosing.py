@@ -13,7 +13,7 @@ Examples
 >>> from trialkit.chemistry.speciation import solve
 >>> curve = titration_curve({"Na": 0.526, "Edta": 0.1315}, {"Citrate": 1 / 192.12},
 ...                         [0.0, 20.0])
->>> curve.ph[0] > 10 > curve.ph[1]
+>>> bool(curve.ph[0] > 10 > curve.ph[1])
 True
 """
 
@@ -27,8 +27,8 @@ from trialkit.chemistry.speciation import DEFAULT_DATABASE, solve
 from trialkit.exceptions import ChemistryError
 
 #: Grid points of the first scan and subdivisions per refinement round.
-SCAN_POINTS = 25
-SUBDIVISIONS = 8
+SCAN_POINTS = 17
+SUBDIVISIONS = 6
 ROUNDS = 3
 #: Largest adjuster concentration tried, g of product per litre of bath.
 MAX_DOSE_G_L = 700.0
@@ -190,19 +190,26 @@ def local_dose(base: dict[str, float], per_g: dict[str, float], target_ph: float
                database: str = DEFAULT_DATABASE, label: str = "the bath",
                adjuster: str = "the adjuster") -> Dose:
     """Dose near ``near`` (found by another model) giving ``target_ph``: a cheap search
-    for cross-checks.  Five points from 0.7 to 1.4 times ``near`` in one call; the
-    crossing interval is narrowed once more; without a crossing it falls back to
-    :func:`find_dose` started at ``near``."""
-    xs = near * np.array([0.7, 0.85, 1.0, 1.15, 1.4])
+    for cross-checks.
+
+    One call evaluates 0.8, 1.0 and 1.25 times ``near``; a second narrows the crossing
+    interval with two more points, and the last bracket is interpolated.  Without a
+    crossing it falls back to :func:`find_dose` started at ``near``.  ``ph_at_zero`` of
+    the result holds the pH *at* ``near`` (the other model's dose) in this database.
+    """
+    xs = near * np.array([0.8, 1.0, 1.25])
     curve = titration_curve(base, per_g, xs, temperature_c, database=database, label=label)
+    ph_near = float(curve.ph[1])
     d = curve.ph - target_ph
     hit = np.nonzero(np.sign(d[:-1]) != np.sign(d[1:]))[0]
     if hit.size == 0:
-        return find_dose(base, per_g, target_ph, temperature_c, database=database,
+        full = find_dose(base, per_g, target_ph, temperature_c, database=database,
                          label=label, adjuster=adjuster, near=near)
+        return Dose(full.g_per_l, full.predicted_ph, full.ionic_strength, full.ph_at_90,
+                    full.steep, full.calls + 1, database, ph_near)
     j = int(hit[0])
     a, b, pa, pb = xs[j], xs[j + 1], curve.ph[j], curve.ph[j + 1]
-    pts = np.linspace(a, b, 5)[1:-1]
+    pts = np.linspace(a, b, 4)[1:-1]
     sub = titration_curve(base, per_g, pts, temperature_c, database=database, label=label)
     xx = np.concatenate([[a], pts, [b]])
     pp = np.concatenate([[pa], sub.ph, [pb]])
@@ -210,6 +217,5 @@ def local_dose(base: dict[str, float], per_g: dict[str, float], target_ph: float
     k = int(np.nonzero(np.sign(dd[:-1]) != np.sign(dd[1:]))[0][0])
     a, b, pa, pb = xx[k], xx[k + 1], pp[k], pp[k + 1]
     dose = float(a + (target_ph - pa) * (b - a) / (pb - pa)) if pb != pa else float(a)
-    ph90 = float(np.interp(0.9 * dose, xs, curve.ph)) if xs[0] <= 0.9 * dose else float("nan")
-    return Dose(dose, float(target_ph), float("nan"), ph90, abs(ph90 - target_ph) > STEEP_PH,
-                2, database, float("nan"))
+    return Dose(dose, float(target_ph), float("nan"), float("nan"), False, 2, database,
+                ph_near)

@@ -262,26 +262,33 @@ def _line(ing: Ingredient, grams: float, basis: str, moles: float, ml: float | N
 
 def _cross_check(base, adj, spec, moles, dose, label, notes) -> dict:
     sit = speciation.CROSS_CHECK_DATABASE
-    comp = _composition(moles, spec.volume_l)
-    ph_sit = speciation.solve([comp], spec.temperature_c, database=sit, label=label)[0].ph
-    out = {"database": sit, "predicted_ph": ph_sit, "dose_g": None, "dose_spread_g": None}
-    text = (f"ionic strength is above {speciation.DAVIES_LIMIT} mol/kg, where the Davies "
-            f"model is unreliable: the specific-ion-interaction model ({sit}) gives pH "
-            f"{ph_sit:.2f} for this recipe")
-    if dose is not None:
+    out = {"database": sit, "predicted_ph": None, "dose_g": None, "dose_spread_g": None}
+    if dose is None:
+        comp = _composition(moles, spec.volume_l)
+        ph_sit = speciation.solve([comp], spec.temperature_c, database=sit, label=label)[0].ph
+        tail = ""
+    else:
         per_g = {sp: n * adj.mol_per_gram_supplied for sp, n in adj.species.items()}
+        tail = "; it cannot reach the target with this adjuster"
         try:
             d_sit = local_dose(base, per_g, float(spec.target_ph), dose.g_per_l,
                                spec.temperature_c, database=sit, label=label,
                                adjuster=adj.name)
+            ph_sit = d_sit.ph_at_zero
             g_sit = d_sit.g_per_l * spec.volume_l
             spread = abs(g_sit - dose.g_per_l * spec.volume_l)
             out.update(dose_g=g_sit, dose_spread_g=spread)
-            text += (f" and a dose of {g_sit:.1f} g; take ±{spread:.1f} g as the "
-                     "uncertainty of the dose")
+            tail = (f" and a dose of {g_sit:.1f} g; take ±{spread:.1f} g as the "
+                    "uncertainty of the dose")
         except ChemistryError:
-            text += "; it cannot reach the target with this adjuster"
-    notes.append(text + ". The pH is an estimate: confirm it with a pH meter.")
+            comp = _composition(moles, spec.volume_l)
+            ph_sit = speciation.solve([comp], spec.temperature_c, database=sit,
+                                      label=label)[0].ph
+    out["predicted_ph"] = ph_sit
+    notes.append(f"ionic strength is above {speciation.DAVIES_LIMIT} mol/kg, where the "
+                 f"Davies model is unreliable: the specific-ion-interaction model ({sit}) "
+                 f"gives pH {ph_sit:.2f} for this recipe{tail}. The pH is an estimate: "
+                 "confirm it with a pH meter.")
     return out
 
 
