@@ -67,7 +67,7 @@ CASES = [
     ("low-not-below-high", ("low = 2.0", "low = 12.0"), "low_not_below_high", "swap"),
     ("duplicate-factor", ('name = "surfactant"', 'name = "chelator"'), "duplicate_name",
      "twice"),
-    ("unknown-unit", ('unit = "% w/v"', 'unit = "furlongs"'), "unknown_unit", "furlongs"),
+    ("unknown-unit", ('unit = "% w/v"', 'unit = "spoonfuls"'), "unknown_unit", "spoonfuls"),
     ("bad-design-kind", ('kind = "full-factorial"', 'kind = "full-factorail"'),
      "bad_design_kind", "full-factorial"),
     ("missing-seed", ("seed = 3", ""), "missing_seed", "seed"),
