@@ -130,3 +130,31 @@ def test_csv_and_html(sheet, tmp_path):
     assert "hydrogen" in page and "safety data sheet" in page
     assert page.count('class="recipe"') == len(s.recipes)
     assert s.to_dict()["fingerprint"] == s.fingerprint != ""
+
+
+class _StandIn:
+    """A minimal plan-like object (bath rows, trial, fingerprint) for one case."""
+
+    def __init__(self, trial, baths):
+        self.trial, self.baths, self.fingerprint = trial, baths, "0123456789ab"
+
+
+def test_temperature_factor_fixed_volume_and_order_of_addition(tmp_path):
+    from trialkit.trialfile import load_trial
+
+    text = TRIAL.replace('[[factor]]\nname = "surfactant"\nlevels = ["none", "added"]',
+                         '[[factor]]\nname = "temp"\nunit = "degC"\nlow = 20\nhigh = 40')
+    text = text.replace('set_by = { target_ph = "ph" }',
+                        'set_by = { target_ph = "ph", temperature = "temp" }\nvolume = "1.5 L"')
+    text = text.replace('factor = "surfactant"\npresent_when = ["added"]\n', "")
+    (tmp_path / "trial.toml").write_text(text, encoding="utf-8")
+    trial = load_trial(tmp_path / "trial.toml")
+    baths = pd.DataFrame({"run": [1], "bath": ["B01"], "block": [1], "point": ["factorial"],
+                          "chelator": [4.0], "ph": [7.0], "temp": [40.0],
+                          "replicate": [1], "std_order": [1]})
+    s = recipes_for_plan(_StandIn(trial, baths))
+    r = s.recipes[0]
+    assert (r.volume_l, r.temperature_c, r.target_ph) == (1.5, pytest.approx(40.0), 7.0)
+    assert [ln.name for ln in r.lines] == ["tetrasodium EDTA", "non-ionic surfactant",
+                                           "citric acid"]
+    assert s.fingerprint == "0123456789ab"

@@ -78,7 +78,11 @@ class BathSpec:
 
 @dataclass(frozen=True)
 class RecipeLine:
-    """One ingredient of a recipe (grams of the product as supplied)."""
+    """One ingredient of a recipe (grams of the product as supplied).
+
+    Lines are kept in order of addition: bases, chelators, salts, acids, surfactants,
+    then the pH adjuster.
+    """
 
     name: str
     grams: float
@@ -197,6 +201,8 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
                            basis_note(ing, amt)))
         moles.append((ing, w.moles))
         hazards.update(ing.hazards)
+    order = {"base": 0, "chelator": 1, "salt": 2, "acid": 3, "surfactant": 4}
+    lines.sort(key=lambda ln: order.get(ln.role, 5))  # order of addition (stable)
     base = _composition(moles, spec.volume_l)
     t = float(spec.temperature_c)
     before = speciation.solve([base], t, label=label)[0] if spec.target_ph is None else None
@@ -297,9 +303,8 @@ def _steps(spec: BathSpec, lines: list[RecipeLine], dose: Dose | None,
     v = spec.volume_l
     steps = [f"Measure about {0.8 * v:.3g} L of deionised water into a vented, non-metal "
              f"container of at least {v:g} L; bring it to {spec.temperature_c:g} °C."]
-    order = {"base": 0, "chelator": 1, "salt": 2, "acid": 3, "surfactant": 4}
     body = [ln for ln in lines if adj is None or ln.name != adj.name]
-    for ln in sorted(body, key=lambda x: order.get(x.role, 5)):
+    for ln in body:
         how = f"{ln.grams:.4g} g" + ("" if ln.millilitres is None else
                                      f" ({ln.millilitres:.3g} mL)")
         verb = "Add slowly, stirring," if ln.role == "base" else "Add"
