@@ -46,6 +46,12 @@ class Price:
     pack_unit: str
     amount: float
     currency: str
+    pack_text: str = ""
+
+    @property
+    def pack(self) -> str:
+        """The pack size as written (``"1 kg"``)."""
+        return self.pack_text or f"{self.pack_size:g} {self.pack_unit}"
 
     def per_gram(self, density_g_ml: float | None) -> float | None:
         """Price of one gram of the product as supplied (``None`` if it cannot be known)."""
@@ -119,7 +125,8 @@ class Ingredient:
         if not self.formula:
             return None
         if self.hydrate:
-            return _molar_mass(f"{self.formula}.{self.hydrate}H2O")
+            # "(H2O)n", not ".nH2O": molmass misreads e.g. "C2H2O4.2H2O"
+            return _molar_mass(f"{self.formula}(H2O){self.hydrate}")
         return self.molar_mass_anhydrous
 
     @property
@@ -156,7 +163,7 @@ class Ingredient:
             "molar_mass_anhydrous": self.molar_mass_anhydrous,
             "molar_mass_supplied": self.molar_mass_supplied,
             "price": None if self.price is None else {
-                "pack": f"{self.price.pack_size:g} {self.price.pack_unit}",
+                "pack": self.price.pack,
                 "amount": self.price.amount, "currency": self.price.currency},
         }
 
@@ -382,7 +389,7 @@ def _parse_price(raw: Any, where: str, problems: ProblemReport) -> Price | None:
         ok = False
     if not ok:
         return None
-    return Price(size, unit, float(amount), currency)
+    return Price(size, unit, float(amount), currency, " ".join(str(pack).split()))
 
 
 def _is_number(x: Any) -> bool:

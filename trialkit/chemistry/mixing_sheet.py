@@ -247,7 +247,7 @@ def bill_of_materials(recipes: list[BathRecipe], section: BathSection | None = N
         pack_g, pack_text, cost, cur = None, "", None, None
         if ing.price is not None:
             p = ing.price
-            pack_text = f"{p.pack_size:g} {p.pack_unit}"
+            pack_text = p.pack
             ppg = ing.price_per_gram()
             pack_g = p.amount / ppg if ppg else None
             cost, cur = (with_spare * ppg if ppg else None), p.currency
