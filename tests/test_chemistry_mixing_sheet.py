@@ -158,3 +158,13 @@ def test_temperature_factor_fixed_volume_and_order_of_addition(tmp_path):
     assert [ln.name for ln in r.lines] == ["tetrasodium EDTA", "non-ionic surfactant",
                                            "citric acid"]
     assert s.fingerprint == "0123456789ab"
+
+
+def test_trial_without_bath_section_is_refused(tmp_path):
+    from trialkit.exceptions import ChemistryError
+    from trialkit.trialfile import load_trial
+
+    (tmp_path / "trial.toml").write_text(TRIAL.split("[bath]")[0], encoding="utf-8")
+    trial = load_trial(tmp_path / "trial.toml")
+    with pytest.raises(ChemistryError, match=r"no \[bath\] section"):
+        recipes_for_plan(_StandIn(trial, pd.DataFrame({"bath": ["B01"]})))

@@ -55,9 +55,3 @@ def test_recipe_json_and_out(tmp_path, cli):
     for rec in d["recipes"]:
         if rec["target_ph"] is not None:
             assert abs(rec["predicted_ph"] - 6.5) < 0.01
-
-
-def test_recipe_without_bath_section_fails_cleanly(tmp_path, cli):
-    (tmp_path / "trial.toml").write_text(TRIAL.split("[bath]")[0], encoding="utf-8")
-    r = cli("recipe", str(tmp_path / "trial.toml"))
-    assert r.returncode == 2 and "no [bath] section" in r.stderr
