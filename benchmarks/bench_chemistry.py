@@ -86,11 +86,6 @@ def main() -> None:
 
     runs = []
     for _ in range(3):
-        speciation.engine.cache_clear()  # cold engines would count loading; keep warm
-        speciation._LOADED.clear()
-        speciation.engine(speciation.DEFAULT_DATABASE)
-        speciation.engine(speciation.CROSS_CHECK_DATABASE)
-        speciation._LOADED.update(speciation.DATABASES)
         c0 = speciation.call_count()
         t = time.perf_counter()
         sheet = recipes_for_plan(plan)
