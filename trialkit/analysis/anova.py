@@ -62,8 +62,9 @@ class AnovaTable:
         rows = [{"term": r.term, "df": int(r.df), "sum_sq": finite(r.sum_sq),
                  "mean_sq": finite(r.mean_sq), "F": finite(r.F), "p": finite(r.p)}
                 for r in self.summary.itertuples()]
-        clean = (lambda d: None if d is None else {k: (finite(v) if isinstance(v, float)
-                                                       else v) for k, v in d.items()})
+        def clean(d):
+            return (None if d is None else {k: (finite(v) if isinstance(v, float)
+                                                               else v) for k, v in d.items()})
         return {"anova_type": self.typ, "anova_test": self.test, "anova": rows,
                 "residual": clean(self.residual), "model_test": clean(self.model),
                 "lack_of_fit": clean(self.lack_of_fit), "curvature": clean(self.curvature)}

@@ -9,8 +9,6 @@ an ill-conditioned natural-unit matrix.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-
 import numpy as np
 
 from trialkit.modelspec import INTERCEPT, ModelMatrix
