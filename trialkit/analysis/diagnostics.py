@@ -1,11 +1,12 @@
 """Residual diagnostics of a fitted model.
 
 Per bath: fitted value, residual, internally studentized residual, leverage, Cook's
-distance and run order (drift between days shows as a trend against run order); baths
-are flagged when Cook's distance exceeds the median of F(p, n - p) (Cook & Weisberg), leverage exceeds 2p/n, or the studentized
-residual exceeds 3 in size.  Normality of residuals: Shapiro–Wilk.  When the residual
-spread grows with the mean (|residual| correlated with fitted value) and every response
-is positive, a Box–Cox power is suggested from the profile likelihood.
+distance and run order (drift between days shows as a trend against run order).  Baths
+are flagged when Cook's distance exceeds the median of F(p, n - p) (Cook & Weisberg),
+leverage exceeds 2p/n, or the studentized residual exceeds 3 in size.  Normality of
+residuals: Shapiro–Wilk.  When the residual spread grows with the mean (|residual|
+correlated with the fitted value) and every response is positive, a Box–Cox power is
+suggested from the profile likelihood.
 """
 
 from __future__ import annotations
