@@ -80,7 +80,11 @@ def from_trial_folder(folder: str | Path) -> AnalysisSource:
     except ImportError as exc:  # pragma: no cover - depends on the build
         raise AnalysisError(f"this build cannot compute responses ({exc}); analyse an "
                             "exported table instead") from None
-    resp = load_responses(trial.folder)
+    try:
+        resp = load_responses(trial.folder)
+    except ImportError as exc:  # the record log module is not in this build
+        raise AnalysisError(f"this build cannot read the record log ({exc}); analyse an "
+                            "exported table instead") from None
     table = resp.baths
     responses, goals = {}, {}
     for r in trial.responses:
