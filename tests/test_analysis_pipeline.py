@@ -108,3 +108,38 @@ def test_default_model_and_saturated_two_level_gets_lenth():
     assert d["anova_test"] == "lenth" and all(r["F"] > 0 for r in d["anova"])
     assert "effects" in d and res.diagnostics is None
     assert "Lenth: PSE 2.25" in res.text()
+
+
+def test_result_objects_have_summary_html_and_json():
+    """Every result object: summary DataFrame, HTML repr, readable repr, JSON-ready dict."""
+    import itertools
+
+    from trialkit.analysis.confirm import confirm
+    from trialkit.analysis.desirability import Goal, optimize_desirability
+    from trialkit.analysis.effects import two_level_effects
+    from trialkit.analysis.model import fit_model
+    from trialkit.analysis.reduction import reduce_model
+    from trialkit.analysis.sweep import fit_sweep
+
+    rng = np.random.default_rng(17)
+    pts = list(itertools.product([2.0, 6.0, 10.0], [5.5, 6.5, 7.5])) * 2
+    df = pd.DataFrame(pts, columns=["chelator", "ph"])
+    df["removal"] = 80 - (df.chelator - 5) ** 2 - 12 * (df.ph - 6.5) ** 2 + rng.normal(0, 1, 18)
+    df["attack"] = 0.1 + 0.02 * df.chelator + rng.normal(0, 0.005, 18)
+    fs = [Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5.5, 7.5)]
+    res = analyze_table(df, "removal", fs, model="quadratic", n_boot=100)
+    fits = {"removal": res.fit, "attack": fit_model(df, "attack", fs, "main", block=None)}
+    corners = df[(df.chelator != 6.0) & (df.ph != 6.5)].drop_duplicates(["chelator", "ph"])
+    objects = [res, res.fit, res.fit.anova(1), res.surface, res.diagnostics,
+               reduce_model(res.fit),
+               fit_sweep(df[df.ph == 6.5], "removal", fs[0], n_boot=50),
+               optimize_desirability(fits, [Goal("removal", "maximize", 60, 80),
+                                            Goal("attack", "minimize", 0.1, 0.4)],
+                                     n_starts=2),
+               confirm(res.fit, res.optimum["settings"], [79.0, 80.5]),
+               two_level_effects(corners, "removal", fs)]
+    for obj in objects:
+        assert isinstance(obj.summary, pd.DataFrame) and len(obj.summary)
+        assert obj._repr_html_().lstrip().startswith("<")
+        assert type(obj).__name__[:4] in repr(obj) or "Response" in repr(obj)
+        json.dumps(obj.to_dict(), allow_nan=False, default=float)

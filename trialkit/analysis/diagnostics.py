@@ -32,8 +32,8 @@ class Diagnostics:
     Attributes
     ----------
     table : DataFrame
-        bath, run, fitted, residual, studentized, leverage, cooks_distance, flagged,
-        reason.
+        bath, run, fitted, residual, studentized, leverage, cooks_distance, reason,
+        normal_quantile (Blom plotting position of the studentized residual), flagged.
     normality : dict
         test ("shapiro"), statistic, p.
     spread : dict
@@ -111,6 +111,8 @@ def diagnose(fit, *, alpha: float = 0.05) -> Diagnostics:
             r.append("outlier")
         reasons.append(",".join(r))
     table["reason"] = reasons
+    order = np.argsort(np.argsort(np.nan_to_num(stud)))
+    table["normal_quantile"] = stats.norm.ppf((order + 0.625) / (n + 0.25))  # Blom
     table["flagged"] = table.reason != ""
     if n >= 3 and np.ptp(e) > 0:
         w, pw = stats.shapiro(e)
