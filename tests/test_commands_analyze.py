@@ -158,3 +158,15 @@ def test_missing_file_and_wrong_suffix(tmp_path, capsys):
     bad.write_text("a,y\n1,2\n")
     out = _main(capsys, bad, "--response", "y", "--factor", "a")
     assert out.returncode == 2 and ".csv or .xlsx" in out.stderr
+
+
+def test_xlsx_table_gives_same_anova_as_csv(tmp_path, capsys):
+    path, df = _table(tmp_path)
+    xlsx = tmp_path / "baths.xlsx"
+    df.to_excel(xlsx, index=False)
+    args = ["--response", "removal", "--factor", "chelator", "--factor", "ph", "--model",
+            "main", "--json"]
+    a = json.loads(_main(capsys, path, *args).stdout)
+    b = json.loads(_main(capsys, xlsx, *args).stdout)
+    assert [r["sum_sq"] for r in a["anova"]] == pytest.approx([r["sum_sq"] for r in b["anova"]],
+                                                              rel=1e-12)
