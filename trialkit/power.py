@@ -230,24 +230,29 @@ class DesignModel:
         return pd.DataFrame(data)
 
     # -- expansion ----------------------------------------------------------------
+    def factor_basis(self, i: int, u) -> np.ndarray:
+        """Basis values of factor ``i`` at values ``u`` (len(u) x basis size); column 0
+        is the constant 1, categorical levels in sum contrasts."""
+        u = np.atleast_1d(np.asarray(u, dtype=float))
+        nb = self._nbasis[i]
+        if self.factors[i].kind == CATEGORICAL:
+            lev = np.rint(u).astype(int)
+            b = np.zeros((len(u), nb))
+            b[:, 0] = 1.0
+            for j in range(1, nb):       # column j: level j-1 -> +1, last level -> -1
+                b[:, j] = (lev == j - 1).astype(float) - (lev == nb - 1)
+            return b
+        return u[:, None] ** np.arange(nb)[None, :]
+
+    def factor_columns(self, i: int, u) -> np.ndarray:
+        """Factor ``i``'s contribution to every model column at values ``u`` (m x p):
+        a model row is the product of these over the factors."""
+        return self.factor_basis(i, u)[:, self._idx[:, i]]
+
     def basis(self, U: np.ndarray) -> np.ndarray:
         """Per-factor basis values, concatenated (n x sum of basis sizes)."""
         U = np.atleast_2d(np.asarray(U, dtype=float))
-        blocks = []
-        for i, f in enumerate(self.factors):
-            u = U[:, i]
-            nb = self._nbasis[i]
-            if f.kind == CATEGORICAL:
-                lev = np.rint(u).astype(int)
-                b = np.zeros((len(u), nb))
-                b[:, 0] = 1.0
-                L = nb
-                for j in range(1, L):       # column j: level j-1 -> +1, last level -> -1
-                    b[:, j] = (lev == j - 1).astype(float) - (lev == L - 1)
-            else:
-                b = u[:, None] ** np.arange(nb)[None, :]
-            blocks.append(b)
-        return np.hstack(blocks)
+        return np.hstack([self.factor_basis(i, U[:, i]) for i in range(len(self.factors))])
 
     def expand(self, U: np.ndarray) -> np.ndarray:
         """Model matrix (n x p) of coded points ``U`` (n x k)."""
