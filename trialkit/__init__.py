@@ -1,3 +1,60 @@
-"""trialkit: plan, mix, record, analyse and report rust-removal bath trials."""
+"""trialkit: plan, mix, record, analyse and report rust-removal bath trials.
 
-__all__: list[str] = []
+Public names are listed in ``__all__`` and imported on first use, so that importing
+trialkit (and starting the command line) stays fast; ``from trialkit import make_plan``
+works as usual.
+
+Examples
+--------
+>>> import trialkit
+>>> trialkit.Factor.continuous("chelator", 2, 10, unit="% w/v").label()
+'chelator (% w/v)'
+"""
+
+from __future__ import annotations
+
+import importlib
+from typing import Any
+
+#: public name -> module that defines it
+_EXPORTS: dict[str, str] = {
+    # errors and problem reports
+    "TrialkitError": "trialkit.exceptions",
+    "TrialFileError": "trialkit.exceptions",
+    "DesignError": "trialkit.exceptions",
+    "PlanError": "trialkit.exceptions",
+    "ChemistryError": "trialkit.exceptions",
+    "SheetError": "trialkit.exceptions",
+    "RecordLogError": "trialkit.exceptions",
+    "ResponseError": "trialkit.exceptions",
+    "ModelSpecError": "trialkit.exceptions",
+    "AnalysisError": "trialkit.exceptions",
+    "TrialkitWarning": "trialkit.exceptions",
+    "Problem": "trialkit.problems",
+    "ProblemReport": "trialkit.problems",
+    # trial file, factors, designs, plan
+    "Factor": "trialkit.factors",
+    "Trial": "trialkit.trialfile",
+    "load_trial": "trialkit.trialfile",
+    "parse_trial_text": "trialkit.trialfile",
+    "Design": "trialkit.designs.base",
+    "build_design": "trialkit.designs",
+    "Plan": "trialkit.plan",
+    "make_plan": "trialkit.plan",
+    "load_plan": "trialkit.plan",
+}
+
+__all__ = sorted(_EXPORTS)
+
+
+def __getattr__(name: str) -> Any:
+    module = _EXPORTS.get(name)
+    if module is None:
+        raise AttributeError(f"module 'trialkit' has no attribute {name!r}")
+    value = getattr(importlib.import_module(module), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))

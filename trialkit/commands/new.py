@@ -1,0 +1,33 @@
+"""``trialkit new DIR``: write a commented starter trial file into a folder."""
+
+from __future__ import annotations
+
+import argparse
+from importlib.resources import files
+from pathlib import Path
+
+from trialkit.exceptions import TrialkitError
+from trialkit.trialfile import TRIAL_FILE_NAME
+
+
+def starter_text() -> str:
+    """The commented starter trial file shipped with trialkit."""
+    return files("trialkit").joinpath("data/starter_trial.toml").read_text(encoding="utf-8")
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("folder", help="folder to create (or an empty existing one)")
+    parser.add_argument("--force", action="store_true",
+                        help=f"overwrite an existing {TRIAL_FILE_NAME}")
+
+
+def run(args: argparse.Namespace) -> int:
+    folder = Path(args.folder)
+    target = folder / TRIAL_FILE_NAME
+    if target.exists() and not args.force:
+        raise TrialkitError(f"{target} already exists; nothing was written. "
+                            "Use --force to overwrite it, or choose another folder.")
+    folder.mkdir(parents=True, exist_ok=True)
+    target.write_text(starter_text(), encoding="utf-8")
+    print(f"wrote {target}\nnext: edit it, then run  trialkit plan {target}")
+    return 0

@@ -1,0 +1,30 @@
+"""``trialkit plan TRIAL.toml``: lay out the plan and write ``plan.csv`` beside it."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("trial", help="trial file (.toml) or trial folder")
+    parser.add_argument("--out", metavar="DIR",
+                        help="folder for plan.csv and plan.json (default: beside the trial file)")
+    parser.add_argument("--json", action="store_true", help="print the plan summary as JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    from trialkit.commands._output import print_json
+    from trialkit.plan import load_plan
+
+    plan = load_plan(args.trial)
+    out = Path(args.out) if args.out else plan.trial.folder
+    path = plan.write(out)
+    if args.json:
+        data = plan.to_dict()
+        data["plan_csv"] = str(path)
+        print_json(data)
+    else:
+        print(plan.summary())
+        print(f"  wrote       {path}")
+    return 0
