@@ -390,8 +390,11 @@ def _plan_parts(plan):
     if not factors:
         raise PlanError("the plan has no factors to evaluate")
     baths = plan.baths.reset_index(drop=True)
-    coded = plan.coded.reset_index(drop=True)
     names = [f.name for f in factors]
+    coded = plan.coded
+    if "bath" in baths and coded.index.name == "bath":
+        coded = coded.loc[baths["bath"]]
+    coded = coded.reset_index(drop=True)
     keep = ~baths["point"].isin(NON_FACTOR_POINTS).to_numpy()
     keep &= coded[names].notna().all(axis=1).to_numpy()
     coded = coded.loc[keep, names].reset_index(drop=True)
