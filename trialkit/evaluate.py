@@ -434,3 +434,4 @@ def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
         alpha=alpha or s.alpha or 0.05, target_power=target_power or s.target_power or 0.8,
         blocks=blocks, coupons=coupons, resolution=getattr(design, "resolution", None),
         aliases=aliases)
+
