@@ -37,7 +37,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from trialkit.evaluate import Evaluation, evaluate_plan
+from trialkit.evaluate import Evaluation, evaluate_plan, plain
 from trialkit.exceptions import PlanError
 
 
@@ -61,8 +61,8 @@ class Comparison:
     evaluations: list[Evaluation]
 
     def to_dict(self) -> dict:
-        return {"plans": self.summary.to_dict("records"),
-                "fds": self.fds.to_dict("list")}
+        return plain({"plans": self.summary.to_dict("records"),
+                      "fds": self.fds.to_dict("list")})
 
     def __repr__(self) -> str:
         return "Comparison\n" + self.summary.to_string(
