@@ -270,7 +270,7 @@ def _replicate_blocks(blocks, k):
 
 
 def _term_power(X, model, term, effect, sd, alpha):
-    """(power, detectable effect at 0.8-like target unused here, info) of one term."""
+    """(power, adjusted information matrix) of one term; power NaN without an effect."""
     info = pw.information(X, model.term_columns[term])
     if info is None or effect is None or not np.isfinite(effect):
         return float("nan"), info
@@ -280,7 +280,7 @@ def _term_power(X, model, term, effect, sd, alpha):
     return float(np.min(pw.f_test_power(lam, df1, X.shape[0] - X.shape[1], alpha))), info
 
 
-def _effect_for(term: str, effects, sd: float, terms: Sequence[str]):
+def _effect_for(term: str, effects, sd: float):
     if effects is None:
         return DEFAULT_EFFECT_IN_SD * sd
     if isinstance(effects, Mapping):
@@ -347,7 +347,7 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
     need = pw.noncentrality_needed(target_power, 1, df2, alpha) if estimable else np.nan
     for t in dm.terms:
         sl = dm.term_columns[t.name]
-        eff = _effect_for(t.name, effects, sd, names)
+        eff = _effect_for(t.name, effects, sd)
         pwr, info = _term_power(X, dm, t.name, eff, sd, alpha) if estimable \
             else (float("nan"), None)
         det_eff = se = float("nan")
