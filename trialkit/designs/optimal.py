@@ -218,25 +218,33 @@ def _search(model: pw.DesignModel, region: _Region, U: np.ndarray, free: np.ndar
                 d1 = 1.0 - x @ Ax
                 if d1 <= 1e-12:
                     continue
-                A1 = A + (Ax[:, None] * Ax[None, :]) / d1
-                YA = Y @ A1
-                q = 1.0 + np.einsum("ij,ij->i", YA, Y)
                 if criterion == "D":
-                    gain = d1 * q                      # det ratio new/old
+                    # det ratio of swapping x for y: (1 - x'Ax)(1 + y'Ay) + (y'Ax)^2
+                    YA = Y @ A
+                    yAx = Y @ Ax
+                    gain = d1 * (1.0 + np.einsum("ij,ij->i", YA, Y)) + yAx * yAx
                     best = int(np.argmax(gain))
                     ok = gain[best] > 1.0 + _GAIN
+                    if ok:
+                        A1 = A + (Ax[:, None] * Ax[None, :]) / d1
+                        Ay = A1 @ Y[best]
+                        A = A1 - (Ay[:, None] * Ay[None, :]) / (1.0 + Y[best] @ Ay)
                 else:
+                    A1 = A + (Ax[:, None] * Ax[None, :]) / d1
+                    YA = Y @ A1
+                    q = 1.0 + np.einsum("ij,ij->i", YA, Y)
                     t0 = np.trace(W @ A)
                     t1 = t0 + (Ax @ W @ Ax) / d1
                     t2 = t1 - np.einsum("ij,jk,ik->i", YA, W, YA) / q
                     best = int(np.argmin(t2))
                     ok = t2[best] < t0 * (1.0 - _GAIN)
+                    if ok:
+                        Ay = YA[best]
+                        A = A1 - (Ay[:, None] * Ay[None, :]) / q[best]
                 if ok:
-                    Ay = YA[best]
-                    A = A1 - (Ay[:, None] * Ay[None, :]) / q[best]
                     U[i, j] = vals[best]
                     X[i] = Y[best]
-                    G[:, j] = Y[best] / rest if simple[j] and np.all(rest != 0) else \
+                    G[:, j] = tables[j][best] if simple[j] else \
                         model.factor_columns(j, vals[best])[0]
                     improved = True
         A = np.linalg.inv(X.T @ X + eye)
