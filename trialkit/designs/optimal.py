@@ -40,8 +40,23 @@ from trialkit.factors import Factor
 from trialkit.problems import ProblemReport, did_you_mean
 
 CRITERIA = ("D", "I")
-OPTION_KEYS = ("runs", "model", "criterion", "starts", "grid", "constraints", "disallow",
-               "fixed", "augment", "max_passes")
+#: Trial-file options of ``kind = "optimal"`` -> description.
+OPTION_DESCRIPTIONS: dict[str, str] = {
+    "runs": "whole number (required): runs the search chooses, besides fixed runs",
+    "model": "model the design must estimate: main, interactions, quadratic (default) or "
+             "terms joined by '+'",
+    "criterion": "\"D\" (default; precise coefficients) or \"I\" (precise predictions)",
+    "starts": "random starts, best kept (default 10)",
+    "grid": "levels per continuous factor tried by the exchange (default 5)",
+    "constraints": "list of linear constraints in natural units, "
+                   "e.g. [\"ph >= 4 + 0.2*chelator\"]",
+    "disallow": "list of combinations that cannot be mixed, e.g. "
+                "[{surfactant = \"added\", temperature = [40, 50]}]",
+    "fixed": "list of runs fixed in advance, every factor in natural units",
+    "augment": "path of an earlier plan.csv whose runs the new ones complement",
+    "max_passes": "passes over all coordinates per start (default 50)",
+}
+OPTION_KEYS = tuple(OPTION_DESCRIPTIONS)
 _RIDGE = 1e-7
 _GAIN = 1e-10
 
