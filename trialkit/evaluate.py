@@ -439,10 +439,12 @@ def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
     table = getattr(design, "aliases", None)
     if table is not None and len(table):
         aliases = [f"{r.effect} = {r.aliases}" for r in table.itertuples() if r.aliases]
-    return evaluate_design(
-        coded, factors, model=model or s.model or "main", sd=sd or s.sd or 1.0,
-        effects=effects if effects is not None else s.effects,
-        alpha=alpha or s.alpha or 0.05, target_power=target_power or s.target_power or 0.8,
-        blocks=blocks, coupons=coupons, resolution=getattr(design, "resolution", None),
-        aliases=aliases)
+    def pick(given, from_file, default):
+        return given if given is not None else (from_file if from_file is not None
+                                                else default)
 
+    return evaluate_design(
+        coded, factors, model=pick(model, s.model, "main"), sd=pick(sd, s.sd, 1.0),
+        effects=pick(effects, s.effects, None), alpha=pick(alpha, s.alpha, 0.05),
+        target_power=pick(target_power, s.target_power, 0.8), blocks=blocks,
+        coupons=coupons, resolution=getattr(design, "resolution", None), aliases=aliases)
