@@ -214,3 +214,17 @@ def test_malformed_evaluation_section_reports_every_problem(tmp_path):
     for code in ("not_positive", "out_of_range", "bad_model", "unknown_key"):
         assert code in checks
     assert checks.count("not_positive") == 2            # sd and the effect size
+
+
+def test_fractional_plan_reports_resolution_aliases_and_unestimable_interactions():
+    # 2^(4-1), D = ABC: resolution IV, two-factor interactions aliased in pairs
+    # (e-Handbook 5.3.3.4.3 fraction table, carried by the designs module)
+    text = TWO_FACTOR.format(replicates=1, blocks=1, center=0, controls="[]").replace(
+        'kind = "full-factorial"', 'kind = "fractional-factorial"\nresolution = 4') + \
+        '[[factor]]\nname = "agitation"\nunit = "rpm"\nlow = 0\nhigh = 200\n'
+    plan = make_plan(parse_trial_text(text))
+    main = evaluate_plan(plan, model="main", sd=1.0, effects=2.0)
+    assert main.resolution == 4 and main.aliases
+    assert main.estimable and main.d_efficiency == pytest.approx(100.0, abs=1e-9)
+    inter = evaluate_plan(plan, model="interactions", sd=1.0)
+    assert not inter.estimable
