@@ -211,12 +211,12 @@ def _search(model: pw.DesignModel, region: _Region, U: np.ndarray, free: np.ndar
     simple = region.simple
     others = [np.array([f for f in range(k) if f != j], dtype=int) for j in range(k)]
     eye = _RIDGE * np.eye(p)
+    # each factor's contribution to every model column, per run (n x p x k)
+    G_all = np.stack([model.factor_columns(f, U[:, f]) for f in range(k)], axis=2)
     for _ in range(max_passes):
         improved = False
         for i in rng.permutation(rows):
-            G = np.empty((p, k))
-            for f in range(k):
-                G[:, f] = model.factor_columns(f, U[i, f])[0]
+            G = G_all[i]
             for j in range(k):
                 rest = G[:, others[j]].prod(axis=1)
                 if simple[j]:
