@@ -210,3 +210,12 @@ disallow = [{colour = "red"}]
     with pytest.raises(DesignError) as err:
         build_optimal((CHELATOR, PH), opts, seed=1)
     assert len(err.value.problems) == len(report)
+
+
+def test_categorical_and_ordinal_factors_saturated_model_uses_every_cell():
+    # two 3-level factors with their interaction have 9 coefficients, one a cell mean:
+    # 9 runs can only estimate them if every cell is run once (design algebra)
+    fs = (Factor.categorical("metal", ["mild", "cast", "wrought"]),
+          Factor.ordinal("agitation", ["still", "slow", "fast"]))
+    res = optimal_design(fs, 9, model="interactions", starts=3, seed=1)
+    assert len(res.coded.drop_duplicates()) == 9
