@@ -7,6 +7,8 @@ import json
 import pytest
 from scipy import stats
 
+from trialkit.cli import main
+
 TRIAL = """
 [trial]
 title = "{title}"
@@ -56,22 +58,27 @@ def test_evaluate_json_power_per_term(tmp_path, cli):
     assert data["d_efficiency"] == pytest.approx(100.0, abs=1e-9)
 
 
-def test_evaluate_text_uses_the_evaluation_section(tmp_path, cli):
+# in-process through trialkit.cli.main (the same entry point, without a new interpreter)
+def test_evaluate_text_uses_the_evaluation_section(tmp_path, capsys):
     path = _write(tmp_path, "sec", extra='[evaluation]\nsd = 0.5\neffects = 1.0\n'
                   'model = "interactions"\n')
-    result = cli("evaluate", str(path))
-    assert result.returncode == 0, result.stderr
-    assert "chelator:ph" in result.stdout and "sd 0.5" in result.stdout
-    assert "replicates" in result.stdout
+    assert main(["evaluate", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "chelator:ph" in out and "sd 0.5" in out
+    assert "replicates" in out
 
 
-def test_evaluate_bad_effect_and_bad_model_exit_2(tmp_path, cli):
+@pytest.mark.parametrize("extra, message", [
+    (["--effect", "chelator=lots"], "must be a number"),
+    (["--effect", "2", "--effect", "ph=1"], "not both"),
+    (["--model", "chelator + acid"], "acid"),
+    (["--sd", "-1"], "sd must be a positive number"),
+])
+def test_evaluate_bad_options_exit_2(tmp_path, capsys, extra, message):
     path = _write(tmp_path, "bad")
-    result = cli("evaluate", str(path), "--effect", "chelator=lots")
-    assert result.returncode == 2 and "must be a number" in result.stderr
-    result = cli("evaluate", str(path), "--model", "chelator + acid")
-    assert result.returncode == 2 and "acid" in result.stderr
-    assert "Traceback" not in result.stderr
+    assert main(["evaluate", str(path), *extra]) == 2
+    err = capsys.readouterr().err
+    assert message in err and "Traceback" not in err
 
 
 def test_compare_two_plans(tmp_path, cli):
@@ -83,5 +90,12 @@ def test_compare_two_plans(tmp_path, cli):
     assert [r["plan"] for r in rows] == ["two replicates", "three replicates"]
     assert [r["baths"] for r in rows] == [8, 12]
     assert rows[1]["power_chelator"] > rows[0]["power_chelator"]
-    text = cli("compare", str(a), str(b))
-    assert text.returncode == 0 and "d_efficiency" in text.stdout
+
+
+
+def test_compare_text(tmp_path, capsys):
+    a = _write(tmp_path, "a", replicates=2)
+    b = _write(tmp_path, "b", replicates=3)
+    assert main(["compare", str(a), str(b)]) == 0
+    out = capsys.readouterr().out
+    assert "d_efficiency" in out and "power_chelator" in out
