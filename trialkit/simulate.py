@@ -208,7 +208,7 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     seed : int
         Seed of :func:`numpy.random.default_rng`; separate streams (spawned from it) serve
         blocks, baths, coupons and inspections, so adding inspections leaves the coupon
-        readings unchanged.
+        readings unchanged (and cleaning cycles leave the other readings unchanged).
     inspections_h : sequence of float, optional
         Inspection times (h) for the time-course table (rusted coupons only).
     immersion_h : float, optional
@@ -245,8 +245,8 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     factor_names = plan.factor_names
     truth.conditions({n: np.nan for n in factor_names})  # refuses unknown factor names
 
-    streams = [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(4)]
-    rng_block, rng_bath, rng_coupon, rng_inspect = streams
+    streams = [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(5)]
+    rng_block, rng_bath, rng_coupon, rng_inspect, rng_cycles = streams
     n_blocks = plan.n_blocks
     block_shift = rng_block.normal(0.0, 1.0, n_blocks) * noise.block_log_rate_sd
     t0 = datetime.fromisoformat(start)
@@ -318,7 +318,7 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
         if cycles:
             residue = truth.cleaning_residue_g_per_m2 * area / 1e4 if rusted else 0.0
             per_cycle = truth.cleaning_metal_loss_g_per_m2 * area / 1e4
-            zc = rng_coupon.normal(0.0, 1.0, cycles)
+            zc = rng_cycles.normal(0.0, 1.0, cycles)
             for i in range(1, cycles + 1):
                 left = residue * (1.0 - truth.cleaning_removal_per_cycle) ** i
                 row[f"mass_cycle_{i}_g"] = weigh(end_mass + left - i * per_cycle, zc[i - 1])
