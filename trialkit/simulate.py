@@ -304,7 +304,8 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
             return true_initial - removed - base_metal_loss_g(corrosion, area, t, density)
 
         def coverage_reading(t: float, zz: float, c0=c0, rate=rate) -> float:
-            c = c0 * math.exp(-rate * t) + noise.coverage_reading_sd_pct * zz
+            c = c0 * math.exp(-rate * t)
+            c += noise.coverage_reading_sd_pct * math.sqrt(c * (100.0 - c)) / 50.0 * zz
             return _round(min(100.0, max(0.0, c)), noise.coverage_resolution_pct)
 
         def weigh(m: float, zz: float) -> float:
