@@ -112,3 +112,11 @@ def test_bad_dimensions_raise_clear_error(kwargs, words):
     with pytest.raises(GeometryError, match=words) as info:
         coupon_area_cm2(**kwargs)
     assert isinstance(info.value, ResponseError)
+
+
+def test_area_stands_in_for_missing_dimensions():
+    # the trial file allows "a plate coupon needs length (or give area)"
+    assert coupon_area_cm2(shape="plate", area_cm2=30.0) == pytest.approx(30.0)
+    # complete dimensions win over a spec area: 2(50*25 + 50*2 + 25*2) mm² = 28 cm²
+    assert coupon_area_cm2(shape="plate", length_mm=50, width_mm=25, thickness_mm=2,
+                           area_cm2=30.0) == pytest.approx(28.0)

@@ -105,7 +105,8 @@ def coupon_area_cm2(spec_or_kwargs: Any = None, /, **kwargs: Any) -> float:
         The same keys given directly.  Lengths are numbers in mm or text with a unit;
         ``holes`` is a list of hole diameters (plate, bar) and ``hole_diameter_mm`` (or a
         one-element ``holes``) the centre hole of a disc; ``area_cm2`` (number in cm² or
-        text with an area unit) is used as is for ``shape="given"``.
+        text with an area unit) is used as is for ``shape="given"``, and for other
+        shapes when a dimension they need is missing.
 
     Returns
     -------
@@ -135,6 +136,8 @@ def coupon_area_cm2(spec_or_kwargs: Any = None, /, **kwargs: Any) -> float:
             + ". Set shape in the trial's [coupons] section."
         )
     need = [k for k in REQUIRED[shape] if _missing(values.get(k))]
+    if need and shape != "given" and not _missing(values.get("area_cm2")):
+        shape, need = "given", []  # the trial gave an area instead of the dimensions
     if need:
         raise GeometryError(
             f"a {shape} coupon needs {', '.join(need)}; got "
