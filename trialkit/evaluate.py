@@ -213,7 +213,7 @@ class Evaluation:
 
     def to_dict(self) -> dict:
         """Plain data for JSON: ``power`` is a list of ``{term, effect, power}``."""
-        return {
+        return plain({
             "model": self.model, "sd": self.sd, "alpha": self.alpha,
             "target_power": self.target_power, "baths": self.baths,
             "coupons": self.coupons, "blocks": self.blocks,
@@ -225,7 +225,7 @@ class Evaluation:
             "average_variance": self.average_variance, "max_vif": self.max_vif,
             "resolution": self.resolution, "aliases": list(self.aliases),
             "fds": self.fds.to_dict("list"), "notes": list(self.notes),
-        }
+        })
 
     def __repr__(self) -> str:
         lines = [f"Evaluation: {self.baths} baths, model {self.model!r}, sd {self.sd:g}, "
@@ -244,6 +244,17 @@ class Evaluation:
                 f"max VIF {self.max_vif:.2f}</p>")
         notes = "".join(f"<p>{n}</p>" for n in self.notes)
         return head + self.summary.to_html(index=False, float_format="{:.3g}".format) + notes
+
+
+def plain(value):
+    """Numpy scalars -> Python scalars, recursively through dicts and lists."""
+    if isinstance(value, dict):
+        return {str(k): plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [plain(v) for v in value]
+    if isinstance(value, np.generic):
+        return value.item()
+    return value
 
 
 def _assemble(Xm: np.ndarray, blocks: np.ndarray | None) -> np.ndarray:
@@ -390,8 +401,11 @@ def _plan_parts(plan):
     if not factors:
         raise PlanError("the plan has no factors to evaluate")
     baths = plan.baths.reset_index(drop=True)
-    coded = plan.coded.reset_index(drop=True)
     names = [f.name for f in factors]
+    coded = plan.coded
+    if "bath" in baths and coded.index.name == "bath":
+        coded = coded.loc[baths["bath"]]
+    coded = coded.reset_index(drop=True)
     keep = ~baths["point"].isin(NON_FACTOR_POINTS).to_numpy()
     keep &= coded[names].notna().all(axis=1).to_numpy()
     coded = coded.loc[keep, names].reset_index(drop=True)
@@ -431,3 +445,4 @@ def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
         alpha=alpha or s.alpha or 0.05, target_power=target_power or s.target_power or 0.8,
         blocks=blocks, coupons=coupons, resolution=getattr(design, "resolution", None),
         aliases=aliases)
+

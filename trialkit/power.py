@@ -4,8 +4,8 @@ Everything here works on plain numpy arrays so that the optimal-design search an
 evaluation of a plan share one fast implementation.
 
 *Coded points.*  A design point is a row of numbers, one per factor: a continuous factor
-in coded units (``-1 .. +1``), an ordinal factor as its level code (equally spaced in
-``-1 .. +1``), a categorical factor as the *index* of its level.
+in coded units (``-1 .. +1``), a categorical or ordinal factor as the *index* of its
+level (both enter models in sum contrasts, as in :mod:`trialkit.modelspec`).
 
 *Model.*  A :class:`DesignModel` holds the terms of a model (``"chelator"``,
 ``"chelator:ph"``, ``"chelator^2"``) and expands coded points into model-matrix rows:
@@ -35,20 +35,17 @@ Examples
 from __future__ import annotations
 
 import itertools
-import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
 from trialkit.exceptions import ModelSpecError
-from trialkit.factors import CATEGORICAL, Factor
+from trialkit.factors import Factor
 
 #: Model shorthands understood by :meth:`DesignModel.from_spec`.
 MODEL_SHORTHANDS = ("main", "linear", "interactions", "quadratic")
 
-_NAME = r"[A-Za-z_][A-Za-z0-9_]*"
-_PART = re.compile(rf"^({_NAME})(?:\^([0-9]+))?$")
 
 
 @dataclass(frozen=True)
@@ -63,30 +60,12 @@ class Term:
         return sum(p for _, p in self.parts)
 
 
-def _term_name(parts, factors) -> str:
-    return ":".join(factors[i].name + (f"^{p}" if p > 1 else "") for i, p in parts)
-
-
-def _is_numeric(f: Factor) -> bool:
-    return f.kind != CATEGORICAL
-
-
-def _default_terms(kind: str, factors: Sequence[Factor]) -> list[tuple]:
-    k = len(factors)
-    terms = [((i, 1),) for i in range(k)]
-    if kind in ("interactions", "quadratic"):
-        terms += [((i, 1), (j, 1)) for i, j in itertools.combinations(range(k), 2)]
-    if kind == "quadratic":
-        terms += [((i, 2),) for i, f in enumerate(factors)
-                  if _is_numeric(f) and (f.is_continuous or f.n_levels >= 3)]
-    return terms
-
-
 def parse_terms(spec: str | Sequence[str], factors: Sequence[Factor]) -> list[Term]:
-    """Parse a model specification into :class:`Term` objects (never evaluates Python).
+    """Parse a model specification with :func:`trialkit.modelspec.parse_model` (the
+    project's one model grammar; never evaluates Python) into :class:`Term` objects.
 
-    ``spec`` is a shorthand (:data:`MODEL_SHORTHANDS`), a string of terms joined by ``+``
-    (``"a + b + a:b + a^2"``), or a sequence of term strings.
+    ``spec`` is a keyword (``"main"``, ``"interactions"``, ``"quadratic"``), terms joined
+    by ``+`` (``"a + b + a:b + a^2"``), or a sequence of term strings.
 
     Examples
     --------
@@ -95,50 +74,19 @@ def parse_terms(spec: str | Sequence[str], factors: Sequence[Factor]) -> list[Te
     >>> [t.name for t in parse_terms("quadratic", fs)]
     ['ph', 'mix', 'ph:mix', 'ph^2']
     """
-    factors = tuple(factors)
-    names = [f.name for f in factors]
-    index = {n: i for i, n in enumerate(names)}
-    if isinstance(spec, str) and spec.strip().lower() in MODEL_SHORTHANDS:
-        kind = spec.strip().lower()
-        raw = _default_terms("main" if kind == "linear" else kind, factors)
-        return [Term(_term_name(p, factors), p) for p in raw]
-    pieces = spec.split("+") if isinstance(spec, str) else list(spec)
-    out: list[Term] = []
-    seen: set = set()
-    for piece in pieces:
-        text = str(piece).strip().replace(" ", "")
-        if text in ("", "1", "intercept"):
-            if text == "":
-                raise ModelSpecError(
-                    f"model {spec!r} has an empty term; write terms joined by '+', "
-                    "e.g. 'chelator + ph + chelator:ph'")
-            continue
-        parts: dict[int, int] = {}
-        for bit in text.split(":"):
-            m = _PART.match(bit)
-            if not m or m.group(1) not in index:
-                from trialkit.problems import did_you_mean
+    from trialkit.modelspec import parse_model
 
-                word = m.group(1) if m else bit
-                raise ModelSpecError(
-                    f"model term {text!r}: {word!r} is not a factor of this trial; "
-                    f"factors are {names}; {did_you_mean(word, names)}")
-            i, pw = index[m.group(1)], int(m.group(2) or 1)
-            if pw < 1 or pw > 3:
-                raise ModelSpecError(f"model term {text!r}: powers 1 to 3 are allowed, "
-                                     f"got {pw}")
-            if factors[i].kind == CATEGORICAL and pw > 1:
-                raise ModelSpecError(f"model term {text!r}: categorical factor "
-                                     f"{factors[i].name!r} cannot be raised to a power")
-            parts[i] = parts.get(i, 0) + pw
-        key = tuple(sorted(parts.items()))
-        if key not in seen:
-            seen.add(key)
-            out.append(Term(_term_name(key, factors), key))
-    if not out:
-        raise ModelSpecError(f"model {spec!r} has no terms; allowed shorthands: "
-                             f"{list(MODEL_SHORTHANDS)} or terms such as 'a + b + a:b'")
-    return out
+    factors = tuple(factors)
+    text = spec if isinstance(spec, str) else " + ".join(str(s) for s in spec)
+    index = {f.name: i for i, f in enumerate(factors)}
+    terms = []
+    for t in parse_model(text, factors).terms:
+        parts = tuple(sorted((index[n], t.power) for n in t.factors))
+        terms.append(Term(t.name, parts))
+    if not terms:
+        raise ModelSpecError(f"model {spec!r} has no terms; use main, interactions, "
+                             "quadratic or terms such as 'a + b + a:b'")
+    return terms
 
 
 class DesignModel:
@@ -161,7 +109,7 @@ class DesignModel:
                 max_pow[i] = max(max_pow[i], p)
         self._nbasis = []
         for i, f in enumerate(self.factors):
-            self._nbasis.append(f.n_levels if f.kind == CATEGORICAL else max_pow[i] + 1)
+            self._nbasis.append(f.n_levels if f.is_categorical else max_pow[i] + 1)
         self._offset = np.concatenate([[0], np.cumsum(self._nbasis)[:-1]]).astype(int)
         idx_rows = [np.zeros(k, dtype=int)]
         columns = ["intercept"]
@@ -169,7 +117,7 @@ class DesignModel:
         for t in self.terms:
             choices = []
             for i, p in t.parts:
-                if self.factors[i].kind == CATEGORICAL:
+                if self.factors[i].is_categorical:
                     choices.append([(i, j, self.factors[i].levels[j - 1])
                                     for j in range(1, self.factors[i].n_levels)])
                 else:
@@ -204,14 +152,11 @@ class DesignModel:
         out = np.empty((len(coded), len(self.factors)))
         for i, f in enumerate(self.factors):
             col = coded[f.name]
-            if f.kind == CATEGORICAL:
+            if f.is_categorical:
                 pos = {lev: j for j, lev in enumerate(f.levels)}
                 out[:, i] = [pos[str(v)] for v in col]
-            elif f.is_continuous:
-                out[:, i] = np.asarray(col, dtype=float)
             else:
-                codes = dict(zip(f.levels, f.level_codes(), strict=True))
-                out[:, i] = [codes[str(v)] if str(v) in codes else float(v) for v in col]
+                out[:, i] = np.asarray(col, dtype=float)
         return out
 
     def decode(self, U: np.ndarray):
@@ -220,13 +165,10 @@ class DesignModel:
 
         data = {}
         for i, f in enumerate(self.factors):
-            if f.kind == CATEGORICAL:
+            if f.is_categorical:
                 data[f.name] = [f.levels[int(round(v))] for v in U[:, i]]
-            elif f.is_continuous:
-                data[f.name] = U[:, i].astype(float)
             else:
-                codes = f.level_codes()
-                data[f.name] = [f.levels[int(np.argmin(abs(codes - v)))] for v in U[:, i]]
+                data[f.name] = U[:, i].astype(float)
         return pd.DataFrame(data)
 
     # -- expansion ----------------------------------------------------------------
@@ -235,7 +177,7 @@ class DesignModel:
         is the constant 1, categorical levels in sum contrasts."""
         u = np.atleast_1d(np.asarray(u, dtype=float))
         nb = self._nbasis[i]
-        if self.factors[i].kind == CATEGORICAL:
+        if self.factors[i].is_categorical:
             lev = np.rint(u).astype(int)
             b = np.zeros((len(u), nb))
             b[:, 0] = 1.0
@@ -265,16 +207,13 @@ class DesignModel:
         """Per factor (values, weights) of the uniform region (Gauss-Legendre nodes)."""
         axes = []
         for i, f in enumerate(self.factors):
-            if f.kind == CATEGORICAL:
+            if f.is_categorical:
                 n = f.n_levels
                 axes.append((np.arange(n, dtype=float), np.full(n, 1.0 / n)))
-            elif f.is_continuous:
+            else:
                 n = continuous_nodes or (self._nbasis[i] + 1)  # exact for degree 2n-1
                 x, w = np.polynomial.legendre.leggauss(n)
                 axes.append((x, w / 2.0))
-            else:
-                c = f.level_codes()
-                axes.append((c, np.full(len(c), 1.0 / len(c))))
         return axes
 
     def moment_matrix(self, *, max_points: int = 50_000, seed: int = 0) -> np.ndarray:
@@ -297,12 +236,10 @@ class DesignModel:
         """``n`` points drawn uniformly from the design region."""
         cols = []
         for f in self.factors:
-            if f.kind == CATEGORICAL:
+            if f.is_categorical:
                 cols.append(rng.integers(0, f.n_levels, n).astype(float))
-            elif f.is_continuous:
-                cols.append(rng.uniform(-1.0, 1.0, n))
             else:
-                cols.append(rng.choice(f.level_codes(), n))
+                cols.append(rng.uniform(-1.0, 1.0, n))
         return np.column_stack(cols) if cols else np.empty((n, 0))
 
     def term_directions(self, name: str) -> np.ndarray:
@@ -315,13 +252,11 @@ class DesignModel:
         axes = []
         for i, f in enumerate(self.factors):
             if i not in inv:
-                axes.append(np.zeros(1) if f.kind != CATEGORICAL else np.zeros(1))
-            elif f.kind == CATEGORICAL:
+                axes.append(np.zeros(1))
+            elif f.is_categorical:
                 axes.append(np.arange(f.n_levels, dtype=float))
-            elif f.is_continuous:
-                axes.append(np.array([-1.0, 0.0, 1.0]))
             else:
-                axes.append(f.level_codes())
+                axes.append(np.array([-1.0, 0.0, 1.0]))
         grids = np.meshgrid(*axes, indexing="ij")
         U = np.column_stack([g.ravel() for g in grids])
         Z = self.expand(U)[:, sl]

@@ -12,7 +12,7 @@ Examples
 >>> fs = (Factor.continuous("chelator", 0, 10), Factor.continuous("ph", 4, 8))
 >>> c = parse_constraint("ph >= 4 + 0.2*chelator", fs)
 >>> c.coefficients.tolist(), c.bound
-([1.0, -2.0], 0.0)
+([0.5, -1.0], 0.5)
 >>> bool(c.satisfied([[1.0, 1.0]])[0]), bool(c.satisfied([[1.0, -1.0]])[0])
 (True, False)
 """
@@ -26,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trialkit.exceptions import DesignError
-from trialkit.factors import CATEGORICAL, Factor
+from trialkit.factors import Factor
 
 _TOKEN = re.compile(r"\s*(?:(<=|>=|=<|=>|<|>)|(\d+\.?\d*(?:[eE][+-]?\d+)?|\.\d+(?:[eE][+-]?\d+)?)"
                     r"|([A-Za-z_][A-Za-z0-9_]*)|([-+*/]))")
@@ -168,18 +168,15 @@ class Disallowed:
             if f.name not in self.spec:
                 continue
             v = self.spec[f.name]
-            if f.kind == CATEGORICAL:
+            if f.is_categorical:
                 hit &= np.rint(U[:, i]) == f.levels.index(str(v))
-            elif f.is_continuous:
+            else:
                 nat = f.to_natural(U[:, i])
                 if isinstance(v, (list, tuple)):
                     lo, hi = sorted(float(x) for x in v)
                     hit &= (nat >= lo - 1e-9) & (nat <= hi + 1e-9)
                 else:
                     hit &= np.isclose(nat, float(v), rtol=0, atol=1e-9 * (1 + abs(float(v))))
-            else:
-                code = f.level_codes()[f.levels.index(str(v))]
-                hit &= np.isclose(U[:, i], code)
         return hit
 
 

@@ -36,7 +36,7 @@ from trialkit.designs.constraints import (
     parse_disallowed,
 )
 from trialkit.exceptions import DesignError, ModelSpecError
-from trialkit.factors import CATEGORICAL, Factor
+from trialkit.factors import Factor
 from trialkit.problems import ProblemReport, did_you_mean
 
 CRITERIA = ("D", "I")
@@ -98,12 +98,10 @@ class _Region:
         self.disallowed = tuple(disallowed)
         self.values = []
         for f in self.factors:
-            if f.kind == CATEGORICAL:
+            if f.is_categorical:
                 self.values.append(np.arange(f.n_levels, dtype=float))
-            elif f.is_continuous:
-                self.values.append(np.linspace(-1.0, 1.0, grid))
             else:
-                self.values.append(f.level_codes())
+                self.values.append(np.linspace(-1.0, 1.0, grid))
         self.cont = np.array([f.is_continuous for f in self.factors], dtype=bool)
         # coordinates whose candidates are always the plain level list (no checks needed)
         touched = set()
