@@ -84,6 +84,7 @@ class Dose:
     steep: bool
     calls: int
     database: str
+    ph_at_zero: float = float("nan")
 
 
 def _mix(base: dict[str, float], per_g: dict[str, float], dose: float) -> dict[str, float]:
@@ -120,32 +121,49 @@ def max_dose(base: dict[str, float], per_g: dict[str, float]) -> float:
 
 def find_dose(base: dict[str, float], per_g: dict[str, float], target_ph: float,
               temperature_c: float = 25.0, *, database: str = DEFAULT_DATABASE,
-              label: str = "the bath", adjuster: str = "the adjuster") -> Dose:
+              label: str = "the bath", adjuster: str = "the adjuster",
+              near: float | None = None) -> Dose:
     """Smallest adjuster dose (g/L) giving ``target_ph``.
 
-    Raises :class:`ChemistryError` naming the reachable pH range when no dose up to
-    :func:`max_dose` reaches the target.
+    The scan covers the first quarter of :func:`max_dose` and, only when that does not
+    reach the target, the rest.  With ``near`` (a dose found by another model) the scan
+    covers 0 to 2.5 times ``near`` first.  Raises :class:`ChemistryError` naming the
+    reachable pH range when no dose up to :func:`max_dose` reaches the target.
     """
     top = max_dose(base, per_g)
     if top <= 0:
         raise ChemistryError(f"{adjuster} has no acid-base species in the model, so it "
                              f"cannot set the pH of {label}; choose an acid or a base")
-    grid = np.concatenate([[0.0], np.geomspace(top * 1e-4, top, SCAN_POINTS - 1)])
-    curve = titration_curve(base, per_g, grid, temperature_c, database=database, label=label)
-    calls = 1
-    diff = curve.ph - target_ph
-    if abs(diff[0]) < 1e-6:
-        return Dose(0.0, float(curve.ph[0]), float(curve.ionic_strength[0]),
-                    float(curve.ph[0]), False, calls, database)
-    crossing = np.nonzero(np.sign(diff[:-1]) != np.sign(diff[1:]))[0]
+    first = min(top, 2.5 * near) if near else top / 4.0
+    stages = [np.concatenate([[0.0], np.geomspace(first * 1e-3, first, SCAN_POINTS - 1)])]
+    if first < top:
+        stages.append(np.geomspace(first, top, SCAN_POINTS // 2 + 1)[1:])
+    calls = 0
+    grid = np.empty(0)
+    phs = np.empty(0)
+    crossing = np.empty(0, dtype=int)
+    for stage in stages:
+        curve = titration_curve(base, per_g, stage, temperature_c, database=database,
+                                label=label)
+        calls += 1
+        grid = np.concatenate([grid, stage])
+        phs = np.concatenate([phs, curve.ph])
+        if abs(phs[0] - target_ph) < 1e-6:
+            return Dose(0.0, float(phs[0]), float(curve.ionic_strength[0]), float(phs[0]),
+                        False, calls, database, float(phs[0]))
+        diff = phs - target_ph
+        crossing = np.nonzero(np.sign(diff[:-1]) != np.sign(diff[1:]))[0]
+        if crossing.size:
+            break
     if crossing.size == 0:
-        lo, hi = float(np.min(curve.ph)), float(np.max(curve.ph))
+        lo, hi = float(np.min(phs)), float(np.max(phs))
         raise ChemistryError(
             f"pH {target_ph:g} cannot be reached in {label} with {adjuster}: doses from 0 "
             f"to {top:.4g} g/L give pH {lo:.2f} to {hi:.2f} ({database}). Choose a target "
-            f"in that range, or an {'acid' if target_ph < curve.ph[0] else 'base'} "
+            f"in that range, or {'an acid' if target_ph < phs[0] else 'a base'} as "
             "adjuster."
         )
+    curve = TitrationCurve(grid, phs, np.zeros_like(grid), database)
     i = int(crossing[0])
     a, b = grid[i], grid[i + 1]
     pa, pb = curve.ph[i], curve.ph[i + 1]
@@ -164,4 +182,34 @@ def find_dose(base: dict[str, float], per_g: dict[str, float], target_ph: float,
     calls += 1
     ph90 = float(check.ph[1])
     return Dose(dose, float(check.ph[0]), float(check.ionic_strength[0]), ph90,
-                abs(ph90 - target_ph) > STEEP_PH, calls, database)
+                abs(ph90 - target_ph) > STEEP_PH, calls, database, float(phs[0]))
+
+
+def local_dose(base: dict[str, float], per_g: dict[str, float], target_ph: float,
+               near: float, temperature_c: float = 25.0, *,
+               database: str = DEFAULT_DATABASE, label: str = "the bath",
+               adjuster: str = "the adjuster") -> Dose:
+    """Dose near ``near`` (found by another model) giving ``target_ph``: a cheap search
+    for cross-checks.  Five points from 0.7 to 1.4 times ``near`` in one call; the
+    crossing interval is narrowed once more; without a crossing it falls back to
+    :func:`find_dose` started at ``near``."""
+    xs = near * np.array([0.7, 0.85, 1.0, 1.15, 1.4])
+    curve = titration_curve(base, per_g, xs, temperature_c, database=database, label=label)
+    d = curve.ph - target_ph
+    hit = np.nonzero(np.sign(d[:-1]) != np.sign(d[1:]))[0]
+    if hit.size == 0:
+        return find_dose(base, per_g, target_ph, temperature_c, database=database,
+                         label=label, adjuster=adjuster, near=near)
+    j = int(hit[0])
+    a, b, pa, pb = xs[j], xs[j + 1], curve.ph[j], curve.ph[j + 1]
+    pts = np.linspace(a, b, 5)[1:-1]
+    sub = titration_curve(base, per_g, pts, temperature_c, database=database, label=label)
+    xx = np.concatenate([[a], pts, [b]])
+    pp = np.concatenate([[pa], sub.ph, [pb]])
+    dd = pp - target_ph
+    k = int(np.nonzero(np.sign(dd[:-1]) != np.sign(dd[1:]))[0][0])
+    a, b, pa, pb = xx[k], xx[k + 1], pp[k], pp[k + 1]
+    dose = float(a + (target_ph - pa) * (b - a) / (pb - pa)) if pb != pa else float(a)
+    ph90 = float(np.interp(0.9 * dose, xs, curve.ph)) if xs[0] <= 0.9 * dose else float("nan")
+    return Dose(dose, float(target_ph), float("nan"), ph90, abs(ph90 - target_ph) > STEEP_PH,
+                2, database, float("nan"))

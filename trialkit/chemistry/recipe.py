@@ -25,7 +25,7 @@ from trialkit.chemistry.capacity import DEFAULT_RUST_MG_PER_CM2, Capacity, capac
 from trialkit.chemistry.catalogue import Catalogue, Ingredient, default_catalogue
 from trialkit.chemistry.cautions import cautions_for
 from trialkit.chemistry.cost import BathCost, bath_cost
-from trialkit.chemistry.dosing import Dose, find_dose
+from trialkit.chemistry.dosing import Dose, find_dose, local_dose
 from trialkit.exceptions import ChemistryError
 
 #: Fraction of the dose given as the main addition when the curve is steep.
@@ -199,7 +199,7 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
         hazards.update(ing.hazards)
     base = _composition(moles, spec.volume_l)
     t = float(spec.temperature_c)
-    before = speciation.solve([base], t, label=label)[0]
+    before = speciation.solve([base], t, label=label)[0] if spec.target_ph is None else None
     dose = None
     adj = None
     final = before
@@ -223,8 +223,10 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
                            w_moles, ml, "dose from the PHREEQC titration curve"))
         moles.append((adj, w_moles))
         hazards.update(adj.hazards)
-        final = speciation.solve([_composition(moles, spec.volume_l)], t, label=label)[0]
+        final = speciation.SolutionResult(dose.predicted_ph, dose.ionic_strength,
+                                          speciation.DEFAULT_DATABASE)
     predicted = dose.predicted_ph if dose else final.ph
+    ph_before = before.ph if before is not None else dose.ph_at_zero
     xcheck = None
     if cross_check and final.ionic_strength > speciation.DAVIES_LIMIT:
         xcheck = _cross_check(base, adj, spec, moles, dose, label, notes)
@@ -241,7 +243,7 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
     return BathRecipe(
         bath=spec.bath, volume_l=spec.volume_l, temperature_c=t, lines=lines,
         target_ph=None if spec.target_ph is None else float(spec.target_ph),
-        predicted_ph=float(predicted), ph_before_adjustment=before.ph,
+        predicted_ph=float(predicted), ph_before_adjustment=float(ph_before),
         ionic_strength=final.ionic_strength, cost=cost, capacity=cap,
         cautions=cautions_for(hazards, acidic_bath=predicted < 5.0), steps=steps,
         notes=notes, dose=dose, cross_check=xcheck,
@@ -269,8 +271,9 @@ def _cross_check(base, adj, spec, moles, dose, label, notes) -> dict:
     if dose is not None:
         per_g = {sp: n * adj.mol_per_gram_supplied for sp, n in adj.species.items()}
         try:
-            d_sit = find_dose(base, per_g, float(spec.target_ph), spec.temperature_c,
-                              database=sit, label=label, adjuster=adj.name)
+            d_sit = local_dose(base, per_g, float(spec.target_ph), dose.g_per_l,
+                               spec.temperature_c, database=sit, label=label,
+                               adjuster=adj.name)
             g_sit = d_sit.g_per_l * spec.volume_l
             spread = abs(g_sit - dose.g_per_l * spec.volume_l)
             out.update(dose_g=g_sit, dose_spread_g=spread)
