@@ -43,6 +43,7 @@ from typing import Any
 import pandas as pd
 
 from trialkit.exceptions import RecordLogError
+from trialkit.readings import COUPON_FIELDS
 
 LOG_FILE = "record-log.sqlite"
 SCHEMA_VERSION = "1"
@@ -211,8 +212,9 @@ class RecordLog:
         plan : Plan, optional
             With a plan: every coupon of ``plan.table`` in plan order, plan columns first.
         fields : iterable of str, optional
-            Field columns to include (in this order) even when nothing was recorded;
-            default: the fields that have values.
+            Field columns, in this order, present even when nothing was recorded;
+            default: the sheet fields of ``plan``'s trial (or :data:`COUPON_FIELDS`),
+            then any other field that has values.
 
         Returns
         -------
@@ -224,7 +226,14 @@ class RecordLog:
         wide = (cur.pivot(index="coupon", columns="field", values="value")
                 if not cur.empty else pd.DataFrame(index=pd.Index([], name="coupon")))
         wide.columns.name = None
-        names = list(fields) if fields is not None else sorted(wide.columns)
+        if fields is None:
+            order = [f.name for f in COUPON_FIELDS]
+            if plan is not None:
+                from trialkit.sheets.config import sheet_config
+
+                order = [f.name for f in sheet_config(plan.trial).coupon_fields]
+            fields = order + sorted(set(wide.columns) - set(order))
+        names = list(fields)
         wide = wide.reindex(columns=names)
         for name in names:
             wide[name] = _typed(name, wide[name])
@@ -309,6 +318,9 @@ class RecordLog:
                          ingest_id, now)
 
 
+_FIELD_KINDS = {f.name: f.kind for f in COUPON_FIELDS}
+
+
 def _added(rows: list) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["coupon", "inspection", "field", "value", "revision"])
 
@@ -320,10 +332,8 @@ def _typed(name: str, column: pd.Series) -> pd.Series:
     if len(values) and all(isinstance(v, float) for v in values):
         return column.astype(float)
     if not len(values):
-        from trialkit.readings import FIELDS_BY_NAME
-
-        f = FIELDS_BY_NAME.get(name)
-        if f is not None and f.kind == "number" or name.startswith("mass_cycle_"):
+        f = _FIELD_KINDS.get(name)
+        if f == "number" or name.startswith("mass_cycle_"):
             return column.astype(float)
     return column.astype(object)
 

@@ -7,6 +7,7 @@ Example section (every key optional)::
               "coverage_after_pct", "immersion_start", "immersion_end",
               "bath_ph", "bath_temperature_c", "operator", "notes"]
     cleaning_cycles = 3            # adds mass_cycle_1_g .. mass_cycle_3_g
+                                   # (default: cleaning_cycles of [coupons], else 0)
     inspections_h = [1, 4, 24]     # planned inspection times: adds an inspection sheet
     required = ["mass_initial_g"]  # must be filled in every row that has any reading
     paper = "A4"                   # or "Letter", for the printable bench sheet
@@ -110,6 +111,8 @@ def sheet_config(trial: Any) -> SheetConfig:
         parsed = parse_sheet_section(cfg, trial, problems, "sheet")
         problems.raise_if_any(TrialFileError)
         return parsed
+    if getattr(getattr(trial, "coupons", None), "cleaning_cycles", 0):
+        return parse_sheet_section({}, trial, ProblemReport("trial file"), "sheet")
     return SheetConfig()
 
 
@@ -159,7 +162,8 @@ def parse_sheet_section(raw: Any, trial: Any, problems: ProblemReport,
                 elif known[name] not in fields:
                     fields.append(known[name])
 
-    cycles = raw.get("cleaning_cycles", 0)
+    coupons = getattr(trial, "coupons", None)
+    cycles = raw.get("cleaning_cycles", getattr(coupons, "cleaning_cycles", 0) or 0)
     if isinstance(cycles, bool) or not isinstance(cycles, int) or not 0 <= cycles <= 10:
         problems.add(f"{where}.cleaning_cycles", "cleaning_cycles must be a whole number 0-10",
                      value=cycles, fix="write e.g. cleaning_cycles = 3", check="out_of_range")
@@ -246,12 +250,12 @@ def parse_sheet_section(raw: Any, trial: Any, problems: ProblemReport,
             problems.add(f"{where}.ranges.{name}", "a range is [minimum, maximum], minimum first",
                          value=pair, fix="write e.g. [1, 500]", check="wrong_type")
             continue
+        if any(lists[li][i].kind != "number" for li, i in found):
+            problems.add(f"{where}.ranges.{name}", f"{name!r} is not a number field",
+                         value=name, fix="give ranges only for number fields",
+                         check="wrong_type")
+            continue
         for li, i in found:
-            if lists[li][i].kind != "number":
-                problems.add(f"{where}.ranges.{name}", f"{name!r} is not a number field",
-                             value=name, fix="give ranges only for number fields",
-                             check="wrong_type")
-                continue
             lists[li][i] = replace(lists[li][i], minimum=float(pair[0]), maximum=float(pair[1]))
 
     all_names = [f.name for f in fields]

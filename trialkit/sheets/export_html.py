@@ -11,8 +11,6 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from jinja2 import Environment
-
 from trialkit.sheets.config import PAPER_SIZES, SheetConfig, sheet_config
 from trialkit.sheets.layout import cell_text, layouts, plan_rows, sheet_metadata, visible_stamp
 
@@ -95,6 +93,8 @@ def html_text(plan: Any, *, config: SheetConfig | None = None, paper: str | None
     labels = [{"coupon": r["coupon"], "bath": r["bath"], "run": int(r["run"]),
                "block": int(r["block"])} for r in table.to_dict("records")]
     meta = sheet_metadata(plan, layouts(plan, config)[0])
+    from jinja2 import Environment
+
     env = Environment(autoescape=True)
     size = "A4 landscape" if paper == "A4" else "letter landscape"
     return env.from_string(_TEMPLATE).render(title=meta["title"], stamp=visible_stamp(meta),

@@ -18,10 +18,6 @@ from pathlib import Path
 from typing import Any
 
 import pandas as pd
-from openpyxl import Workbook
-from openpyxl.styles import Alignment, Font, PatternFill, Protection
-from openpyxl.utils import get_column_letter
-from openpyxl.worksheet.datavalidation import DataValidation
 
 from trialkit.sheets.config import SheetConfig, sheet_config
 from trialkit.sheets.layout import (
@@ -38,7 +34,7 @@ from trialkit.sheets.layout import (
 HEADING_ROW = 3
 NAME_ROW = 4
 FIRST_DATA_ROW = 5
-_PLAN_FILL = PatternFill("solid", fgColor="E8E8E8")
+_PLAN_GREY = "E8E8E8"
 _CAUTION = ("Safety: wear eye and skin protection when handling alkaline or acidic solids "
             "and baths; acid on steel gives hydrogen, so never close a container on a working "
             "bath; ventilate; dispose of spent baths with dissolved metals as local "
@@ -63,7 +59,9 @@ def _put(cell: Any, value: Any, kind: str) -> None:
         put_text(cell, cell_text(value))
 
 
-def _validation(col: Any) -> DataValidation | None:
+def _validation(col: Any) -> Any:
+    from openpyxl.worksheet.datavalidation import DataValidation
+
     f = col.field
     if f is None:
         return None
@@ -81,7 +79,10 @@ def _validation(col: Any) -> DataValidation | None:
     return None
 
 
-def _data_tab(wb: Workbook, plan: Any, layout: SheetLayout, config: SheetConfig) -> None:
+def _data_tab(wb: Any, plan: Any, layout: SheetLayout, config: SheetConfig) -> None:
+    from openpyxl.styles import Alignment, Font, PatternFill, Protection
+    from openpyxl.utils import get_column_letter
+
     ws = wb.create_sheet(layout.tab)
     meta = sheet_metadata(plan, layout)
     put_text(ws.cell(1, 1), meta["title"])
@@ -103,7 +104,7 @@ def _data_tab(wb: Workbook, plan: Any, layout: SheetLayout, config: SheetConfig)
             cell = ws.cell(FIRST_DATA_ROW + i, j)
             if col.role == "plan":
                 _put(cell, rec.get(col.name), col.kind)
-                cell.fill = _PLAN_FILL
+                cell.fill = PatternFill("solid", fgColor=_PLAN_GREY)
             else:
                 cell.protection = Protection(locked=False)
                 if col.kind == "datetime":
@@ -118,7 +119,9 @@ def _data_tab(wb: Workbook, plan: Any, layout: SheetLayout, config: SheetConfig)
     ws.protection.formatRows = False
 
 
-def _instructions(wb: Workbook, plan: Any, all_layouts: list[SheetLayout]) -> None:
+def _instructions(wb: Any, plan: Any, all_layouts: list[SheetLayout]) -> None:
+    from openpyxl.styles import Font
+
     ws = wb.create_sheet(INSTRUCTIONS_TAB)
     lines = [
         plan.trial.title,
@@ -157,7 +160,7 @@ def _instructions(wb: Workbook, plan: Any, all_layouts: list[SheetLayout]) -> No
     ws.protection.sheet = True
 
 
-def _meta_tab(wb: Workbook, plan: Any, all_layouts: list[SheetLayout]) -> None:
+def _meta_tab(wb: Any, plan: Any, all_layouts: list[SheetLayout]) -> None:
     ws = wb.create_sheet(META_TAB)
     meta = sheet_metadata(plan, all_layouts[0])
     meta["layout"] = ",".join(lay.name for lay in all_layouts)
@@ -168,8 +171,10 @@ def _meta_tab(wb: Workbook, plan: Any, all_layouts: list[SheetLayout]) -> None:
     ws.protection.sheet = True
 
 
-def workbook(plan: Any, config: SheetConfig | None = None) -> Workbook:
-    """The recording workbook of ``plan`` as an openpyxl :class:`Workbook`."""
+def workbook(plan: Any, config: SheetConfig | None = None) -> Any:
+    """The recording workbook of ``plan`` as an openpyxl ``Workbook``."""
+    from openpyxl import Workbook
+
     config = config or sheet_config(plan.trial)
     all_layouts = layouts(plan, config)
     wb = Workbook()
