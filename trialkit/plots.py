@@ -259,17 +259,23 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
 
 
 # -- surfaces -------------------------------------------------------------------------
-def _surface(view):
+def _surface(view, x=None, y=None):
+    if not hasattr(view, "grid_x"):
+        from trialkit.report.views import as_surface_view
+
+        view = as_surface_view(view, x, y)
     _need(view, ("grid_x", "grid_y", "z", "points", "x", "y"), "contour")
     return view
 
 
-def contour(view, *, ax: Axes | None = None, title: str | None = None) -> Axes:
+def contour(view, x: str | None = None, y: str | None = None, *, ax: Axes | None = None,
+            title: str | None = None) -> Axes:
     """Filled contours of a fitted response over two factors, the baths and the optimum.
 
-    ``view``: :class:`trialkit.report.views.SurfaceView`.
+    ``view``: a ``SurfaceResult`` or ``DesirabilityResult`` of :mod:`trialkit.analysis`
+    (``x``, ``y`` choose the factors) or a :class:`trialkit.report.views.SurfaceView`.
     """
-    v = _surface(view)
+    v = _surface(view, x, y)
     ax = _ax(ax, (6.0, 4.6))
     cs = ax.contourf(v.grid_x, v.grid_y, v.z, levels=12, cmap=SEQUENTIAL)
     lines = ax.contour(v.grid_x, v.grid_y, v.z, levels=12, colors="white", linewidths=0.5)
@@ -292,9 +298,10 @@ def contour(view, *, ax: Axes | None = None, title: str | None = None) -> Axes:
     return ax
 
 
-def surface3d(view, *, ax: Axes | None = None) -> Axes:
-    """The same fitted response as a 3-D surface, with the baths and the optimum."""
-    v = _surface(view)
+def surface3d(view, x: str | None = None, y: str | None = None, *,
+              ax: Axes | None = None) -> Axes:
+    """The same fitted response as a 3-D surface, with the optimum marked."""
+    v = _surface(view, x, y)
     if ax is None:
         with plt.rc_context(STYLE):
             fig = plt.figure(figsize=(6.4, 5.0))
@@ -311,9 +318,13 @@ def surface3d(view, *, ax: Axes | None = None) -> Axes:
     return ax
 
 
-def desirability_contour(view, *, ax: Axes | None = None) -> Axes:
-    """Overall desirability (0 = unacceptable, 1 = ideal) over two factors."""
-    v = _surface(view)
+def desirability_contour(view, x: str | None = None, y: str | None = None, *,
+                         ax: Axes | None = None) -> Axes:
+    """Overall desirability (0 = unacceptable, 1 = ideal) over two factors.
+
+    ``view``: a ``DesirabilityResult`` (``x``, ``y`` choose the factors) or a SurfaceView.
+    """
+    v = _surface(view, x, y)
     return contour(v, ax=ax, title=f"How well each setting meets every goal at once "
                                    f"(desirability over {v.x} and {v.y})")
 
@@ -322,8 +333,12 @@ def desirability_contour(view, *, ax: Axes | None = None) -> Axes:
 def sweep(view, *, ax: Axes | None = None) -> Axes:
     """Fitted sweep curve with its 95 % band, bath means, best level and sweet spot.
 
-    ``view``: :class:`trialkit.report.views.SweepView`.
+    ``view``: a :class:`trialkit.analysis.sweep.SweepResult` or a SweepView.
     """
+    if not hasattr(view, "curve"):
+        from trialkit.report.views import as_sweep_view
+
+        view = as_sweep_view(view)
     _need(view, ("curve", "observed", "best", "sweet_spot", "factor"), "sweep")
     ax = _ax(ax)
     _style(ax)

@@ -312,3 +312,90 @@ def desirability_view(fits: Sequence, specs: Sequence, x: str, y: str, *,
     return SurfaceView("desirability", "", x, base.x_unit, y, base.y_unit, base.grid_x,
                        base.grid_y, D, base.points, opt, "maximize", base.held,
                        "Derringer-Suich desirability of the fitted models on a 41 x 41 grid")
+
+
+# -- adapters for the analysis package's own results ------------------------------------
+def _mesh(frame: pd.DataFrame, x: str, y: str, value: str):
+    gx = np.sort(frame[x].astype(float).unique())
+    gy = np.sort(frame[y].astype(float).unique())
+    table = frame.pivot_table(index=y, columns=x, values=value, aggfunc="mean")
+    return gx, gy, table.reindex(index=gy, columns=gx).to_numpy()
+
+
+def from_surface(result, x: str | None = None, y: str | None = None, *, unit: str = "",
+                 n: int = GRID) -> SurfaceView:
+    """A :class:`SurfaceView` of a :class:`trialkit.analysis.surface.SurfaceResult`
+    (others held at the best point); the optimum is the result's own best point."""
+    names = list(result.factors)
+    if len(names) < 2 and (x is None or y is None):
+        raise AnalysisError("a contour needs two continuous factors; the surface has "
+                            f"{names}")
+    x = x or names[0]
+    y = y or next(nm for nm in names if nm != x)
+    frame = result.grid(x, y, n=n)
+    gx, gy, z = _mesh(frame, x, y, "predicted")
+    fs = {f.name: f for f in result.fit.spec.used_factors}
+    obs = observed(result.fit)
+    st = result.optimum["settings"]
+    opt = {"x": float(st[x]), "y": float(st[y]), "value": float(result.optimum["predicted"])}
+    held = {k: v for k, v in st.items() if k not in (x, y)}
+    return SurfaceView(result.fit.response, unit, x, fs[x].unit, y, fs[y].unit, gx, gy, z,
+                       pd.DataFrame({"x": obs[x].astype(float), "y": obs[y].astype(float)}),
+                       opt, result.goal, held,
+                       f"second-order surface ({result.kind}); best point by bounded search")
+
+
+def from_sweep(result, *, unit: str = "", n: int = 201) -> SweepView:
+    """A :class:`SweepView` of a :class:`trialkit.analysis.sweep.SweepResult`."""
+    name = result.factor.name
+    g = result.grid(n)
+    curve = pd.DataFrame({"x": g[name].astype(float), "predicted": g.predicted,
+                          "ci_low": g.ci_low, "ci_high": g.ci_high})
+    obs = observed(result.fit)
+    means = (obs.groupby(name).y.agg(["mean", "count"]).reset_index()
+             .rename(columns={name: "x", "count": "n"}))
+    return SweepView(result.fit.response, unit, name, result.factor.unit, curve, means,
+                     float(result.best), float(result.optimum["predicted"]),
+                     float(result.sweet_spot), float(result.tolerance), result.goal,
+                     "quadratic sweep fit; best level and sweet spot from the analysis")
+
+
+def from_desirability(result, x: str, y: str, *, n: int = GRID) -> SurfaceView:
+    """A :class:`SurfaceView` of overall desirability from a ``DesirabilityResult``."""
+    frame = result.grid(x, y, n=n)
+    gx, gy, z = _mesh(frame, x, y, "desirability")
+    fit0 = next(iter(result._fits.values()))
+    fs = {f.name: f for f in fit0.spec.used_factors}
+    obs = observed(fit0)
+    opt = {"x": float(result.settings[x]), "y": float(result.settings[y]),
+           "value": float(result.overall)}
+    held = {k: v for k, v in result.settings.items() if k not in (x, y)}
+    return SurfaceView("desirability", "", x, fs[x].unit, y, fs[y].unit, gx, gy, z,
+                       pd.DataFrame({"x": obs[x].astype(float), "y": obs[y].astype(float)}),
+                       opt, "maximize", held, "Derringer-Suich desirability (analysis)")
+
+
+def as_surface_view(obj, x: str | None = None, y: str | None = None, **kw) -> SurfaceView:
+    """Whatever surface-like object is given, as a :class:`SurfaceView`."""
+    if isinstance(obj, SurfaceView):
+        return obj
+    if hasattr(obj, "eigenvalues") and hasattr(obj, "grid"):
+        return from_surface(obj, x, y, **kw)
+    if hasattr(obj, "overall") and hasattr(obj, "grid"):
+        if x is None or y is None:
+            fit0 = next(iter(obj._fits.values()))
+            cont = [f.name for f in fit0.spec.used_factors if f.is_continuous]
+            x, y = x or cont[0], y or cont[1]
+        return from_desirability(obj, x, y)
+    raise AnalysisError(f"cannot draw a surface from a {type(obj).__name__}; give a "
+                        "SurfaceResult, DesirabilityResult or SurfaceView")
+
+
+def as_sweep_view(obj, **kw) -> SweepView:
+    """A :class:`SweepView` of a SweepResult (or the view itself)."""
+    if isinstance(obj, SweepView):
+        return obj
+    if hasattr(obj, "sweet_spot") and hasattr(obj, "grid"):
+        return from_sweep(obj, **kw)
+    raise AnalysisError(f"cannot draw a sweep from a {type(obj).__name__}; give a "
+                        "SweepResult or SweepView")
