@@ -206,3 +206,30 @@ def sweep(folder: Path, *, seed: int = 3):
         rows += [{"bath": b, "elapsed_h": t, "coverage_pct": float(np.clip(v, 0, 100))}
                  for t, v in zip(times, cov, strict=True)]
     return trial, plan, baths, pd.DataFrame(rows)
+
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "example_trials"
+
+
+def example_names() -> list[str]:
+    """Bundled example trials that carry invented readings."""
+    if not EXAMPLES.is_dir():
+        return []
+    return sorted(p.name for p in EXAMPLES.iterdir()
+                  if (p / "trial.toml").exists() and (p / "readings" / "coupons.csv").exists())
+
+
+def example(name: str, dest: Path):
+    """Copy an example trial to ``dest``; its responses from the invented readings."""
+    import shutil
+
+    from trialkit.responses import compute_responses
+
+    folder = dest / name
+    shutil.copytree(EXAMPLES / name, folder)
+    trial = load_trial(folder / "trial.toml")
+    readings = pd.read_csv(folder / "readings" / "coupons.csv")
+    tc_path = folder / "readings" / "timecourse.csv"
+    timecourse = pd.read_csv(tc_path) if tc_path.exists() else None
+    responses = compute_responses(readings, coupon_spec=trial.coupons, timecourse=timecourse)
+    return folder, responses, timecourse

@@ -55,6 +55,7 @@ class PlotError(TrialkitError):
 
 def label(name: str, unit: str | None) -> str:
     """Axis label with its unit: ``"removal (%)"``; ``"(no unit)"`` when there is none."""
+    unit = (str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C"))
     return f"{name} ({unit})" if unit else f"{name} (no unit)"
 
 

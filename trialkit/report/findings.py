@@ -78,6 +78,12 @@ def fmt_p(p: float) -> str:
     return f"p = {float(f'{p:.2g}'):g}"
 
 
+def pretty_unit(unit: str) -> str:
+    """``g/m**2`` -> ``g/m²``; ``degC`` -> ``°C``."""
+    return (str(unit or "").replace("**2", "²").replace("**3", "³").replace("^2", "²")
+            .replace("degC", "°C"))
+
+
 def _amount(effect: float, unit: str, dec: int) -> str:
     size = fmt(abs(effect), dec)
     if unit == "%":
@@ -89,7 +95,7 @@ def _span(f) -> str:
     """``from 2 to 10 % w/v`` or ``from pH 5.5 to pH 7.5``."""
     if f.unit == "pH":
         return f"from pH {f.low:g} to pH {f.high:g}"
-    return f"from {f.low:g} to {f.high:g} {f.unit}".rstrip()
+    return f"from {f.low:g} to {f.high:g} {pretty_unit(f.unit)}".rstrip()
 
 
 def interval(lo: float, hi: float, dec: int) -> str:
@@ -133,7 +139,10 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
     pvals = _anova_p(fit)
     factors = {f.name: f for f in fit.spec.used_factors}
     out: list[tuple[float, Finding]] = []
+    quiet_inter: list[tuple[str, float]] = []
+    quiet_curve: list[tuple[str, float]] = []
     resp = fit.response
+    unit = pretty_unit(unit)
     for term in fit.spec.terms:
         name = term.name
         if name == "block":
@@ -192,9 +201,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
                 out.append((abs(nums.get("effect", 0.0)) + 1e-9, Finding(text, resp, name,
                                                                          "interaction", nums)))
             else:
-                text = (f"No interaction of {' and '.join(term.factors)} on {resp} was "
-                        f"detected ({fmt_p(p)}).")
-                out.append((-2.0, Finding(text, resp, name, "not_detected", nums)))
+                quiet_inter.append((name, p))
         elif term.power == 2:
             f = term.factors[0]
             est = fit.coded_coefficients.set_index("term").loc[name, "estimate"]
@@ -205,8 +212,17 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
                 text = f"{resp.capitalize()} curves along {f}: it is {where} ({fmt_p(p)})."
                 out.append((abs(float(est)) * 2, Finding(text, resp, name, "curvature", nums)))
             else:
-                text = f"No curvature of {resp} along {f} was detected ({fmt_p(p)})."
-                out.append((-2.0, Finding(text, resp, name, "not_detected", nums)))
+                quiet_curve.append((f, p))
+    if quiet_inter:
+        listed = "; ".join(f"{n} ({fmt_p(p)})" for n, p in quiet_inter)
+        out.append((-2.0, Finding(f"No interaction on {resp} was detected: {listed}.", resp,
+                                  ", ".join(n for n, _ in quiet_inter), "not_detected",
+                                  {"p": [p for _, p in quiet_inter]})))
+    if quiet_curve:
+        listed = "; ".join(f"along {n} ({fmt_p(p)})" for n, p in quiet_curve)
+        out.append((-3.0, Finding(f"No curvature of {resp} was detected {listed}.", resp,
+                                  ", ".join(n for n, _ in quiet_curve), "not_detected",
+                                  {"p": [p for _, p in quiet_curve]})))
     out.sort(key=lambda t: -t[0])
     findings = [f for _, f in out]
     if math.isfinite(fit.r_squared):
@@ -224,6 +240,7 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
     """Sentences for a two-level effects analysis judged by Lenth's margin of error."""
     df = effects.summary
     me = effects.lenth.me
+    unit = pretty_unit(unit)
     dec = decimals_for(me / 2)
     out = []
     for r in df.itertuples():

@@ -21,6 +21,9 @@ from trialkit.exceptions import TrialkitError
 
 TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
 SURFACE_KINDS = ("central-composite", "box-behnken")
+#: Random starts of the desirability search besides its 8 best grid points (each start
+#: costs about a second on the shared machine; the grid already brackets the optimum).
+DESIRABILITY_STARTS = 4
 
 
 @dataclass
@@ -232,9 +235,13 @@ def _effects(data: TrialData, spec) -> None:
                               f"({_message(exc)})")
 
 
+def _wanted(spec) -> bool:
+    return spec.goal in ("maximize", "minimize", "target")
+
+
 def _surface(data: TrialData, spec, n_boot: int) -> None:
     fit = data.fits[spec.name]
-    if not any(t.power == 2 for t in fit.spec.terms):
+    if not _wanted(spec) or not any(t.power == 2 for t in fit.spec.terms):
         return
     try:
         from trialkit.analysis.surface import fit_surface
@@ -280,8 +287,8 @@ def _detectable(data: TrialData, spec) -> None:
 
 
 def _desirability(data: TrialData) -> None:
-    if len(data.fits) < 2 or data.sweeps:
-        return
+    if len(data.fits) < 2 or data.sweeps or data.trial.design.kind in TWO_LEVEL_KINDS:
+        return  # a compromise needs fitted surfaces, not a screening model
     try:
         from trialkit.analysis.desirability import Goal, optimize_desirability
     except ImportError:
@@ -290,6 +297,8 @@ def _desirability(data: TrialData) -> None:
     goals = []
     for name in data.fits:
         spec = data.specs[name]
+        if not _wanted(spec):
+            continue
         vals = data.baths[name].dropna().astype(float)
         lo = spec.lower if spec.lower is not None else float(vals.min())
         hi = spec.upper if spec.upper is not None else float(vals.max())
@@ -306,7 +315,8 @@ def _desirability(data: TrialData) -> None:
     best, last = None, None
     for fixed in combos:
         try:
-            res = optimize_desirability(data.fits, goals, fixed=fixed, seed=data.trial.seed)
+            res = optimize_desirability(data.fits, goals, fixed=fixed, seed=data.trial.seed,
+                                        n_starts=DESIRABILITY_STARTS)
         except TrialkitError as exc:
             last = exc
             continue
@@ -326,9 +336,12 @@ def _corners(trial) -> pd.DataFrame:
 
 
 def _recommend(data: TrialData) -> None:
-    if not data.fits:
+    wanted = [n for n in data.fits if _wanted(data.specs[n])]
+    if not wanted:
+        data.note("recipe", "no response has a goal (maximize, minimize or target), so "
+                            "there is nothing to recommend")
         return
-    primary = next(iter(data.fits))
+    primary = wanted[0]
     spec = data.specs[primary]
     if data.desirability is not None:
         settings = dict(data.desirability.settings)
