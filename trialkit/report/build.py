@@ -1,0 +1,368 @@
+"""Build the report of a trial folder: :func:`build_report` -> :class:`Report`.
+
+Sections (our own names): the trial in brief; how complete the readings are; what
+matters; the models and how well they fit; the recommended recipe; how to confirm it;
+safety cautions; how to reproduce this report.  A section whose inputs are missing says
+plainly what is not available and why.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import math
+import platform
+from importlib import metadata
+from pathlib import Path
+
+import pandas as pd
+
+from trialkit.report import figures as figs
+from trialkit.report.document import Block, Report, Section
+from trialkit.report.findings import effects_findings, model_findings
+from trialkit.report.gather import TrialData, analyse, load_inputs
+
+SECTION_TITLES = {
+    "brief": "The trial in brief",
+    "readings": "How complete the readings are",
+    "matters": "What matters",
+    "models": "The models and how well they fit",
+    "recipe": "The recommended recipe",
+    "confirm": "How to confirm it",
+    "safety": "Safety cautions",
+    "reproduce": "How to reproduce this report",
+}
+PACKAGES = ("numpy", "scipy", "pandas", "statsmodels", "matplotlib", "seaborn", "jinja2",
+            "pyDOE3", "phreeqc", "pint", "molmass", "openpyxl")
+ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")
+ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")
+NOT_THE_LAST_WORD = ("This recommendation summarises a bench trial. It is not a substitute "
+                     "for the safety data sheets of the ingredients, local regulations and "
+                     "licensed practice, which take precedence.")
+
+
+def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
+                 timecourse: pd.DataFrame | None = None, n_boot: int = 0) -> Report:
+    """The report of the trial in ``folder``.
+
+    Parameters
+    ----------
+    folder : path
+        Trial folder (holding ``trial.toml``) or the trial file itself.
+    responses : trialkit.responses.Responses, optional
+        Computed responses; by default computed from the folder's record log.
+    baths : DataFrame, optional
+        Instead of ``responses``: one row per bath with the plan's columns and one column
+        per trial response (by its name).
+    timecourse : DataFrame, optional
+        Coverage readings over time (``bath, elapsed_h, coverage_pct``).
+    n_boot : int
+        Bootstrap resamples for the best point's interval (0: none).
+
+    Returns
+    -------
+    Report
+        ``write(path)`` writes the self-contained HTML page.
+    """
+    data = analyse(load_inputs(folder, responses=responses, baths=baths,
+                               timecourse=timecourse), n_boot=n_boot)
+    findings = _findings(data)
+    sections = [
+        Section("brief", SECTION_TITLES["brief"], _brief(data)),
+        Section("readings", SECTION_TITLES["readings"], _readings(data)),
+        Section("matters", SECTION_TITLES["matters"], _matters(data, findings)),
+        Section("models", SECTION_TITLES["models"], _models(data)),
+        Section("recipe", SECTION_TITLES["recipe"], _recipe(data)),
+        Section("confirm", SECTION_TITLES["confirm"], _confirm(data)),
+        Section("safety", SECTION_TITLES["safety"], _safety(data)),
+        Section("reproduce", SECTION_TITLES["reproduce"], _reproduce(data)),
+    ]
+    trial = data.trial
+    sub = f"Trial report · plan {data.plan.fingerprint} · seed {trial.seed}"
+    rec = data.recommendation
+    payload = {"findings": [f.to_dict() for f in findings],
+               "recommendation": None if rec is None else {
+                   "settings": rec["settings"], "source": rec["source"],
+                   "predictions": rec["predictions"].to_dict("records")},
+               "fingerprint": data.plan.fingerprint, "seed": trial.seed,
+               "notes": {k: list(v) for k, v in data.notes.items()}}
+    return Report(trial.title, sections, sub, payload)
+
+
+def write_report(folder: str | Path, out: str | Path, *, markdown: str | Path | None = None,
+                 **kw) -> Path:
+    """Build the report of ``folder`` and write it to ``out`` (HTML) and ``markdown``."""
+    return build_report(folder, **kw).write(out, markdown=markdown)
+
+
+# -- sections ---------------------------------------------------------------------------
+def _notes(data: TrialData, *topics: str) -> list[Block]:
+    return [Block.note(t) for topic in topics for t in data.notes.get(topic, [])]
+
+
+def _levels(f) -> str:
+    if f.is_continuous:
+        extra = f" (levels {', '.join(f'{v:g}' for v in f.levels)})" if f.levels else ""
+        return f"{f.low:g} to {f.high:g} {f.unit}".rstrip() + extra
+    return ", ".join(map(str, f.levels))
+
+
+def _brief(data: TrialData) -> list[Block]:
+    t, p = data.trial, data.plan
+    lay = t.layout
+    baths = p.baths
+    counts = baths["point"].value_counts()
+    pairs = [("Question", t.question or "not stated in the trial file"),
+             ("Design", f"{t.design.kind}" + (f", resolution {p.design.resolution}"
+                                             if getattr(p.design, "resolution", None) else "")),
+             ("Baths", f"{len(baths)} (" + ", ".join(f"{n} {k}" for k, n in counts.items())
+              + f") in {lay.blocks} block(s), {lay.replicates} replicate(s)"),
+             ("Coupons per bath", f"{lay.coupons_per_bath} rusted, {lay.witness_coupons} "
+                                  "bare witness"),
+             ("Seed", str(t.seed)), ("Plan fingerprint", p.fingerprint)]
+    if t.coupons is not None:
+        pairs.insert(4, ("Coupons", f"{t.coupons.shape} of {t.coupons.metal}"))
+    blocks = [Block.pairs(pairs)]
+    if t.notes:
+        blocks.append(Block.para(f"Notes: {t.notes}"))
+    ftab = pd.DataFrame([{"factor": f.name, "kind": f.kind, "unit": f.unit or "",
+                          "levels": _levels(f)} for f in t.factors])
+    blocks.append(Block.frame(ftab, "Factors and their levels"))
+    if t.responses:
+        rtab = pd.DataFrame([{"response": r.name, "unit": r.unit, "goal": r.goal,
+                              "computed as": r.measure or r.name} for r in t.responses])
+        blocks.append(Block.frame(rtab, "Responses"))
+    return blocks + _notes(data, "plan")
+
+
+def _readings(data: TrialData) -> list[Block]:
+    blocks: list[Block] = []
+    if data.log is None:
+        if data.baths is not None and data.responses is None:
+            return [Block.note("the readings were given as a table of bath results, not "
+                               "through the record log, so missing readings and revisions "
+                               "cannot be checked")]
+        return blocks + _notes(data, "readings")
+    hist, cur = data.history, data.current
+    n_rev = int((hist.revision > 1).sum()) if len(hist) else 0
+    blocks.append(Block.pairs([
+        ("Values in the record log", f"{len(hist)} from {hist.source.nunique()} sheet(s)"),
+        ("Coupons in the plan", f"{len(cur)}"),
+        ("Corrections since first entry", f"{n_rev}")]))
+    table = cur[~cur.get("point", pd.Series("", index=cur.index)).isin(["control"])] \
+        if "point" in cur else cur
+    rows = []
+    for fname in ENTRY_ALL + ENTRY_RUSTED:
+        sub = table if fname in ENTRY_ALL or "coupon_kind" not in table else \
+            table[table.coupon_kind == "rusted"]
+        if fname not in sub:
+            missing = list(sub.coupon)
+        else:
+            missing = list(sub.coupon[sub[fname].isna()])
+        if missing:
+            rows.append({"reading": fname, "coupons missing it": len(missing),
+                         "first few": ", ".join(map(str, missing[:6]))
+                         + (" ..." if len(missing) > 6 else "")})
+    if rows:
+        blocks.append(Block.frame(pd.DataFrame(rows), "Readings still missing"))
+    else:
+        blocks.append(Block.para("Every planned coupon has its masses, coverages and "
+                                 "immersion times recorded."))
+    if n_rev:
+        rev = hist[hist.coupon.isin(hist[hist.revision > 1].coupon)]
+        rev = rev[rev.set_index(["coupon", "inspection", "field"]).index.isin(
+            hist[hist.revision > 1].set_index(["coupon", "inspection", "field"]).index)]
+        blocks.append(Block.frame(rev[["coupon", "field", "value", "revision", "source"]]
+                                  .head(40).reset_index(drop=True),
+                                  "Values corrected after first entry (every revision kept)"))
+    probs = list(getattr(data.responses, "problems", []) or [])
+    if probs:
+        blocks.append(Block.frame(pd.DataFrame([{"where": p.where, "reading": p.column,
+                                                 "value": p.value, "problem": p.message}
+                                                for p in probs][:40]),
+                                  "Flagged values (left out of the results)"))
+    warns = list(getattr(data.responses, "warnings", []) or [])
+    if warns:
+        blocks.append(Block.bullets(warns, "Worth a look"))
+    return blocks + _notes(data, "readings", "responses")
+
+
+def _findings(data: TrialData) -> list:
+    out = []
+    for name, fit in data.fits.items():
+        unit = data.unit(name)
+        if fit.df_resid > 0:
+            out += model_findings(fit, unit=unit, detectable=data.detectable.get(name))
+        elif name in data.effects:
+            out += effects_findings(data.effects[name], unit=unit)
+        sw = data.sweeps.get(name)
+        if sw is not None:
+            from trialkit.report.findings import Finding
+
+            f = sw.factor
+            interval = (f"Fieller 95 % interval {sw.fieller_low:.3g} to {sw.fieller_high:.3g} "
+                        f"{f.unit}" if sw.fieller_bounded else "its interval is unbounded")
+            text = (f"{name.capitalize()} is best at {f.name} {sw.best:.3g} {f.unit} "
+                    f"({interval}); the practical sweet spot, the lowest level within "
+                    f"{_size(sw.tolerance, unit)} of the best, is {sw.sweet_spot:.3g} {f.unit}."
+                    + (f" Above the best level {name} falls off, by "
+                       f"{_size(sw.drop_at_high, unit)} at the top of the range."
+                       if sw.falls_off else ""))
+            out.append(Finding(text, name, f.name, "sweep",
+                               {"best": sw.best, "sweet_spot": sw.sweet_spot,
+                                "fieller_low": sw.fieller_low,
+                                "fieller_high": sw.fieller_high}))
+    if data.kinetics:
+        from trialkit.report.findings import Finding
+
+        t90 = {b: f.time_to_90_h for b, f in data.kinetics.items()}
+        done = {b: v for b, v in t90.items() if math.isfinite(v)}
+        if done:
+            fast = min(done, key=done.get)
+            text = (f"Bath {fast} reached 90 % removal fastest, in {done[fast]:.3g} h; "
+                    f"{len(done)} of {len(t90)} baths reached 90 % within their readings.")
+            out.append(Finding(text, "time_to_90", fast, "kinetics", {"t90": done[fast]}))
+    return out
+
+
+def _size(x: float, unit: str) -> str:
+    return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {unit}".rstrip()
+
+
+def _matters(data: TrialData, findings) -> list[Block]:
+    if not data.fits:
+        why = "no responses to analyse yet" if data.baths is None else \
+            "no model could be fitted to the responses"
+        return [Block.note(why)] + _notes(data, "analysis")
+    blocks = [Block.bullets([f.text for f in findings], "Findings")]
+    for name in data.fits:
+        blocks += figs.effect_figures(data, name)
+    blocks += figs.kinetics_figure(data)
+    return blocks + _notes(data, "analysis", "kinetics")
+
+
+def _models(data: TrialData) -> list[Block]:
+    if not data.fits:
+        return [Block.note("no model was fitted (see above)")]
+    blocks = []
+    for name, fit in data.fits.items():
+        an = fit.anova(2)
+        blocks.append(Block.para(
+            f"{name} ~ {fit.spec.to_text()}: {fit.n} baths, R² = {fit.r_squared:.3f}, "
+            f"adjusted R² = {fit.adj_r_squared:.3f}, predicted R² = {fit.pred_r_squared:.3f}, "
+            f"residual degrees of freedom {fit.df_resid}, test: {an.test}."))
+        blocks.append(Block.frame(an.summary, f"Analysis of variance for {name} (type II)"))
+        coef = fit.coefficients[["term", "estimate", "std_error", "ci_low", "ci_high", "p"]]
+        blocks.append(Block.frame(coef, f"Coefficients for {name} in the factors' own units"))
+        if an.lack_of_fit:
+            lf = an.lack_of_fit
+            blocks.append(Block.para(f"Lack of fit against pure error for {name}: F = "
+                                     f"{lf['F']:.3g}, p = {lf['p']:.3g}."))
+        if fit.df_resid > 0:
+            blocks += figs.model_figures(data, name)
+        else:
+            blocks.append(Block.note(f"{name}: the model uses every bath (no residual "
+                                     "degrees of freedom), so residual checks are not possible"))
+    return blocks
+
+
+def _recipe(data: TrialData) -> list[Block]:
+    rec = data.recommendation
+    if rec is None:
+        return [Block.note("no recommendation: no response has been analysed yet")] + \
+            _notes(data, "recipe")
+    settings = ", ".join(f"{k} = {v:.3g}" if isinstance(v, float) else f"{k} = {v}"
+                         for k, v in rec["settings"].items())
+    blocks = [Block.para(f"Recommended settings: {settings}. Chosen as the {rec['source']}.")]
+    pred = rec["predictions"][["response", "unit", "predicted", "ci_low", "ci_high", "pi_low",
+                               "pi_high"]]
+    blocks.append(Block.frame(pred, "Predicted responses at the recommended settings (95 % "
+                                    "confidence interval of the mean, prediction interval "
+                                    "of one new bath)"))
+    blocks += figs.desirability_figure(data)
+    r = data.recipe
+    if r is not None:
+        lines = pd.DataFrame([{"ingredient": ln.name, "grams": ln.grams,
+                               "millilitres": ln.millilitres, "role": ln.role,
+                               "basis": ln.basis} for ln in r.lines])
+        blocks.append(Block.frame(lines, f"To mix {r.volume_l:g} L at {r.temperature_c:g} °C "
+                                         f"(predicted pH {r.predicted_ph:.2f})"))
+        c = r.cost
+        if c.per_l is not None:
+            blocks.append(Block.pairs([
+                ("Cost per litre", f"{c.per_l:.3g} {c.currency or ''}".strip()),
+                ("Cost per US gallon", f"{c.per_us_gal:.3g} {c.currency or ''}".strip())]))
+        else:
+            blocks.append(Block.note("cost: prices missing for "
+                                     + ", ".join(c.missing_prices or ("some ingredients",))))
+        if r.steps:
+            blocks.append(Block.bullets(r.steps, "How to mix it"))
+    return blocks + _notes(data, "recipe")
+
+
+def _confirm(data: TrialData) -> list[Block]:
+    rec = data.recommendation
+    if rec is None:
+        return [Block.note("nothing to confirm until a recipe is recommended")]
+    lay = data.trial.layout
+    n = 3
+    pred = rec["predictions"]
+    tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]]
+    tab = tab.rename(columns={"pi_low": "one bath: low", "pi_high": "one bath: high",
+                              "pi3_low": f"mean of {n}: low", "pi3_high": f"mean of {n}: high"})
+    return [Block.para(
+        f"Mix {n} fresh baths at the recommended settings, each with {lay.coupons_per_bath} "
+        f"rusted coupon(s) and {lay.witness_coupons} witness coupon(s) prepared as in this "
+        "trial, in one new block, next to one bath of the current recipe for comparison. The "
+        "recommendation is confirmed when each bath's result lies inside the one-bath "
+        f"interval and the mean of the {n} inside the mean-of-{n} interval below."),
+        Block.frame(tab, "Where the confirmation baths should land (95 % prediction "
+                         "intervals)")]
+
+
+def _safety(data: TrialData) -> list[Block]:
+    from trialkit.chemistry.cautions import cautions_for
+
+    items = list(data.recipe.cautions) if data.recipe is not None else []
+    for c in cautions_for(["alkaline", "acidic"]):
+        if c not in items:
+            items.append(c)
+    return [Block.bullets(items), Block.para(NOT_THE_LAST_WORD)]
+
+
+def _sha256(path: Path) -> str:
+    h = hashlib.sha256()
+    with path.open("rb") as fh:
+        for chunk in iter(lambda: fh.read(1 << 16), b""):
+            h.update(chunk)
+    return h.hexdigest()
+
+
+def _version(name: str) -> str:
+    try:
+        return metadata.version(name)
+    except metadata.PackageNotFoundError:
+        return "not installed"
+
+
+def _reproduce(data: TrialData) -> list[Block]:
+    import trialkit
+
+    tk = getattr(trialkit, "__version__", None) or _version("trialkit")
+    pairs = [("trialkit", tk), ("Python", platform.python_version())]
+    pairs += [(p, _version(p)) for p in PACKAGES]
+    files = []
+    for path in sorted(data.folder.rglob("*")):
+        if path.is_file() and path.suffix.lower() in (".toml", ".csv", ".xlsx", ".json",
+                                                      ".sqlite", ".py"):
+            files.append({"file": str(path.relative_to(data.folder)),
+                          "bytes": path.stat().st_size, "sha256": _sha256(path)})
+    blocks = [Block.pairs([("Seed", data.trial.seed),
+                           ("Plan fingerprint", data.plan.fingerprint),
+                           ("Written", dt.datetime.now(dt.UTC).strftime("%Y-%m-%d"))]),
+              Block.pairs(pairs, "Versions"),
+              Block.frame(pd.DataFrame(files), "Source files and their SHA-256")]
+    models = [f"{n}: {m}" for n, m in data.models.items()]
+    if models:
+        blocks.append(Block.bullets(models, "Models fitted"))
+    return blocks

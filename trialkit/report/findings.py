@@ -1,0 +1,269 @@
+"""Plain-language findings, written from the numbers of fitted models and effects.
+
+Nothing here is canned: every sentence is assembled from an estimate, its interval and
+its p-value, so different data give different sentences.  Each :class:`Finding` keeps the
+numbers it quotes, so a reader (or a test) can check the sentence against them.
+
+Examples
+--------
+>>> import pandas as pd
+>>> from trialkit.factors import Factor
+>>> from trialkit.analysis.model import fit_model
+>>> df = pd.DataFrame({"chelator": [2, 10, 2, 10, 6, 6], "ph": [5.5, 5.5, 7.5, 7.5, 6.5, 6.5],
+...                    "removal": [40.0, 70.0, 41.0, 72.0, 56.0, 55.0]})
+>>> fit = fit_model(df, "removal", [Factor.continuous("chelator", 2, 10, unit="% w/v"),
+...                                 Factor.continuous("ph", 5.5, 7.5, unit="pH")], "main")
+>>> print(model_findings(fit, unit="%")[0].text)  # doctest: +ELLIPSIS
+Raising chelator from 2 to 10 % w/v increased removal by 30.5 points (95 % CI 28.8–32.2; p < 0.001).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+DASH = "\u2013"
+MINUS = "\u2212"
+
+
+@dataclass
+class Finding:
+    """One sentence and the numbers it quotes.
+
+    Attributes
+    ----------
+    text : str
+    response, term : str
+    kind : str
+        ``effect`` (detected), ``not_detected``, ``interaction``, ``curvature``,
+        ``model`` (fit quality) or ``screening`` (Lenth).
+    numbers : dict
+        effect, ci_low, ci_high, p, detectable ... as quoted.
+    """
+
+    text: str
+    response: str
+    term: str
+    kind: str
+    numbers: dict = field(default_factory=dict)
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+def decimals_for(width: float) -> int:
+    """Decimals that show an interval of half-width ``width`` to two significant digits."""
+    if not (isinstance(width, float | int) and math.isfinite(width)) or width <= 0:
+        return 2
+    return int(min(4, max(0, 1 - math.floor(math.log10(abs(width))))))
+
+
+def fmt(x: float, dec: int) -> str:
+    """A number with ``dec`` decimals and a true minus sign."""
+    s = f"{x:.{dec}f}"
+    if s.lstrip("-").strip("0.") == "":
+        s = s.lstrip("-")
+    return s.replace("-", MINUS)
+
+
+def fmt_p(p: float) -> str:
+    """``p < 0.001`` or ``p = 0.62`` (two significant digits)."""
+    if p is None or not math.isfinite(p):
+        return "p not available"
+    if p < 0.001:
+        return "p < 0.001"
+    return f"p = {float(f'{p:.2g}'):g}"
+
+
+def pretty_unit(unit: str) -> str:
+    """``g/m**2`` -> ``g/m²``; ``degC`` -> ``°C``."""
+    return (str(unit or "").replace("**2", "²").replace("**3", "³").replace("^2", "²")
+            .replace("degC", "°C"))
+
+
+def _amount(effect: float, unit: str, dec: int) -> str:
+    size = fmt(abs(effect), dec)
+    if unit == "%":
+        return f"{size} points"
+    return f"{size} {unit}".strip()
+
+
+def _span(f) -> str:
+    """``from 2 to 10 % w/v`` or ``from pH 5.5 to pH 7.5``."""
+    if f.unit == "pH":
+        return f"from pH {f.low:g} to pH {f.high:g}"
+    return f"from {f.low:g} to {f.high:g} {pretty_unit(f.unit)}".rstrip()
+
+
+def interval(lo: float, hi: float, dec: int) -> str:
+    """``24.1–38.3``, or ``−17.3 to −14.1`` when a bound is negative."""
+    sep = " to " if lo < 0 or hi < 0 else DASH
+    return f"{fmt(lo, dec)}{sep}{fmt(hi, dec)}"
+
+
+def _anova_p(fit) -> dict:
+    tab = fit.anova(2).summary
+    return {r.term: float(r.p) for r in tab.itertuples()}
+
+
+def _effect_row(fit, term: str):
+    cols = fit.mm.term_columns.get(term)
+    if cols is None or cols.stop - cols.start != 1:
+        return None
+    name = fit.mm.columns[cols.start]
+    eff = fit.effects
+    row = eff[eff.term == name]
+    return None if row.empty else row.iloc[0]
+
+
+def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | None = None,
+                   alpha: float | None = None) -> list[Finding]:
+    """Sentences for every term of a fitted model, largest first.
+
+    Parameters
+    ----------
+    fit : ModelFit
+    unit : str
+        Unit of the response (``"%"`` is said as "points").
+    detectable : mapping, optional
+        Smallest detectable effect per term (from the design evaluation), quoted beside
+        effects that were not detected.
+    alpha : float, optional
+        Significance level (default the fit's).
+    """
+    alpha = fit.alpha if alpha is None else alpha
+    detectable = dict(detectable or {})
+    pvals = _anova_p(fit)
+    factors = {f.name: f for f in fit.spec.used_factors}
+    out: list[tuple[float, Finding]] = []
+    quiet_inter: list[tuple[str, float]] = []
+    quiet_curve: list[tuple[str, float]] = []
+    resp = fit.response
+    unit = pretty_unit(unit)
+    for term in fit.spec.terms:
+        name = term.name
+        if name == "block":
+            continue
+        p = pvals.get(name, math.nan)
+        row = _effect_row(fit, name)
+        sig = math.isfinite(p) and p < alpha
+        nums = {"p": p}
+        if row is not None:
+            nums.update(effect=float(row.effect), ci_low=float(row.ci_low),
+                        ci_high=float(row.ci_high))
+        if term.order == 1 and term.power == 1 and row is not None:
+            f = factors[name]
+            eff, lo, hi = float(row.effect), float(row.ci_low), float(row.ci_high)
+            dec = decimals_for((hi - lo) / 2)
+            if f.is_continuous:
+                verb = "increased" if eff > 0 else "decreased"
+                head = f"Raising {name} {_span(f)}"
+                change_sign = 1.0
+            else:
+                # sum coding: the column of the first level; effect = first - second
+                first, second = f.levels[0], f.levels[1]
+                eff, lo, hi = -eff, -hi, -lo
+                verb = "increased" if eff > 0 else "decreased"
+                head = f"Changing {name} from {first} to {second}"
+                change_sign = -1.0
+            nums.update(effect=eff, ci_low=lo, ci_high=hi, sign=change_sign)
+            ci = f"95 % CI {interval(lo, hi, dec)}"
+            if sig:
+                mag = f"95 % CI {interval(lo, hi, dec)}" if eff > 0 else \
+                    f"95 % CI {interval(-hi, -lo, dec)}"
+                text = (f"{head} {verb} {resp} by {_amount(eff, unit, dec)} "
+                        f"({mag}; {fmt_p(p)}).")
+                kind = "effect"
+            else:
+                text = (f"{head} made no detectable difference to {resp} ({fmt_p(p)}; "
+                        f"estimate {fmt(eff, dec)} {unit}, {ci}).".replace(" %,", " points,"))
+                if name in detectable and np.isfinite(detectable[name]):
+                    d = float(detectable[name])
+                    nums["detectable"] = d
+                    text = text[:-1] + (f"; the trial could detect an effect of about "
+                                        f"{_amount(d, unit, dec)}.")
+                kind = "not_detected"
+            out.append((abs(eff) if sig else -1 / (1 + abs(eff)), Finding(text, resp, name,
+                                                                          kind, nums)))
+        elif term.order >= 2 and term.power == 1:
+            a, b = term.factors[0], term.factors[1]
+            if sig:
+                size = ""
+                if row is not None:
+                    dec = decimals_for((nums["ci_high"] - nums["ci_low"]) / 2)
+                    size = f"; interaction effect {fmt(nums['effect'], dec)} {unit}".rstrip()
+                text = (f"The effect of {a} on {resp} depends on {b}" +
+                        (" (and " + ", ".join(term.factors[2:]) + ")"
+                         if len(term.factors) > 2 else "") + f" ({fmt_p(p)}{size}).")
+                out.append((abs(nums.get("effect", 0.0)) + 1e-9, Finding(text, resp, name,
+                                                                         "interaction", nums)))
+            else:
+                quiet_inter.append((name, p))
+        elif term.power == 2:
+            f = term.factors[0]
+            est = fit.coded_coefficients.set_index("term").loc[name, "estimate"]
+            nums["coefficient"] = float(est)
+            if sig:
+                where = "higher in the middle of the range than at its ends" if est < 0 \
+                    else "lower in the middle of the range than at its ends"
+                text = f"{resp.capitalize()} curves along {f}: it is {where} ({fmt_p(p)})."
+                out.append((abs(float(est)) * 2, Finding(text, resp, name, "curvature", nums)))
+            else:
+                quiet_curve.append((f, p))
+    if quiet_inter:
+        listed = "; ".join(f"{n} ({fmt_p(p)})" for n, p in quiet_inter)
+        out.append((-2.0, Finding(f"No interaction on {resp} was detected: {listed}.", resp,
+                                  ", ".join(n for n, _ in quiet_inter), "not_detected",
+                                  {"p": [p for _, p in quiet_inter]})))
+    if quiet_curve:
+        listed = "; ".join(f"along {n} ({fmt_p(p)})" for n, p in quiet_curve)
+        out.append((-3.0, Finding(f"No curvature of {resp} was detected {listed}.", resp,
+                                  ", ".join(n for n, _ in quiet_curve), "not_detected",
+                                  {"p": [p for _, p in quiet_curve]})))
+    out.sort(key=lambda t: -t[0])
+    findings = [f for _, f in out]
+    if math.isfinite(fit.r_squared):
+        pr = fit.pred_r_squared
+        extra = (f", and predicts left-out baths with R² = {pr:.2f}"
+                 if math.isfinite(pr) else "")
+        findings.append(Finding(
+            f"The model for {resp} explains {100 * fit.r_squared:.1f} % of the variation between "
+            f"{fit.n} baths (R² = {fit.r_squared:.2f}{extra}).", resp, "model", "model",
+            {"r_squared": fit.r_squared, "pred_r_squared": pr, "n": fit.n}))
+    return findings
+
+
+def effects_findings(effects, *, unit: str = "") -> list[Finding]:
+    """Sentences for a two-level effects analysis judged by Lenth's margin of error."""
+    df = effects.summary
+    me = effects.lenth.me
+    unit = pretty_unit(unit)
+    dec = decimals_for(me / 2)
+    out = []
+    for r in df.itertuples():
+        nums = {"effect": float(r.effect), "p": float(r.p), "me": me}
+        if r.significant:
+            verb = "raised" if r.effect > 0 else "lowered"
+            text = (f"Going from the low to the high level of {r.term} {verb} "
+                    f"{effects.response} by {_amount(r.effect, unit, dec)}, beyond "
+                    f"Lenth's margin of error of {_amount(me, unit, dec)} ({fmt_p(r.p)}).")
+            out.append(Finding(text, effects.response, r.term, "screening", nums))
+    quiet = [r.term for r in df.itertuples() if not r.significant]
+    if quiet:
+        text = (f"Within Lenth's margin of error ({_amount(me, unit, dec)}), no effect on "
+                f"{effects.response} was detected for: {', '.join(quiet)}.")
+        out.append(Finding(text, effects.response, ", ".join(quiet), "not_detected",
+                           {"me": me}))
+    return out
+
+
+def detectable_effects(evaluation) -> dict[str, float]:
+    """Smallest detectable effect per term from a design evaluation (empty if none)."""
+    summary = getattr(evaluation, "summary", None)
+    if summary is None or "detectable_effect" not in getattr(summary, "columns", ()):
+        return {}
+    return {str(r.term): float(r.detectable_effect) for r in summary.itertuples()
+            if r.detectable_effect is not None and np.isfinite(r.detectable_effect)}
