@@ -1,0 +1,182 @@
+"""The end-to-end demo (trialkit.demo and ``trialkit demo``) on the bundled examples.
+
+The example trials and their readings are invented (``example_trials/``).  The full demo
+runs once per module, as the real command in a subprocess from a temporary folder; a
+second, library run up to the responses checks that plans and numbers repeat.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import re
+import subprocess
+import sys
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+import trialkit
+from trialkit.demo import STAGES, DemoError, DemoResult, bundled_trials, run_demo
+
+REPO = Path(__file__).resolve().parents[1]
+EXAMPLES = REPO / "example_trials"
+
+
+@pytest.fixture(scope="module")
+def cli_run(tmp_path_factory):
+    """``python -m trialkit demo --out DIR`` run once from a temporary folder."""
+    cwd = tmp_path_factory.mktemp("demo-cwd")
+    out = cwd / "out"
+    env = {**os.environ, "PYTHONPATH": str(REPO), "MPLBACKEND": "Agg"}
+    proc = subprocess.run([sys.executable, "-m", "trialkit", "demo", "--out", str(out)],
+                          cwd=cwd, env=env, capture_output=True, text=True, timeout=600)
+    return proc, out
+
+
+@pytest.fixture(scope="module")
+def second_run(tmp_path_factory):
+    """The same demo again through the library, up to the responses."""
+    return run_demo(tmp_path_factory.mktemp("demo-again") / "out", until="responses")
+
+
+def test_cli_demo_writes_a_report_per_bundled_trial(cli_run):
+    proc, out = cli_run
+    assert proc.returncode == 0, proc.stderr[-3000:]
+    names = bundled_trials()
+    assert len(names) >= 3
+    for name in names:
+        report = out / name / "report.html"
+        assert report.is_file()
+        page = report.read_text(encoding="utf-8")
+        title = re.search(r'^title = "(.*)"', (EXAMPLES / name / "trial.toml").read_text(
+            encoding="utf-8"), re.M).group(1)
+        assert title in page
+        # the report was built from ingested readings, not from an empty log
+        assert "no readings recorded yet" not in page
+        assert f"report: {report}" in proc.stdout
+
+
+def test_cli_demo_prints_progress_for_every_stage(cli_run):
+    proc, _ = cli_run
+    for name in bundled_trials():
+        for stage in STAGES:
+            assert re.search(rf"^\[{re.escape(name)}\] {stage}: (done|skipped: .+)",
+                             proc.stderr, re.M), (name, stage)
+    assert "invented" in proc.stdout
+
+
+def test_demo_plans_equal_the_bundled_plans(cli_run):
+    # The bundled plan.csv was written by the examples' generator scripts from the same
+    # trial files and seeds; the demo's fresh plans must be byte for byte the same.
+    _, out = cli_run
+    for name in bundled_trials():
+        assert (out / name / "plan.csv").read_bytes() == \
+            (EXAMPLES / name / "plan.csv").read_bytes()
+
+
+def test_record_log_holds_the_invented_readings(cli_run):
+    # Every coupon reading of the example went sheet -> ingest -> log unchanged.
+    from trialkit.plan import load_plan
+    from trialkit.store import RecordLog
+
+    _, out = cli_run
+    for name in bundled_trials():
+        folder = out / name
+        plan = load_plan(folder)
+        got = RecordLog.for_folder(folder).current_values(plan=plan).set_index("coupon")
+        want = pd.read_csv(folder / "readings" / "coupons.csv").set_index("coupon")
+        for col in ("mass_initial_g", "mass_final_g", "coverage_after_pct"):
+            pd.testing.assert_series_equal(got.loc[want.index, col].astype(float),
+                                           want[col].astype(float), check_names=False)
+
+
+def test_demo_figures_are_png_files(cli_run):
+    _, out = cli_run
+    for name in bundled_trials():
+        figs = sorted((out / name / "figures").glob("*.png"))
+        assert figs
+        assert all(p.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" for p in figs)
+
+
+def test_second_run_gives_the_same_plans_and_responses(cli_run, second_run):
+    _, out = cli_run
+    assert [t.name for t in second_run.trials] == bundled_trials()
+    for t in second_run.trials:
+        assert t.stage("responses").done, t.stages
+        assert len(t.stages) == STAGES.index("responses") + 1
+        first = out / t.name
+        assert (t.folder / "plan.csv").read_bytes() == (first / "plan.csv").read_bytes()
+        a = pd.read_csv(first / "responses_by_bath.csv")
+        b = pd.read_csv(t.folder / "responses_by_bath.csv")
+        pd.testing.assert_frame_equal(a, b)
+
+
+def test_demo_result_reprs_and_dict(second_run):
+    d = second_run.to_dict()
+    json.dumps(d)  # plain data
+    assert [t["name"] for t in d["trials"]] == bundled_trials()
+    assert all(t["numbers"]["fingerprint"] for t in d["trials"])
+    text = repr(second_run)
+    assert "invented" in text and all(n in text for n in bundled_trials())
+    page = second_run._repr_html_()
+    assert "<table" in page and "chelator-sweep" in page
+    summary = second_run.summary
+    assert list(summary.columns)[:3] == ["trial", "baths", "values_stored"]
+    assert (summary["values_stored"] > 0).all()
+
+
+def test_progress_callback_hears_every_stage_run(tmp_path):
+    heard = []
+    res = run_demo(tmp_path / "out", trials=["chelator-sweep"], until="sheets",
+                   progress=lambda *a: heard.append(a))
+    assert [h[1] for h in heard] == list(STAGES[:STAGES.index("sheets") + 1])
+    assert all(h[0] == "chelator-sweep" for h in heard)
+    assert isinstance(res, DemoResult) and res.trials[0].stage("sheets").done
+
+
+def test_recipes_stage_says_why_it_is_skipped_without_a_bath_section(tmp_path):
+    src = tmp_path / "no-bath"
+    src.mkdir()
+    text = (EXAMPLES / "chelator-sweep" / "trial.toml").read_text(encoding="utf-8")
+    # keep the trial, drop any [bath] / [[ingredient]] sections
+    kept, skip = [], False
+    for line in text.splitlines():
+        if re.match(r"^\[\[?(\w+)", line):
+            skip = re.match(r"^\[\[?(\w+)", line).group(1) in ("bath", "ingredient")
+        if not skip:
+            kept.append(line)
+    (src / "trial.toml").write_text("\n".join(kept) + "\n", encoding="utf-8")
+    res = run_demo(tmp_path / "out", trials=[src], until="recipes")
+    stage = res.trials[0].stage("recipes")
+    assert stage.status.startswith("skipped: ") and "[bath]" in stage.status
+    # a skipped recipe does not stop the loop: the stage was recorded, nothing faked
+    assert "mixing_sheet" not in res.trials[0].paths
+
+
+def test_existing_trial_folder_fails_the_copy_and_skips_the_rest(tmp_path):
+    out = tmp_path / "out"
+    (out / "chelator-sweep").mkdir(parents=True)
+    (out / "chelator-sweep" / "old.txt").write_text("x", encoding="utf-8")
+    res = run_demo(out, trials=["chelator-sweep"], until="plan")
+    t = res.trials[0]
+    assert t.stage("copy").status == "failed" and "already exists" in t.stage("copy").detail
+    assert t.stage("plan").status.startswith("skipped: ")
+
+
+def test_bad_arguments_raise_demo_error(tmp_path):
+    with pytest.raises(DemoError, match="no example trial 'no-such-trial'"):
+        run_demo(tmp_path / "a", trials=["no-such-trial"])
+    with pytest.raises(DemoError, match="until must be one of"):
+        run_demo(tmp_path / "b", until="everything")
+
+
+def test_missing_bundled_trials_say_what_to_do(tmp_path, monkeypatch):
+    fake = tmp_path / "site" / "trialkit" / "__init__.py"
+    fake.parent.mkdir(parents=True)
+    fake.write_text("", encoding="utf-8")
+    monkeypatch.setattr(trialkit, "__file__", str(fake))
+    with pytest.raises(DemoError, match=r"pip install -e \.") as info:
+        run_demo(tmp_path / "out")
+    assert str(tmp_path / "site" / "example_trials") in str(info.value)
