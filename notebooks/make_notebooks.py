@@ -1,0 +1,579 @@
+"""Write the five tutorial notebooks of trialkit (outputs cleared).
+
+Usage (from the repository root)::
+
+    python notebooks/make_notebooks.py
+
+Each notebook is a practitioner's task on one of the bundled example trials, whose
+scenarios and readings are invented.  A notebook works in a folder
+``trialkit-demo-notebooks/<nn>/`` under the folder it is run from (ignored by git) and
+ends with a ``results`` dict of its key numbers, which the test suite checks.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import nbformat
+from nbformat.v4 import new_code_cell, new_markdown_cell, new_notebook
+
+HERE = Path(__file__).resolve().parent
+
+INVENTED = ("*The trial and every reading in this notebook are invented for teaching "
+            "(an example trial bundled with trialkit); they are not measurements.*")
+
+SETUP = '''\
+import shutil
+from pathlib import Path
+
+import pandas as pd
+
+from trialkit.demo import example_trials_folder
+
+pd.set_option("display.width", 160)
+EXAMPLES = example_trials_folder()
+WORK = Path("trialkit-demo-notebooks") / "{nn}"
+shutil.rmtree(WORK, ignore_errors=True)  # a fresh copy each run
+WORK.mkdir(parents=True)'''
+
+CAUTION = ("**Safety.** Tetrasodium EDTA solutions are alkaline and citric acid is an acid: "
+           "wear eye and skin protection when weighing and mixing. Acid on steel gives "
+           "hydrogen, so never close a container on a working bath, and ventilate. Spent "
+           "baths hold dissolved iron and other metals: dispose of them as local "
+           "regulations require. The safety data sheets of the ingredients, local codes "
+           "and licensed practice take precedence over anything here.")
+
+BATH_SWEEP = '''\
+[bath]
+adjust_with = "citric acid"      # pH adjuster from the catalogue
+target_ph = 6.5
+temperature = "20 degC"
+volume_per_area = "20 mL/cm2"    # bath volume per coupon area (ASTM G31 minimum)
+containers = ["0.5 L", "1 L", "2 L"]
+
+[[bath.ingredient]]
+name = "tetrasodium EDTA"
+factor = "chelator"              # the factor's value (% w/v) is the amount
+
+[bath.reference]
+ingredients = [{ name = "citric acid", amount = "10 % w/v" }]
+'''
+
+BATH_SURFACE = '''\
+[bath]
+adjust_with = "citric acid"
+temperature = "25 degC"
+volume_per_area = "20 mL/cm2"
+set_by = { target_ph = "ph" }    # the factor ph sets each bath's target pH
+
+[[bath.ingredient]]
+name = "tetrasodium EDTA"
+factor = "chelator"
+
+[[bath.ingredient]]
+name = "non-ionic surfactant"
+amount = "1 mL/L"
+
+[bath.reference]
+ingredients = [{ name = "citric acid", amount = "10 % w/v" }]
+'''
+
+
+def md(text: str):
+    return new_markdown_cell(text.strip("\n"))
+
+
+def code(text: str):
+    return new_code_cell(text.strip("\n"))
+
+
+def nb01():
+    return [
+        md("""
+# 1 · Plan a concentration sweep and check its power
+
+A restoration workshop wants to know which level of a near-neutral chelating bath
+(tetrasodium EDTA set to pH 6.5 with citric acid) cleans rusted steel fastest. The plan:
+six levels from 2 to 20 % w/v in geometric steps, three baths per level, one replicate a
+day, an untreated control and a strong reference bath each day, and a bare *witness*
+coupon in every bath to measure attack on the steel.
+
+Before mixing anything we check that the plan can see the effect we care about; after
+the trial we look at where the best level lies.
+
+""" + INVENTED),
+        code(SETUP.format(nn="01")),
+        md("The trial file says what varies, how the plan is laid out and what is measured."),
+        code('''\
+from trialkit import load_trial, make_plan
+
+shutil.copy(EXAMPLES / "chelator-sweep" / "trial.toml", WORK / "trial.toml")
+trial = load_trial(WORK / "trial.toml")
+print(trial.title)
+print([f.label() for f in trial.factors], trial.design.kind, trial.design.options)
+print(trial.layout)'''),
+        md("""
+The plan numbers the baths, randomises their set-up order within each day (the seed is
+recorded, so the same file gives the same plan) and names every coupon.
+"""),
+        code('''\
+plan = make_plan(trial)
+plan.write(WORK)
+print("plan fingerprint", plan.fingerprint, "seed", plan.seed)
+plan.baths.head(8)'''),
+        code('''\
+plan.baths.groupby(["block", "point"]).size().unstack(fill_value=0)'''),
+        md("""
+## Can it detect what matters?
+
+The experimental unit is the bath. From earlier work we expect baths mixed alike to
+differ by about **2 h** in time to 90 % removal. We want to see a change of 6 h across the
+range (linear term) and a curvature of 4 h (squared term), at alpha 0.05.
+"""),
+        code('''\
+from trialkit.evaluate import evaluate_plan
+
+ev = evaluate_plan(plan, model="chelator + chelator^2", sd=2.0,
+                   effects={"chelator": 6.0, "chelator^2": 4.0})
+ev'''),
+        code('''\
+print("power of the curvature term:", round(ev.power_of("chelator^2"), 3))
+print("copies of the plan needed for 90 % power on both terms:", ev.replicates_needed(0.9))'''),
+        md("""
+## After the trial: where is the best level?
+
+The invented readings of this example (coupon masses, rust coverage before and after,
+and coverage inspections over 48 h) give the responses per bath; the sweep analysis
+fits a quadratic in chelator to the time to 90 % removal and gives the best level with
+its Fieller interval.
+"""),
+        code('''\
+import warnings
+
+from trialkit.analysis.pipeline import analyze_table
+from trialkit.responses import compute_responses
+
+readings = pd.read_csv(EXAMPLES / "chelator-sweep" / "readings" / "coupons.csv")
+timecourse = pd.read_csv(EXAMPLES / "chelator-sweep" / "readings" / "timecourse.csv")
+resp = compute_responses(readings, coupon_spec=trial.coupons, timecourse=timecourse)
+baths = plan.baths.copy()
+baths["time_to_clean"] = baths["bath"].map(resp.bath_values("time_to_90_h").to_dict())
+baths[["bath", "point", "chelator", "time_to_clean"]].head(8)'''),
+        code('''\
+sweep_baths = baths[baths["point"] == "sweep"]
+res = analyze_table(sweep_baths, "time_to_clean", trial.factors, sweep="chelator",
+                    goal="minimize", n_boot=0)
+sw = res.sweep
+print(f"fastest at {sw.best:.2f} % w/v; 95 % interval {sw.fieller_low:.2f} to "
+      f"{sw.fieller_high:.2f} % w/v")
+print(f"practical sweet spot (within tolerance of the best): {sw.sweet_spot:.2f} % w/v")'''),
+        md("""
+More chelator than the sweet spot buys nothing but cost: removal slows again at high
+levels. The next step is a response surface around this level (notebook 5).
+"""),
+        code('''\
+results = {"fingerprint": plan.fingerprint, "baths": len(plan.baths),
+           "power_curvature": ev.power_of("chelator^2"),
+           "replicates_for_90": ev.replicates_needed(0.9),
+           "best": float(sw.best), "interval": [float(sw.fieller_low), float(sw.fieller_high)]}
+results'''),
+    ]
+
+
+def nb02():
+    return [
+        md("""
+# 2 · Mix the baths
+
+Every bath of the sweep plan needs its own recipe: grams of tetrasodium EDTA for the
+planned % w/v, the citric acid that brings it to pH 6.5 (worked out with PHREEQC's
+aqueous speciation), a volume that suits the coupon area, and the cost. This notebook
+adds a `[bath]` section to the trial file and prints the mixing sheet.
+
+""" + INVENTED + "\n\n" + CAUTION),
+        code(SETUP.format(nn="02")),
+        md("The bath section names the ingredients and which factor sets which amount."),
+        code(f'''\
+BATH_SECTION = """
+{BATH_SWEEP}"""
+text = (EXAMPLES / "chelator-sweep" / "trial.toml").read_text(encoding="utf-8")
+(WORK / "trial.toml").write_text(text + BATH_SECTION, encoding="utf-8")
+print(BATH_SECTION)'''),
+        code('''\
+from trialkit import load_plan
+from trialkit.chemistry.mixing_sheet import recipes_for_plan
+
+plan = load_plan(WORK)
+sheet = recipes_for_plan(plan)
+sheet'''),
+        md("One row per ingredient of every distinct recipe (baths mixed alike share one):"),
+        code('''\
+sheet.table()[["recipe", "bath", "volume_l", "ingredient", "grams", "basis", "target_ph",
+               "predicted_ph"]]'''),
+        md("The steps for one bath, with the pH adjustment in small portions near the target:"),
+        code('''\
+one = next(r for r in sheet.recipes if r.bath == plan.baths.loc[
+    plan.baths["chelator"].idxmin(), "bath"])
+for step in one.to_dict()["steps"]:
+    print("-", step)'''),
+        code('''\
+costs = pd.DataFrame([{"bath": r.bath, "cost_per_l": r.to_dict()["cost_per_l"],
+                       "currency": r.to_dict()["currency"]} for r in sheet.recipes])
+costs = costs.merge(plan.baths[["bath", "point", "chelator"]], on="bath")
+costs.sort_values(["point", "chelator"])'''),
+        md("The bill of materials for the whole trial, with a spare margin, and the cautions:"),
+        code('''\
+pd.DataFrame(sheet.to_dict()["materials"])'''),
+        code('''\
+for c in sheet.cautions:
+    print("-", c)
+print(sheet.write_csv(WORK / "mixing_sheet.csv"))
+print(sheet.write_html(WORK / "mixing_sheet.html"))'''),
+        code('''\
+sweep_costs = costs[costs["point"] == "sweep"].sort_values("chelator")
+lowest = next(r for r in sheet.recipes if r.bath == one.bath).to_dict()
+edta = next(i for i in lowest["ingredients"] if i["name"] == "tetrasodium EDTA")
+results = {"recipes": len(sheet.recipes),
+           "sweep_cost_per_l": sweep_costs["cost_per_l"].tolist(),
+           "lowest_chelator": float(plan.baths["chelator"].min()),
+           "lowest_volume_l": lowest["volume_l"], "lowest_edta_g": edta["grams"],
+           "edta_note": edta["note"],
+           "ph_error": max(abs(r.to_dict()["predicted_ph"] - r.to_dict()["target_ph"])
+                           for r in sheet.recipes if r.to_dict()["target_ph"] == 6.5),
+           "cautions": list(sheet.cautions)}
+results'''),
+    ]
+
+
+def nb03():
+    return [
+        md("""
+# 3 · Record and read in the readings
+
+At the bench the readings go onto a recording sheet exported from the plan: the plan
+columns are filled in and locked, the reading columns are empty. When the sheet comes
+back it is checked against the plan *before* anything is stored, and every problem is
+listed at once. Accepted values go into an append-only record log that keeps every
+value and every correction.
+
+Here a program fills the sheet from the invented readings of the five-factor screen;
+then we spoil a copy on purpose to see the checks at work.
+
+""" + INVENTED),
+        code(SETUP.format(nn="03")),
+        code('''\
+from trialkit import load_plan
+from trialkit.sheets import export_csv, export_xlsx
+
+src = EXAMPLES / "five-factor-screen"
+shutil.copy(src / "trial.toml", WORK / "trial.toml")
+shutil.copytree(src / "readings", WORK / "readings")
+plan = load_plan(WORK)
+plan.write(WORK)
+xlsx = export_xlsx(plan, WORK / "recording_sheet.xlsx")
+csv = export_csv(plan, WORK / "recording_sheet.csv")
+print(xlsx.name, csv.name)
+print("".join(csv.read_text(encoding="utf-8-sig").splitlines(keepends=True)[:4]))'''),
+        md("""
+The CSV shows the layout: a stamp line (plan fingerprint and seed), headings with units,
+the machine names ingest finds the columns by, then one row per coupon. We fill a copy
+of the workbook from the readings file.
+"""),
+        code('''\
+from trialkit.fill import fill_sheet
+
+filled = fill_sheet(xlsx, WORK / "readings" / "coupons.csv", WORK / "filled.xlsx")
+filled'''),
+        md("""
+## A sheet with mistakes
+
+Typical bench slips: a decimal comma typed into a mass, a coverage of 180 %, a final
+mass above the initial one, and a coupon id overwritten in a plan column.
+"""),
+        code('''\
+from openpyxl import load_workbook
+
+wb = load_workbook(filled.path)
+ws = wb["Coupon readings"]
+names = [c.value for c in ws[4]]
+col = {n: i + 1 for i, n in enumerate(names)}
+first = 5
+ws.cell(first, col["mass_initial_g"]).value = "19,7x"          # not a number
+ws.cell(first + 1, col["coverage_after_pct"]).value = 180.0    # out of range
+ws.cell(first + 2, col["mass_final_g"]).value = ws.cell(first + 2, col["mass_initial_g"]).value + 1.0
+ws.cell(first + 3, col["coupon"]).value = "B99-R7"            # plan column edited
+wb.save(WORK / "filled_with_mistakes.xlsx")'''),
+        code('''\
+from trialkit.sheets import ingest_sheet
+from trialkit.store import RecordLog
+
+log = RecordLog.for_folder(WORK)
+bad = ingest_sheet(WORK / "filled_with_mistakes.xlsx", plan, log=log)
+print(bad.message)
+bad.refused[["row", "column", "value", "check", "message", "fix"]]'''),
+        md("Nothing was stored: a refused sheet leaves the record log as it was."),
+        code('''\
+print("values in the log:", log.count())'''),
+        md("## The clean sheet goes in"),
+        code('''\
+good = ingest_sheet(filled.path, plan, log=log)
+print(good.message)
+print("values in the log:", log.count())'''),
+        md("""
+## A correction
+
+A week later a coupon is re-weighed after one more cleaning cycle. The corrected sheet is
+read in again: only the changed value is stored, as revision 2, and the old value stays
+in the history.
+"""),
+        code('''\
+wb = load_workbook(filled.path)
+ws = wb["Coupon readings"]
+coupon = ws.cell(first, col["coupon"]).value
+old = ws.cell(first, col["mass_final_g"]).value
+ws.cell(first, col["mass_final_g"]).value = round(old - 0.0012, 4)
+wb.save(WORK / "filled_corrected.xlsx")
+fix = ingest_sheet(WORK / "filled_corrected.xlsx", plan, log=log)
+print(fix.message)
+hist = log.history(coupon)
+hist[hist["field"] == "mass_final_g"][["coupon", "field", "value", "revision", "source"]]'''),
+        code('''\
+current = log.current_values(plan=plan).set_index("coupon")
+results = {"refused": not bad.ok, "problems": len(bad.refused),
+           "checks": sorted(set(bad.refused["check"])),
+           "stored": int(len(good.accepted)), "corrections": int(len(fix.accepted)),
+           "revision": int(fix.accepted["revision"].max()),
+           "coupon": coupon, "old_mass": float(old),
+           "current_mass": float(current.loc[coupon, "mass_final_g"])}
+results'''),
+    ]
+
+
+def nb04():
+    return [
+        md("""
+# 4 · Analyse the screening trial
+
+A formulation lab screened five variables of a chelating bath in a 2^(5-1) half
+fraction (16 baths, resolution V) with four centre points: chelator level, pH,
+temperature, a wetting agent (none/added) and agitation (none/periodic). Which of them
+speed up rust removal, and which attack the bare steel?
+
+The demo library runs plan, sheets, fill and ingest in one call; we then work from the
+record log like any other trial.
+
+""" + INVENTED),
+        code(SETUP.format(nn="04")),
+        code('''\
+from trialkit.demo import run_demo
+
+demo = run_demo(WORK, trials=["five-factor-screen"], until="responses")
+demo'''),
+        code('''\
+from trialkit import load_plan, load_responses
+
+folder = demo.trials[0].folder
+plan = load_plan(folder)
+responses = load_responses(folder)
+baths = plan.baths.copy()
+for spec in plan.trial.responses:
+    baths[spec.name] = baths["bath"].map(
+        responses.bath_values(spec.measure or spec.name).to_dict())
+screen = baths[~baths["point"].isin(["control", "reference"])].reset_index(drop=True)
+screen[["bath", "point", "chelator", "ph", "temperature", "surfactant", "agitation",
+        "removal", "attack"]]'''),
+        md("""
+## Removal: a main-effects model
+
+With 20 baths and 5 factors a main-effects model leaves plenty of degrees of freedom
+for error; the centre points also test for curvature.
+"""),
+        code('''\
+from trialkit.analysis.model import fit_model
+
+ALPHA = 0.05
+fit = fit_model(screen, "removal", plan.trial.factors, "main", alpha=ALPHA)
+anova = fit.anova(2)
+anova.summary'''),
+        code('''\
+fit.effects'''),
+        md("""
+Lenth's method on the 16 corner baths gives the same picture without needing a
+residual: effects beyond the margin stand out.
+"""),
+        code('''\
+from trialkit.analysis.effects import two_level_effects
+
+lenth = two_level_effects(screen, "removal", plan.trial.factors, max_order=2)
+lenth'''),
+        md("""
+## Attack on the steel
+
+Base-metal attack grows multiplicatively (each factor multiplies the rate), so it is
+analysed on the log scale.
+"""),
+        code('''\
+import numpy as np
+
+screen["log_attack"] = np.log(screen["attack"])
+fit_attack = fit_model(screen, "log_attack", plan.trial.factors, "main", alpha=ALPHA)
+fit_attack.anova(2).summary'''),
+        code('''\
+def significant(f):
+    p = f.anova(2).summary.set_index("term")["p"]
+    return {name: float(p[name]) for name in [x.name for x in plan.trial.factors]}
+
+p_removal, p_attack = significant(fit), significant(fit_attack)
+print("speed up removal:", [k for k, v in p_removal.items() if v < ALPHA])
+print("attack the steel:", [k for k, v in p_attack.items() if v < ALPHA])'''),
+        md("""
+The wetting agent changes neither. pH, temperature and agitation matter for both, so
+the follow-up (notebook 5) fixes temperature and agitation and maps chelator and pH.
+"""),
+        code('''\
+results = {"alpha": ALPHA, "p_removal": p_removal, "p_attack": p_attack,
+           "factors": [f.name for f in plan.trial.factors]}
+results'''),
+    ]
+
+
+def nb05():
+    return [
+        md("""
+# 5 · Fit the surface, trade off removal, attack and cost, write the report
+
+After the screen, the lab mapped chelator (3 to 7 % w/v) and pH (4.5 to 7.5) in a
+face-centred central composite, two replicates over two days, at 25 °C with a wetting
+agent. Acidic baths clean faster but attack the steel; more chelator costs more. We fit a
+second-order surface to each response, find the best compromise with Derringer–Suich
+desirability, and write the report.
+
+""" + INVENTED + "\n\n" + CAUTION),
+        code(SETUP.format(nn="05")),
+        code('''\
+from trialkit.demo import run_demo
+
+demo = run_demo(WORK, trials=["surface-follow-up"], until="responses")
+folder = demo.trials[0].folder
+print(demo)'''),
+        md("""
+The cost of each bath comes from its recipe, so the trial file gets a `[bath]` section
+(it does not change the plan: same fingerprint).
+"""),
+        code(f'''\
+from trialkit import load_plan, load_responses
+from trialkit.chemistry.mixing_sheet import recipes_for_plan
+
+trial_file = folder / "trial.toml"
+if "adjust_with" not in trial_file.read_text(encoding="utf-8"):  # add it once
+    trial_file.write_text(trial_file.read_text(encoding="utf-8") + """
+{BATH_SURFACE}""", encoding="utf-8")
+plan = load_plan(folder)
+print("plan fingerprint", plan.fingerprint)
+sheet = recipes_for_plan(plan)
+recipe_of = sheet.to_dict()["bath_recipe"]
+cost_of = {{b: sheet.recipes[k - 1].to_dict()["cost_per_l"] for b, k in recipe_of.items()}}'''),
+        code('''\
+responses = load_responses(folder)
+baths = plan.baths.copy()
+for spec in plan.trial.responses:
+    if spec.name == "cost":
+        baths["cost"] = baths["bath"].map(cost_of)
+    else:
+        baths[spec.name] = baths["bath"].map(
+            responses.bath_values(spec.measure or spec.name).to_dict())
+surface_baths = baths[baths["point"] != "reference"].reset_index(drop=True)
+surface_baths[["bath", "block", "point", "chelator", "ph", "removal", "attack", "cost"]].head()'''),
+        md("## One surface per response"),
+        code('''\
+from trialkit.analysis.model import fit_model
+from trialkit.analysis.surface import fit_surface
+
+factors = plan.trial.factors
+fits = {name: fit_model(surface_baths, name, factors, "quadratic")
+        for name in ("removal", "attack", "cost")}
+fits["removal"].anova(2).summary'''),
+        code('''\
+best_removal = fit_surface(fits["removal"], goal="maximize", n_boot=400, seed=plan.seed)
+print(best_removal.kind, best_removal.optimum["settings"])
+best_removal.bootstrap'''),
+        md("""
+Removal alone would push pH to the acidic edge, where the witness coupons show the
+steel being eaten. The compromise: removal between 50 % (useless) and 90 % (enough),
+attack between 0.05 mm/y (none) and 0.30 mm/y (too much for finished parts), cost as
+low as the range allows with half the importance, as the trial file says.
+"""),
+        code('''\
+from trialkit.analysis.desirability import Goal, optimize_desirability
+
+specs = {s.name: s for s in plan.trial.responses}
+goals = [Goal("removal", "maximize", lower=50.0, upper=90.0),
+         Goal("attack", "minimize", lower=0.05, upper=0.30),
+         Goal("cost", "minimize", lower=float(surface_baths["cost"].min()),
+              upper=float(surface_baths["cost"].max()),
+              weight=specs["cost"].weight, importance=specs["cost"].importance)]
+two = optimize_desirability({k: fits[k] for k in ("removal", "attack")}, goals[:2],
+                            seed=plan.seed, n_starts=4)
+three = optimize_desirability(fits, goals, seed=plan.seed, n_starts=4)
+print("removal and attack:       ", {k: round(v, 2) for k, v in two.settings.items()},
+      f"D = {two.overall:.2f}")
+print("removal, attack and cost: ", {k: round(v, 2) for k, v in three.settings.items()},
+      f"D = {three.overall:.2f}")
+three.summary'''),
+        md("""
+## The report
+
+The report gathers the plan, the readings, the models, the recommended recipe and how to
+confirm it, with the safety cautions. It is one self-contained HTML file.
+"""),
+        code('''\
+from trialkit.report.build import build_report
+
+report = build_report(folder, baths=baths)
+path = report.write(folder / "report.html")
+print(path)
+report'''),
+        code('''\
+results = {"removal_optimum": best_removal.optimum["settings"],
+           "removal_interval": {r.factor: [float(r.low), float(r.high)]
+                                for r in best_removal.bootstrap.itertuples()},
+           "compromise_two": two.settings, "compromise_three": three.settings,
+           "cost_at_two": float(fits["cost"].predict(two.settings).predicted.iloc[0]),
+           "cost_at_three": float(fits["cost"].predict(three.settings).predicted.iloc[0]),
+           "report": str(path), "sections": [s.key for s in report.sections if s.available]}
+results'''),
+    ]
+
+
+NOTEBOOKS = {
+    "01_plan_a_sweep_and_check_power.ipynb": nb01,
+    "02_mix_the_baths.ipynb": nb02,
+    "03_record_and_ingest.ipynb": nb03,
+    "04_analyse_the_screening_trial.ipynb": nb04,
+    "05_fit_the_surface_and_report.ipynb": nb05,
+}
+
+
+def build(name: str) -> nbformat.NotebookNode:
+    """The notebook ``name`` (a key of :data:`NOTEBOOKS`), outputs empty."""
+    nb = new_notebook(cells=NOTEBOOKS[name]())
+    nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
+                                 "language": "python"}
+    nb.metadata["language_info"] = {"name": "python"}
+    for i, cell in enumerate(nb.cells):
+        cell["id"] = f"{name[:2]}-{i:02d}"  # stable ids: regenerating changes nothing
+    return nb
+
+
+def main(argv: list[str] | None = None) -> int:
+    for name in NOTEBOOKS:
+        nb = build(name)
+        nbformat.validate(nb)
+        nbformat.write(nb, HERE / name)
+        print(f"wrote {HERE / name}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
