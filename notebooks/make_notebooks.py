@@ -301,7 +301,8 @@ col = {n: i + 1 for i, n in enumerate(names)}
 first = 5
 ws.cell(first, col["mass_initial_g"]).value = "19,7x"          # not a number
 ws.cell(first + 1, col["coverage_after_pct"]).value = 180.0    # out of range
-ws.cell(first + 2, col["mass_final_g"]).value = ws.cell(first + 2, col["mass_initial_g"]).value + 1.0
+initial = ws.cell(first + 2, col["mass_initial_g"]).value
+ws.cell(first + 2, col["mass_final_g"]).value = initial + 1.0     # heavier after?
 ws.cell(first + 3, col["coupon"]).value = "B99-R7"            # plan column edited
 wb.save(WORK / "filled_with_mistakes.xlsx")'''),
         code('''\
