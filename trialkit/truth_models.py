@@ -323,9 +323,9 @@ EXAMPLES: dict[str, ExampleScenario] = {
         folder="five-factor-screen",
         truth=BathTruth(
             name="five-factor screen (invented)",
-            description="chelator, pH, temperature and agitation change removal; surfactant "
-                        "changes nothing; pH, temperature, agitation and (weakly) chelator "
-                        "change attack",
+            description="chelator (peak at 5 % w/v), pH, temperature and agitation change "
+                        "removal; pH, temperature and agitation change attack; surfactant "
+                        "changes nothing",
             baseline={"chelator": 4.0, "ph": 6.5, "temperature": 30.0,
                       "surfactant": "none", "agitation": "none"}),
         seed=8105, immersion_h=8.0, inspections_h=(1.0, 2.0, 4.0, 8.0)),
