@@ -227,6 +227,9 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     -------
     SimulatedReadings
     """
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise SimulationError(f"seed must be a whole number >= 0 (the readings must be "
+                              f"reproducible); got {seed!r}")
     inspections = sorted(float(t) for t in (inspections_h or ()))
     if any(t <= 0 for t in inspections):
         raise SimulationError(f"inspection times must be above 0 h; got {inspections}")
