@@ -278,6 +278,24 @@ count = 2
         simulate_readings(p, BathTruth(), seed=1)
 
 
+def test_factor_in_another_unit_is_refused():
+    p = make_plan(parse_trial_text("""
+[trial]
+title = "t"
+seed = 1
+[[factor]]
+name = "chelator"
+unit = "g/L"
+low = 20
+high = 80
+[design]
+kind = "sweep"
+count = 2
+"""))
+    with pytest.raises(SimulationError, match="g/L"):
+        simulate_readings(p, BathTruth(), seed=1)
+
+
 @pytest.mark.parametrize("kwargs, match", [
     ({"seed": None}, "seed must be"),
     ({"seed": -1}, "seed must be"),

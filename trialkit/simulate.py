@@ -58,7 +58,7 @@ import pandas as pd
 
 from trialkit.plan import Plan
 from trialkit.readings import COUPON_FIELDS, TIMECOURSE_FIELDS, cleaning_cycle_fields
-from trialkit.truth_models import BathTruth, SimulationError
+from trialkit.truth_models import ROLE_UNITS, BathTruth, SimulationError
 
 #: ASTM G1 corrosion-rate constant for mm/y (W in g, A in cm², T in h, D in g/cm³).
 K_MM_PER_Y = 8.76e4
@@ -247,6 +247,11 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     cycles = plan.trial.coupons.cleaning_cycles if plan.trial.coupons else 0
     factor_names = plan.factor_names
     truth.conditions({n: np.nan for n in factor_names})  # refuses unknown factor names
+    wrong = [f"{f.name} in {f.unit!r} (needs {ROLE_UNITS[f.name]!r})" for f in plan.trial.factors
+             if f.is_continuous and f.unit not in ("", ROLE_UNITS.get(f.name, f.unit))]
+    if wrong:
+        raise SimulationError(f"the truth model reads factors in fixed units; got "
+                              f"{', '.join(wrong)}. Give the factors those units.")
 
     streams = [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(5)]
     rng_block, rng_bath, rng_coupon, rng_inspect, rng_cycles = streams

@@ -49,6 +49,8 @@ from trialkit.exceptions import TrialkitError
 GAS_CONSTANT = 6.02214076e23 * 1.380649e-23  # J/(mol K): N_A k, both exact in the SI (2019)
 ZERO_CELSIUS_K = 273.15
 ROLES = ("chelator", "ph", "temperature", "surfactant", "agitation")
+#: Units the model reads continuous factors in.
+ROLE_UNITS = {"chelator": "% w/v", "ph": "pH", "temperature": "degC"}
 
 
 class SimulationError(TrialkitError):
