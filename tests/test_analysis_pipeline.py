@@ -50,7 +50,10 @@ def _readings(plan, seed=5):
 def trial_folder(tmp_path, monkeypatch):
     folder = tmp_path / "trial"
     folder.mkdir()
-    text = STARTER.read_text(encoding="utf-8") + (
+    text = STARTER.read_text(encoding="utf-8").replace(
+        'measure = "removal_pct"', 'measure = "removal_pct"\nlower = 40\nupper = 95').replace(
+        'measure = "corrosion_rate_mm_per_y"',
+        'measure = "corrosion_rate_mm_per_y"\nlower = 0.0\nupper = 1.0') + (
         '\n[analysis]\nmodel = "chelator + ph + surfactant"\nanova_type = 3\n')
     (folder / "trial.toml").write_text(text, encoding="utf-8")
     trial = load_trial(folder)
@@ -143,3 +146,20 @@ def test_result_objects_have_summary_html_and_json():
         assert obj._repr_html_().lstrip().startswith("<")
         assert type(obj).__name__[:4] in repr(obj) or "Response" in repr(obj)
         json.dumps(obj.to_dict(), allow_nan=False, default=float)
+
+
+def test_trial_folder_compromise(trial_folder, capsys):
+    """Best compromise of removal (maximize) and attack (minimize) from the trial's limits."""
+    code = main(["analyze", str(trial_folder), "--compromise", "--json"])
+    cap = capsys.readouterr()
+    assert code == 0, cap.err
+    d = json.loads(cap.out)
+    assert {r["response"] for r in d["responses"]} == {"removal_pct_mean",
+                                                       "corrosion_rate_mm_per_y_mean"}
+    assert 0 < d["overall_desirability"] <= 1
+    for r in d["responses"]:
+        assert r["pi_low"] < r["predicted"] < r["pi_high"]
+    # overall = geometric mean of the individual desirabilities (equal importance)
+    ds = [r["desirability"] for r in d["responses"]]
+    assert d["overall_desirability"] == pytest.approx(np.sqrt(ds[0] * ds[1]), rel=1e-9)
+    assert d["settings"]["surfactant"] in ("none", "added")
