@@ -53,6 +53,16 @@ _EXPORTS: dict[str, str] = {
     "Plan": "trialkit.plan",
     "make_plan": "trialkit.plan",
     "load_plan": "trialkit.plan",
+    # sheets and the record log
+    "export_xlsx": "trialkit.sheets",
+    "export_csv": "trialkit.sheets",
+    "export_html": "trialkit.sheets",
+    "ingest_sheet": "trialkit.sheets",
+    "check_sheet": "trialkit.sheets",
+    "IngestReport": "trialkit.sheets",
+    "SheetConfig": "trialkit.sheets",
+    "sheet_config": "trialkit.sheets",
+    "RecordLog": "trialkit.store",
     # responses
     "coupon_area_cm2": "trialkit.geometry",
     "metal": "trialkit.materials",

@@ -12,9 +12,9 @@ from collections.abc import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
-from pyDOE3 import fracfact, fullfact, pbdesign
 
 from trialkit.designs._common import two_level_frame
+from trialkit.designs._pydoe import fracfact, fullfact, pbdesign
 from trialkit.designs.aliasing import AliasStructure, alias_structure, roman, word_text
 from trialkit.designs.base import Design
 from trialkit.designs.generators import (
