@@ -179,3 +179,10 @@ def test_trial_folder_compromise(trial_folder, capsys):
     ds = [r["desirability"] for r in d["responses"]]
     assert d["overall_desirability"] == pytest.approx(np.sqrt(ds[0] * ds[1]), rel=1e-9)
     assert d["settings"]["surfactant"] in ("none", "added")
+
+
+def test_package_exports_resolve():
+    import trialkit.analysis as ta
+
+    for name in ta.__all__:
+        assert getattr(ta, name).__name__ == name
