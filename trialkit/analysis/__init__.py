@@ -9,7 +9,8 @@ Modules: :mod:`~trialkit.analysis.model` (fit), :mod:`~trialkit.analysis.anova` 
 :mod:`~trialkit.analysis.desirability`, :mod:`~trialkit.analysis.confirm`,
 :mod:`~trialkit.analysis.pipeline` (everything for one response),
 :mod:`~trialkit.analysis.config` (the ``[analysis]`` trial-file section).
-Public names are imported on first use so that importing this package stays light.
+Public names are imported on first use so that importing this package stays light
+(``confirm`` is not re-exported here: it is also the name of its module).
 """
 
 from __future__ import annotations
@@ -35,7 +36,6 @@ _EXPORTS: dict[str, str] = {
     "Goal": "trialkit.analysis.desirability",
     "optimize_desirability": "trialkit.analysis.desirability",
     "DesirabilityResult": "trialkit.analysis.desirability",
-    "confirm": "trialkit.analysis.confirm",
     "ConfirmationResult": "trialkit.analysis.confirm",
     "analyze_table": "trialkit.analysis.pipeline",
     "best_compromise": "trialkit.analysis.pipeline",
