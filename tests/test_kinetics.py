@@ -1,0 +1,140 @@
+"""Removal kinetics: agreement with scipy.optimize.curve_fit (reference library) and
+interval coverage on simulated data (invented data, seeded)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy.optimize import curve_fit
+
+from trialkit.exceptions import ResponseError
+from trialkit.kinetics import (
+    first_order,
+    fit_baths,
+    fit_removal,
+    lag_plateau,
+    time_ratio,
+)
+
+TIMES = np.array([0.0, 1, 2, 4, 6, 8, 12, 24])
+
+
+def _noisy(seed, fun, *params, sd=2.0, t=TIMES):
+    rng = np.random.default_rng(seed)  # invented data for self-consistency checks
+    return np.clip(fun(t, *params) + rng.normal(0.0, sd, t.size), 0.0, 100.0)
+
+
+@pytest.mark.parametrize("seed", [11, 12, 13])
+def test_first_order_agrees_with_curve_fit(seed):
+    # reference library: scipy.optimize.curve_fit on the same data (invented, seeded)
+    y = _noisy(seed, first_order, 80.0, 0.25)
+    fit = fit_removal(TIMES, y, model="first_order")
+    popt, pcov = curve_fit(first_order, TIMES, y, p0=[50.0, 0.1], xtol=1e-14, ftol=1e-14)
+    assert fit.params["c0"] == pytest.approx(popt[0], rel=1e-6)
+    assert fit.k_per_h == pytest.approx(popt[1], rel=1e-6)
+    assert fit.k_se == pytest.approx(math.sqrt(pcov[1, 1]), rel=1e-4)
+
+
+def test_lag_plateau_agrees_with_curve_fit():
+    # curve_fit started from the true values (not ours) must land on the same optimum
+    truth = (85.0, 10.0, 0.4, 3.0)
+    y = _noisy(21, lag_plateau, *truth, sd=1.0)
+    fit = fit_removal(TIMES, y, model="lag_plateau")
+    popt, _ = curve_fit(lag_plateau, TIMES, y, p0=list(truth), xtol=1e-14, ftol=1e-14)
+    got = [fit.params[k] for k in ("c0", "c_inf", "k", "lag")]
+    assert got == pytest.approx(list(popt), rel=1e-6)
+
+
+def test_aic_picks_the_model_that_made_the_data():
+    lagged = _noisy(31, lag_plateau, 85.0, 10.0, 0.4, 3.0, sd=1.0)
+    plain = _noisy(32, first_order, 80.0, 0.25, sd=1.0)
+    assert fit_removal(TIMES, lagged).model == "lag_plateau"
+    assert fit_removal(TIMES, plain).model == "first_order"
+
+
+def test_rate_constant_interval_covers_truth_in_200_simulations():
+    # invented data: 200 seeded simulations, k = 0.2 /h, noise SD 2 % coverage;
+    # a 95 % interval must contain the true k in >= 90 % of them (issue 5 check)
+    hits = 0
+    for seed in range(200):
+        y = _noisy(1000 + seed, first_order, 80.0, 0.2)
+        fit = fit_removal(TIMES, y, model="first_order")
+        hits += fit.k_lower <= 0.2 <= fit.k_upper
+    assert hits >= 180
+
+
+def test_half_life_of_exact_first_order_curve():
+    # textbook first-order kinetics: t50 = ln 2 / k, t90 = ln 10 / k
+    fit = fit_removal(TIMES, first_order(TIMES, 70.0, 0.3))
+    assert fit.time_to_50_h == pytest.approx(math.log(2) / 0.3, rel=1e-8)
+    assert fit.time_to_90_h == pytest.approx(math.log(10) / 0.3, rel=1e-8)
+    assert fit.reached_90 and fit.notes == []
+
+
+def test_ninety_percent_not_reached_is_said_not_extrapolated():
+    t = np.array([0.0, 1, 2, 3, 4])  # k = 0.1: t90 = 23 h, far beyond the last reading
+    fit = fit_removal(t, first_order(t, 60.0, 0.1))
+    assert fit.reached_50 is False and fit.reached_90 is False
+    assert math.isnan(fit.time_to_90_h)
+    assert fit.time_to_90_model_h == pytest.approx(math.log(10) / 0.1, rel=1e-8)
+    assert any("90 % removal not reached" in n for n in fit.notes)
+
+
+def test_plateau_above_ten_percent_never_reaches_90():
+    y = lag_plateau(TIMES, 80.0, 20.0, 0.5, 1.0)
+    fit = fit_removal(TIMES, y, model="lag_plateau")
+    assert math.isinf(fit.time_to_90_model_h) and not fit.reached_90
+    assert "levels off" in " ".join(fit.notes)
+
+
+def test_time_ratio_exact_and_interval():
+    # exact curves: t90 ratio = k_ref / k = 0.3 / 0.15 = 2
+    fast = fit_removal(TIMES, first_order(TIMES, 80.0, 0.3) + 1e-9 * TIMES)
+    slow_t = np.array([0.0, 2, 4, 8, 16, 24, 32])
+    slow = fit_removal(slow_t, first_order(slow_t, 80.0, 0.15) + 1e-9 * slow_t)
+    r = time_ratio(slow, fast, bath="B02", reference_name="B01")
+    assert r.ratio == pytest.approx(2.0, rel=1e-6)
+    assert "B02 takes 2x as long as B01" in r.text
+    noisy_fast = fit_removal(TIMES, _noisy(41, first_order, 80.0, 0.3))
+    noisy_slow = fit_removal(slow_t, _noisy(42, first_order, 80.0, 0.15, t=slow_t))
+    rn = time_ratio(noisy_slow, noisy_fast)
+    assert rn.lower < 2.0 < rn.upper and rn.lower < rn.ratio < rn.upper
+
+
+def test_time_ratio_refuses_unreached_level():
+    t = np.array([0.0, 1, 2, 3, 4])
+    slow = fit_removal(t, first_order(t, 60.0, 0.1))
+    fast = fit_removal(TIMES, first_order(TIMES, 60.0, 0.3))
+    with pytest.raises(ResponseError, match="does not reach 90 %"):
+        time_ratio(slow, fast)
+
+
+def test_fit_baths_pools_coupons_and_reports_failures():
+    rows = []
+    for bath, k in (("B01", 0.3), ("B02", 0.15)):
+        for coupon in ("R1", "R2"):
+            for ti in TIMES:
+                rows.append({"bath": bath, "coupon": f"{bath}-{coupon}", "elapsed_h": ti,
+                             "coverage_pct": float(first_order(ti, 75.0, k))})
+    rows.append({"bath": "B03", "coupon": "B03-R1", "elapsed_h": 0.0, "coverage_pct": 50.0})
+    table, fits, failed = fit_baths(pd.DataFrame(rows))
+    assert list(table["bath"]) == ["B01", "B02"]
+    assert table["rate_constant_per_h"].tolist() == pytest.approx([0.3, 0.15], rel=1e-8)
+    assert table["timecourse_n"].tolist() == [16, 16]
+    assert failed and failed[0][0] == "B03" and "3 or more times" in failed[0][1]
+
+
+@pytest.mark.parametrize(
+    "t, y, words",
+    [
+        ([0, 1, -2, 3], [50, 40, 30, 20], "elapsed_h >= 0"),
+        ([0, 1, 2, 3], [50, 140, 30, 20], "within 0-100"),
+        ([0, 1, 1], [50, 40, 30], "3 or more times"),
+    ],
+)
+def test_bad_timecourse_input(t, y, words):
+    with pytest.raises(ResponseError, match=words):
+        fit_removal(t, y)

@@ -1,0 +1,46 @@
+"""Safety cautions printed with every recipe and mixing sheet.
+
+The texts are the usual cautions of the trade; they defer to the safety data sheets,
+local codes and licensed practice.
+"""
+
+from __future__ import annotations
+
+GENERAL = (
+    "Wear eye protection (splash goggles) and chemical-resistant gloves while weighing, "
+    "mixing and handling baths; rinse splashes on skin or eyes with plenty of water.",
+    "Read the safety data sheet of every ingredient before use; it, your local codes and "
+    "licensed practice take precedence over this sheet.",
+    "Work with good ventilation.",
+    "Spent baths hold dissolved iron and other metals: dispose of them per local "
+    "regulations and the safety data sheets, never simply down the drain.",
+    "Predicted pH values are model estimates: confirm every bath with a calibrated pH meter.",
+)
+
+BY_HAZARD = {
+    "alkaline": "Alkaline solid and bath: irritating to eyes and skin; keep away from "
+                "aluminium, zinc and galvanised parts.",
+    "corrosive_base": "Sodium hydroxide is corrosive and heats water as it dissolves: add "
+                      "it slowly to cold water while stirring, never water onto the solid.",
+    "acidic": "Acidic solid or liquid: acid baths attack steel and release hydrogen -- "
+              "never keep an acid bath with steel in a closed container; leave it vented, "
+              "away from flames and sparks.",
+    "oxidiser": "Oxidiser: keep away from organic material and reducing agents.",
+    "irritant": "Irritant: avoid breathing dust or mist.",
+    "toxic": "Harmful if swallowed: label containers, keep away from food and children.",
+}
+
+
+def cautions_for(hazards: set[str] | list[str], *, acidic_bath: bool = False) -> list[str]:
+    """Cautions for a bath whose ingredients carry ``hazards``.
+
+    Examples
+    --------
+    >>> any("hydrogen" in c for c in cautions_for(["acidic"]))
+    True
+    """
+    keys = set(hazards)
+    if acidic_bath:
+        keys.add("acidic")
+    out = [BY_HAZARD[k] for k in BY_HAZARD if k in keys]
+    return out + list(GENERAL)

@@ -1,0 +1,33 @@
+"""``trialkit ingest SHEET --trial DIR``: check a filled sheet and store its readings.
+
+Exit code 0 when the sheet was accepted (or had nothing new), 1 when it was refused.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("sheet", metavar="SHEET", help="filled sheet (.xlsx or .csv)")
+    parser.add_argument("--trial", metavar="DIR", required=True,
+                        help="trial folder whose plan and record log the sheet belongs to")
+    parser.add_argument("--allow-mass-gain", action="store_true",
+                        help="accept masses after cleaning above the initial mass (deposits)")
+    parser.add_argument("--json", action="store_true", help="print the ingest report as JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    from trialkit.commands._output import print_json
+    from trialkit.plan import load_plan
+    from trialkit.sheets.ingest import ingest_sheet
+
+    plan = load_plan(args.trial)
+    report = ingest_sheet(args.sheet, plan, allow_mass_gain=args.allow_mass_gain)
+    if args.json:
+        print_json(report.to_dict())
+    else:
+        print(f"{report.source}: {report.message}")
+        for p in report.problems:
+            print(f"  - {p}")
+    return 0 if report.ok else 1

@@ -1,0 +1,53 @@
+"""``trialkit sheet DIR --format xlsx|csv|html [--out FILE]``: export recording sheets."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+DEFAULT_STEM = "recording-sheet"
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("folder", metavar="DIR", help="trial folder (holds trial.toml)")
+    parser.add_argument("--format", dest="fmt", choices=("xlsx", "csv", "html"),
+                        default="xlsx", help="sheet format (default xlsx)")
+    parser.add_argument("--out", metavar="FILE", default=None,
+                        help=f"file to write (default DIR/{DEFAULT_STEM}.FORMAT); a CSV "
+                             "inspection sheet goes beside it as NAME-inspections.csv")
+    parser.add_argument("--paper", choices=("A4", "Letter"), default=None,
+                        help="paper size of the HTML bench sheet (default from [sheet])")
+    parser.add_argument("--json", action="store_true", help="print the files written as JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    from trialkit.commands._output import print_json
+    from trialkit.plan import load_plan
+    from trialkit.sheets.config import sheet_config
+
+    plan = load_plan(args.folder)
+    config = sheet_config(plan.trial)
+    folder = plan.trial.folder or Path(args.folder)
+    out = Path(args.out) if args.out else Path(folder) / f"{DEFAULT_STEM}.{args.fmt}"
+    written: list[Path] = []
+    if args.fmt == "xlsx":
+        from trialkit.sheets.export_xlsx import export_xlsx
+
+        written.append(export_xlsx(plan, out, config=config))
+    elif args.fmt == "csv":
+        from trialkit.sheets.export_csv import export_csv
+
+        written.append(export_csv(plan, out, layout="coupons", config=config))
+        if config.has_timecourse:
+            extra = out.with_name(f"{out.stem}-inspections{out.suffix or '.csv'}")
+            written.append(export_csv(plan, extra, layout="inspections", config=config))
+    else:
+        from trialkit.sheets.export_html import export_html
+
+        written.append(export_html(plan, out, config=config, paper=args.paper))
+    if args.json:
+        print_json({"fingerprint": plan.fingerprint, "files": [str(p) for p in written]})
+    else:
+        for p in written:
+            print(f"wrote {p} (plan fingerprint {plan.fingerprint})")
+    return 0
