@@ -109,6 +109,14 @@ _EXPORTS: dict[str, str] = {
     "AnalysisResult": "trialkit.analysis",
     "factors_from_table": "trialkit.analysis",
     "AnalysisConfig": "trialkit.analysis",
+    # invented data for examples and self-consistency tests
+    "simulate_readings": "trialkit.simulate",
+    "SimulatedReadings": "trialkit.simulate",
+    "confirmation_plan": "trialkit.simulate",
+    "BathTruth": "trialkit.truth_models",
+    "NoiseModel": "trialkit.truth_models",
+    "ExampleScenario": "trialkit.truth_models",
+    "SimulationError": "trialkit.truth_models",
     # responses
     "coupon_area_cm2": "trialkit.geometry",
     "metal": "trialkit.materials",
