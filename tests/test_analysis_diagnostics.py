@@ -64,3 +64,14 @@ def test_box_cox_suggests_log_when_spread_grows_with_mean():
     assert plain.box_cox["recommended"] is False
     out = plain.to_dict()
     assert len(out["baths"]) == 60 and set(out["normality"]) == {"test", "statistic", "p"}
+
+
+def test_drift_with_run_order_is_detected():
+    """Invented baths whose response creeps up with run order (a drifting balance, say)."""
+    df = _data(seed=4, n=30)
+    df["run"] = np.arange(1, 31)
+    df["y"] = df.y + 0.3 * df.run
+    d = diagnose(fit_model(df, "y", FS, "main", block=None))
+    rho, p = stats.spearmanr(df.run, d.table.residual)
+    assert d.drift["rho"] == pytest.approx(rho) and d.drift["p"] == pytest.approx(p)
+    assert d.drift["p"] < 0.01

@@ -1,6 +1,6 @@
 """The whole analysis of one response (trialkit.analysis.pipeline, .sources), including the
-trial-folder route: real trial file, real plan, real response computation; only the record
-log is replaced by invented readings (the record-log module lands separately)."""
+trial-folder route: real trial file, plan, record log (invented readings written through
+trialkit.store) and response computation."""
 
 from __future__ import annotations
 
@@ -11,11 +11,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-import trialkit.responses
 from trialkit.analysis.pipeline import analyze_table, default_model
 from trialkit.cli import main
 from trialkit.factors import Factor
 from trialkit.plan import make_plan
+from trialkit.store import RecordLog
 from trialkit.trialfile import load_trial
 
 STARTER = Path(__file__).resolve().parents[1] / "trialkit" / "data" / "starter_trial.toml"
@@ -47,22 +47,41 @@ def _readings(plan, seed=5):
 
 
 @pytest.fixture
-def trial_folder(tmp_path, monkeypatch):
+def trial_folder(tmp_path):
     folder = tmp_path / "trial"
     folder.mkdir()
-    text = STARTER.read_text(encoding="utf-8") + (
+    text = STARTER.read_text(encoding="utf-8").replace(
+        'measure = "removal_pct"', 'measure = "removal_pct"\nlower = 40\nupper = 95').replace(
+        'measure = "corrosion_rate_mm_per_y"',
+        'measure = "corrosion_rate_mm_per_y"\nlower = 0.0\nupper = 1.0') + (
         '\n[analysis]\nmodel = "chelator + ph + surfactant"\nanova_type = 3\n')
     (folder / "trial.toml").write_text(text, encoding="utf-8")
     trial = load_trial(folder)
     plan = make_plan(trial)
     plan.write(folder)
     readings = _readings(plan)
-
-    def fake_load_responses(path, **kwargs):
-        return trialkit.responses.compute_responses(readings, coupon_spec=trial.coupons)
-
-    monkeypatch.setattr(trialkit.responses, "load_responses", fake_load_responses)
+    fields = ["area_cm2", "mass_initial_g", "mass_final_g", "coverage_before_pct",
+              "coverage_after_pct", "immersion_start", "immersion_end"]
+    values = [(r["coupon"], 0, f, r[f]) for r in readings.to_dict("records") for f in fields
+              if not pd.isna(r.get(f))]
+    RecordLog.for_folder(folder).add_readings(values, source="invented readings",
+                                              sha256="0" * 64, fingerprint=plan.fingerprint)
     return folder
+
+
+def test_folder_route_as_subprocess(trial_folder):
+    """The real command on a real trial folder (plan.csv, record log) in a subprocess."""
+    import os
+    import subprocess
+    import sys
+
+    env = dict(os.environ, PYTHONPATH=str(STARTER.parents[2]))
+    out = subprocess.run([sys.executable, "-m", "trialkit", "analyze", str(trial_folder),
+                          "--response", "removal", "--json", "--bootstrap", "0"],
+                         capture_output=True, text=True, env=env, timeout=300)
+    assert out.returncode == 0, out.stderr
+    d = json.loads(out.stdout)
+    assert d["n"] == 20 and d["residual"]["df"] == 20 - 5
 
 
 def test_trial_folder_route_json(trial_folder, capsys):
@@ -143,3 +162,27 @@ def test_result_objects_have_summary_html_and_json():
         assert obj._repr_html_().lstrip().startswith("<")
         assert type(obj).__name__[:4] in repr(obj) or "Response" in repr(obj)
         json.dumps(obj.to_dict(), allow_nan=False, default=float)
+
+
+def test_trial_folder_compromise(trial_folder, capsys):
+    """Best compromise of removal (maximize) and attack (minimize) from the trial's limits."""
+    code = main(["analyze", str(trial_folder), "--compromise", "--json"])
+    cap = capsys.readouterr()
+    assert code == 0, cap.err
+    d = json.loads(cap.out)
+    assert {r["response"] for r in d["responses"]} == {"removal_pct_mean",
+                                                       "corrosion_rate_mm_per_y_mean"}
+    assert 0 < d["overall_desirability"] <= 1
+    for r in d["responses"]:
+        assert r["pi_low"] < r["predicted"] < r["pi_high"]
+    # overall = geometric mean of the individual desirabilities (equal importance)
+    ds = [r["desirability"] for r in d["responses"]]
+    assert d["overall_desirability"] == pytest.approx(np.sqrt(ds[0] * ds[1]), rel=1e-9)
+    assert d["settings"]["surfactant"] in ("none", "added")
+
+
+def test_package_exports_resolve():
+    import trialkit.analysis as ta
+
+    for name in ta.__all__:
+        assert getattr(ta, name).__name__ == name

@@ -86,6 +86,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 2
     except KeyboardInterrupt:  # pragma: no cover - interactive only
         return 130
+    except BrokenPipeError:  # output piped into e.g. `head`, which closed early
+        sys.stderr.close()
+        return 0
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -17,7 +17,7 @@ model's baseline):
 
   (``c`` chelator in % w/v: a peak of width ``w`` at ``c_opt``, symmetric and smooth
   near the optimum with long tails, so removal slows strongly at high levels;
-  ``T`` in kelvin, ``R`` = 8.314462618 J/(mol K), CODATA 2018;
+  ``T`` in kelvin, ``R`` = N_A k = 8.31446261815324 J/(mol K), exact in the SI;
   ``pH_0`` and ``T_0`` are the model's anchor, ``model_ph`` and ``model_temperature_c``);
 - base-metal (witness) corrosion rate in mm/y,
 
@@ -40,14 +40,17 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import asdict, dataclass, field, replace
+from pathlib import Path
 
 import numpy as np
 
 from trialkit.exceptions import TrialkitError
 
-GAS_CONSTANT = 8.314462618  # J/(mol K), CODATA 2018 exact value of R
+GAS_CONSTANT = 6.02214076e23 * 1.380649e-23  # J/(mol K): N_A k, both exact in the SI (2019)
 ZERO_CELSIUS_K = 273.15
 ROLES = ("chelator", "ph", "temperature", "surfactant", "agitation")
+#: Units the model reads continuous factors in.
+ROLE_UNITS = {"chelator": "% w/v", "ph": "pH", "temperature": "degC"}
 
 
 class SimulationError(TrialkitError):
@@ -323,9 +326,9 @@ EXAMPLES: dict[str, ExampleScenario] = {
         folder="five-factor-screen",
         truth=BathTruth(
             name="five-factor screen (invented)",
-            description="chelator, pH, temperature and agitation change removal; surfactant "
-                        "changes nothing; pH, temperature, agitation and (weakly) chelator "
-                        "change attack",
+            description="chelator (peak at 5 % w/v), pH, temperature and agitation change "
+                        "removal; pH, temperature and agitation change attack; surfactant "
+                        "changes nothing",
             baseline={"chelator": 4.0, "ph": 6.5, "temperature": 30.0,
                       "surfactant": "none", "agitation": "none"}),
         seed=8105, immersion_h=8.0, inspections_h=(1.0, 2.0, 4.0, 8.0)),
@@ -352,3 +355,48 @@ def surface_desirability(truth: BathTruth, x: Mapping, *, hours: float = 8.0) ->
     d1 = one_sided_desirability(truth.removal_pct(x, hours), 50.0, 90.0, "maximize")
     d2 = one_sided_desirability(truth.corrosion_mm_per_y(x), 0.05, 0.30, "minimize")
     return math.sqrt(d1 * d2)
+
+
+def write_example(name: str, trial_folder: str | Path, out: str | Path) -> list[Path]:
+    """Plan an example trial and write its plan and invented readings into ``out``.
+
+    ``name`` is a key of :data:`EXAMPLES`.  Writes ``plan.csv``,
+    ``plan.json`` and ``readings/`` (``coupons.csv``, ``timecourse.csv`` if inspected,
+    ``confirmation.csv`` if the scenario has confirmation baths, ``truth.json``).
+    """
+    import json
+
+    from trialkit.plan import load_plan
+    from trialkit.simulate import (
+        READINGS_FOLDER,
+        confirmation_plan,
+        simulate_readings,
+    )
+
+    if name not in EXAMPLES:
+        raise SimulationError(f"no example scenario {name!r}; known: {', '.join(EXAMPLES)}")
+    sc = EXAMPLES[name]
+    out = Path(out)
+    plan = load_plan(trial_folder)
+    paths = [plan.write(out), out / "plan.json"]
+    sim = simulate_readings(plan, sc.truth, seed=sc.seed, inspections_h=sc.inspections_h,
+                            immersion_h=sc.immersion_h)
+    folder = out / READINGS_FOLDER
+    paths += sim.write(folder)
+    truth = {"scenario": name, **sim.truth, "true_baths": sim.to_dict()["true_baths"]}
+    if sc.confirmation_baths:
+        conf = simulate_readings(
+            confirmation_plan(plan, dict(sc.confirmation_recipe), baths=sc.confirmation_baths),
+            sc.truth, seed=sc.confirmation_seed, immersion_h=sc.immersion_h)
+        path = folder / "confirmation.csv"
+        path.write_text(conf.coupons.to_csv(index=False, lineterminator="\n"),
+                        encoding="utf-8", newline="")
+        paths.append(path)
+        truth["confirmation"] = {"recipe": dict(sc.confirmation_recipe),
+                                 "seed": sc.confirmation_seed,
+                                 "true_baths": conf.to_dict()["true_baths"]}
+    path = folder / "truth.json"
+    path.write_text(json.dumps(truth, indent=1, sort_keys=True) + "\n", encoding="utf-8",
+                    newline="")
+    paths.append(path)
+    return paths

@@ -38,6 +38,8 @@ class Diagnostics:
         test ("shapiro"), statistic, p.
     spread : dict
         Spearman correlation of |residual| with fitted value: rho, p.
+    drift : dict
+        Spearman correlation of residuals with run order (drift between days): rho, p.
     box_cox : dict or None
         lambda_hat, ci_low, ci_high, suggested (rounded power), transform, recommended.
     """
@@ -46,6 +48,7 @@ class Diagnostics:
     normality: dict
     spread: dict
     box_cox: dict | None
+    drift: dict | None = None
 
     @property
     def summary(self) -> pd.DataFrame:
@@ -62,7 +65,8 @@ class Diagnostics:
         rows = [{k: (finite(v) if isinstance(v, (float, np.floating)) else v)
                  for k, v in r.items()} for r in self.table.to_dict("records")]
         return {"baths": rows, "normality": clean(self.normality),
-                "spread": clean(self.spread), "box_cox": clean(self.box_cox)}
+                "spread": clean(self.spread), "drift": clean(self.drift),
+                "box_cox": clean(self.box_cox)}
 
     def __repr__(self) -> str:
         return (f"Diagnostics({int(self.table.flagged.sum())} flagged, normality p = "
@@ -124,6 +128,11 @@ def diagnose(fit, *, alpha: float = 0.05) -> Diagnostics:
         spread = {"rho": float(rho), "p": float(prho)}
     else:
         spread = {"rho": float("nan"), "p": float("nan")}
+    if n >= 4 and np.ptp(table.run.astype(float)) > 0 and np.ptp(e) > 0:
+        rho_d, p_d = stats.spearmanr(table.run.astype(float), e)
+        drift = {"rho": float(rho_d), "p": float(p_d)}
+    else:
+        drift = {"rho": float("nan"), "p": float("nan")}
     y = fit.y + float(fit.shift)
     box = None
     if np.all(y > 0) and fit.df_resid > 1:
@@ -139,4 +148,4 @@ def diagnose(fit, *, alpha: float = 0.05) -> Diagnostics:
         box = {"lambda_hat": lam, "ci_low": lo, "ci_high": hi, "suggested": suggested,
                "transform": NAMES[suggested],
                "recommended": bool(grows and not lo <= 1.0 <= hi)}
-    return Diagnostics(table, normality, spread, box)
+    return Diagnostics(table, normality, spread, box, drift)

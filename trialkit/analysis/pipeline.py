@@ -119,6 +119,10 @@ class AnalysisResult:
             o = self.optimum
             lines.append(f"best settings {o['settings']}: predicted {o['predicted']:.6g}, "
                          f"prediction interval {o['pi_low']:.6g} to {o['pi_high']:.6g}")
+        drift = self.diagnostics.drift if self.diagnostics is not None else None
+        if drift and np.isfinite(drift["p"]) and drift["p"] < f.alpha:
+            lines.append(f"residuals trend with run order (drift?): Spearman rho "
+                         f"{drift['rho']:.3g}, p {drift['p']:.3g}")
         if self.diagnostics is not None and len(self.diagnostics.flagged):
             lines.append("flagged baths: " + ", ".join(
                 f"{b} ({r})" for b, r in zip(self.diagnostics.flagged.bath,
@@ -132,28 +136,72 @@ class AnalysisResult:
         return self.fit._repr_html_()
 
 
+def best_compromise(table: pd.DataFrame, factors: Sequence[Factor], goals: Sequence,
+                    *, models: dict | None = None, block: str | None = "block",
+                    alpha: float = 0.05, seed: int = 0, n_starts: int = 12):
+    """Fit every response of ``goals`` and find the best Derringer–Suich compromise.
+
+    Each response gets ``models[name]`` or :func:`default_model`; the search covers the
+    observed coded range of the continuous factors and every combination of categorical
+    levels.  Returns a :class:`~trialkit.analysis.desirability.DesirabilityResult`.
+    """
+    import itertools
+
+    from trialkit.analysis.desirability import optimize_desirability
+
+    goals = tuple(goals)
+    if len(goals) < 2:
+        raise AnalysisError("a compromise needs at least two responses with limits (lower "
+                            f"and upper); got {len(goals)}")
+    fits = {}
+    for g in goals:
+        text = (models or {}).get(g.response) or default_model(table, g.response, factors)
+        fits[g.response] = fit_model(table, g.response, factors, text, block=block,
+                                     alpha=alpha)
+    first = fits[goals[0].response]
+    cont = [f.name for f in first.spec.used_factors if f.is_continuous]
+    for g in goals:
+        have = [f.name for f in fits[g.response].spec.used_factors if f.is_continuous]
+        if have != cont:
+            raise AnalysisError(f"the model of {g.response!r} uses {have}, the model of "
+                                f"{goals[0].response!r} uses {cont}; give models over the "
+                                "same continuous factors")
+    xc = first.coded[cont].astype(float).to_numpy()
+    region = np.column_stack([xc.min(axis=0), xc.max(axis=0)])
+    cats = [f for f in first.spec.used_factors if f.is_categorical and f.name != "block"]
+    combos = [dict(zip([f.name for f in cats], lv, strict=True)) for lv in
+              itertools.product(*[first.mm.levels[f.name] for f in cats])]
+    best = None
+    for combo in combos[:64]:
+        try:
+            res = optimize_desirability(fits, goals, region=region, fixed=combo or None,
+                                        n_starts=n_starts, seed=seed)
+        except AnalysisError:
+            continue
+        if best is None or res.overall > best.overall:
+            best = res
+    if best is None:
+        raise AnalysisError("no setting gives every response a desirability above zero; "
+                            "widen the limits or check the goals")
+    return best
+
+
 def default_model(table: pd.DataFrame, response: str, factors: Sequence[Factor]) -> str:
-    """The largest of quadratic / interactions / main that leaves residual df, else main."""
+    """The largest of quadratic / interactions / main that the data can estimate with
+    residual degrees of freedom left (e.g. a two-level design with centre points cannot
+    separate the squares, so it gets interactions); else main."""
+    from trialkit.modelspec import model_matrix
+
     column = response_column(table, response)
     prep = prepare(table, column, factors)
     n = len(prep.natural)
-    cont_ok = all(prep.natural[f.name].nunique() >= 3 for f in factors if f.is_continuous)
-    for kw in (("quadratic",) if cont_ok and any(f.is_continuous for f in factors) else ()) \
-            + ("interactions", "main"):
-        spec = parse_model(kw, factors)
-        p = 1 + sum(_n_columns(t, factors, prep.natural) for t in spec.terms)
-        if p < n:
+    candidates = ("quadratic", "interactions", "main") if any(
+        f.is_continuous for f in factors) else ("interactions", "main")
+    for kw in candidates:
+        X = model_matrix(parse_model(kw, factors), prep.coded).X
+        if X.shape[1] < n and np.linalg.matrix_rank(X) == X.shape[1]:
             return kw
     return "main"
-
-
-def _n_columns(term, factors, data) -> int:
-    by = {f.name: f for f in factors}
-    k = 1
-    for n in term.factors:
-        f = by[n]
-        k *= 1 if f.is_continuous else max(data[n].astype(str).nunique() - 1, 1)
-    return k
 
 
 def _two_level(fit: ModelFit) -> bool:

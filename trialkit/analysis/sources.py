@@ -43,6 +43,21 @@ class AnalysisSource:
     config: AnalysisConfig = field(default_factory=AnalysisConfig)
     seed: int = 0
     origin: str = ""
+    specs: tuple = ()
+
+    def goals_with_limits(self) -> list:
+        """Derringer–Suich goals of the trial's responses that give lower and upper."""
+        from trialkit.analysis.desirability import Goal
+
+        out = []
+        for r in self.specs:
+            if r.lower is None or r.upper is None:
+                continue
+            out.append(Goal(self.responses[r.name], r.goal, float(r.lower), float(r.upper),
+                            target=None if r.target is None else float(r.target),
+                            weight=float(r.weight), weight_upper=float(r.weight),
+                            importance=float(r.importance)))
+        return out
 
 
 def read_table(path: str | Path) -> pd.DataFrame:
@@ -96,7 +111,7 @@ def from_trial_folder(folder: str | Path) -> AnalysisSource:
     if not isinstance(cfg, AnalysisConfig):
         cfg = AnalysisConfig()
     return AnalysisSource(table, tuple(trial.factors), responses, goals, cfg,
-                          int(trial.seed or 0), str(trial.path))
+                          int(trial.seed or 0), str(trial.path), tuple(trial.responses))
 
 
 def response_for(source: AnalysisSource, name: str | None) -> str:

@@ -38,6 +38,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--bootstrap", type=int, metavar="N",
                         help="bootstrap resamples for optimum intervals (default 2000)")
     parser.add_argument("--seed", type=int, help="seed of the bootstrap")
+    parser.add_argument("--compromise", action="store_true",
+                        help="trial folders: best Derringer-Suich compromise of every "
+                        "response that has lower and upper limits")
     parser.add_argument("--json", action="store_true", help="print JSON")
 
 
@@ -62,6 +65,8 @@ def run(args: argparse.Namespace) -> int:
         source = AnalysisSource(table, factors_from_table(table, args.factor),
                                 origin=str(path))
     cfg = source.config
+    if args.compromise:
+        return _compromise(args, source)
     column = response_for(source, args.response)
     name = next((k for k, v in source.responses.items() if v == column), column)
     goal = args.goal or source.goals.get(name, "maximize")
@@ -83,4 +88,28 @@ def run(args: argparse.Namespace) -> int:
         print_json(out)
     else:
         print(result.text())
+    return 0
+
+
+def _compromise(args: argparse.Namespace, source) -> int:
+    from trialkit.analysis.pipeline import best_compromise
+    from trialkit.exceptions import AnalysisError
+
+    if not source.specs:
+        raise AnalysisError("--compromise needs a trial folder whose [[response]] entries "
+                            "give lower and upper limits")
+    goals = source.goals_with_limits()
+    models = {source.responses[k]: v for k, v in source.config.response_models.items()
+              if k in source.responses}
+    cfg = source.config
+    res = best_compromise(source.table, source.factors, goals, models=models or None,
+                          block=args.block, seed=args.seed if args.seed is not None
+                          else source.seed,
+                          alpha=args.alpha if args.alpha is not None else cfg.alpha)
+    if args.json:
+        out = res.to_dict()
+        out["source"] = source.origin
+        print_json(out)
+    else:
+        print(repr(res))
     return 0
