@@ -143,13 +143,13 @@ def bench_power(n_sim=10_000, loop_cap=300):
 
     plan = make_plan(parse_trial_text(TRIAL_30))
     ev = evaluate_plan(plan, model="interactions", sd=1.0, effects=1.0)
-    X = np.hstack([ev._X, pw.sum_contrasts(list(ev._blocks))])
+    X = ev.model_matrix()
     sl = ev._model.term_columns["chelator"]
     beta = np.zeros(X.shape[1])
     beta[sl] = 0.5
     analytic = ev.power_of("chelator")
     t = time.perf_counter()
-    sim, se = pw.simulate_power(X, sl, beta, 1.0, n_sim=n_sim, seed=1)
+    sim, se = ev.simulated_power("chelator", n_sim=n_sim, seed=1)
     batched = time.perf_counter() - t
     # baseline: a loop of statsmodels fits, capped and scaled
     rng = np.random.default_rng(2)
