@@ -7,8 +7,8 @@ size per term (the change in mean response from a factor's low to its high level
 :mod:`trialkit.power` for interactions, squared terms and factors with several levels),
 the smallest effect detectable at a target power, how many replicates of the whole plan
 reach it, the D- and I-efficiency, the largest variance inflation factor and the
-fraction-of-design-space curve of prediction variance.  :func:`compare_plans` puts
-several candidate plans side by side.
+fraction-of-design-space curve of prediction variance.
+:func:`trialkit.comparison.compare_plans` puts several candidate plans side by side.
 
 The experimental unit is the bath: ``sd`` is the standard deviation of a bath's response
 (the mean over its rusted coupons), and control and reference baths, which lie outside
