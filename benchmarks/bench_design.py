@@ -143,13 +143,13 @@ def bench_power(n_sim=10_000, loop_cap=300):
 
     plan = make_plan(parse_trial_text(TRIAL_30))
     ev = evaluate_plan(plan, model="interactions", sd=1.0, effects=1.0)
-    X = np.hstack([ev._X, pw.sum_contrasts(list(ev._blocks))])
+    X = ev.model_matrix()
     sl = ev._model.term_columns["chelator"]
     beta = np.zeros(X.shape[1])
     beta[sl] = 0.5
     analytic = ev.power_of("chelator")
     t = time.perf_counter()
-    sim, se = pw.simulate_power(X, sl, beta, 1.0, n_sim=n_sim, seed=1)
+    sim, se = ev.simulated_power("chelator", n_sim=n_sim, seed=1)
     batched = time.perf_counter() - t
     # baseline: a loop of statsmodels fits, capped and scaled
     rng = np.random.default_rng(2)
@@ -217,14 +217,21 @@ def main(argv=None) -> int:
     ap.add_argument("--timeout", type=float, default=120.0,
                     help="seconds allowed to each pyDOE3 call (default 120)")
     ap.add_argument("--starts", type=int, default=10, help="trialkit random starts")
+    ap.add_argument("--only", choices=("optimal", "power", "startup", "demo"),
+                    action="append", help="run only these benchmarks (repeatable)")
     args = ap.parse_args(argv)
+    only = set(args.only or ("optimal", "power", "startup", "demo"))
     sizes = (27,) if args.quick else (27, 42)
     methods = ("sequential", "fedorov") if args.quick else PYDOE_METHODS
     print(f"{'benchmark':<58} {'figure':<28} ratio against the baseline")
-    bench_optimal(sizes, methods, args.timeout, args.starts)
-    bench_power()
-    bench_cold_start()
-    bench_demo()
+    if "optimal" in only:
+        bench_optimal(sizes, methods, args.timeout, args.starts)
+    if "power" in only:
+        bench_power()
+    if "startup" in only:
+        bench_cold_start()
+    if "demo" in only:
+        bench_demo()
     return 0
 
 
