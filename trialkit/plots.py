@@ -87,7 +87,8 @@ def _fit_like(obj) -> bool:
 
 # -- main effects and interactions ----------------------------------------------------
 def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure:
-    """Predicted response along each factor (others at their middle), with 95 % band.
+    """Predicted response along each factor, with 95 % band (other continuous factors at
+    their middle, categorical ones averaged over their levels).
 
     ``result``: a fitted model (``ModelFit``) or :class:`trialkit.report.views.EffectLines`.
     The observed baths are drawn as points.
@@ -125,7 +126,8 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
         ax.set_title(f"Effect of {p.factor}")
     axes[0].set_ylabel(label(result.response, unit))
     axes[0].legend(fontsize=8, loc="best")
-    fig.suptitle(f"Main effects on {result.response} (other factors at their middle)")
+    fig.suptitle(f"Main effects on {result.response} (other factors at their middle "
+                 "or averaged over their levels)")
     fig.tight_layout()
     return fig
 
@@ -260,23 +262,24 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
 
 
 # -- surfaces -------------------------------------------------------------------------
-def _surface(view, x=None, y=None):
+def _surface(view, x=None, y=None, unit: str = ""):
     if not hasattr(view, "grid_x"):
         from trialkit.report.views import as_surface_view
 
-        view = as_surface_view(view, x, y)
+        view = as_surface_view(view, x, y, **({"unit": unit} if unit else {}))
     _need(view, ("grid_x", "grid_y", "z", "points", "x", "y"), "contour")
     return view
 
 
-def contour(view, x: str | None = None, y: str | None = None, *, ax: Axes | None = None,
-            title: str | None = None) -> Axes:
+def contour(view, x: str | None = None, y: str | None = None, *, unit: str = "",
+            ax: Axes | None = None, title: str | None = None) -> Axes:
     """Filled contours of a fitted response over two factors, the baths and the optimum.
 
     ``view``: a ``SurfaceResult`` or ``DesirabilityResult`` of :mod:`trialkit.analysis`
-    (``x``, ``y`` choose the factors) or a :class:`trialkit.report.views.SurfaceView`.
+    (``x``, ``y`` choose the factors; ``unit`` is the response's) or a
+    :class:`trialkit.report.views.SurfaceView`.
     """
-    v = _surface(view, x, y)
+    v = _surface(view, x, y, unit)
     ax = _ax(ax, (6.0, 4.6))
     cs = ax.contourf(v.grid_x, v.grid_y, v.z, levels=12, cmap=SEQUENTIAL)
     lines = ax.contour(v.grid_x, v.grid_y, v.z, levels=12, colors="white", linewidths=0.5)
@@ -299,10 +302,10 @@ def contour(view, x: str | None = None, y: str | None = None, *, ax: Axes | None
     return ax
 
 
-def surface3d(view, x: str | None = None, y: str | None = None, *,
+def surface3d(view, x: str | None = None, y: str | None = None, *, unit: str = "",
               ax: Axes | None = None) -> Axes:
     """The same fitted response as a 3-D surface, with the optimum marked."""
-    v = _surface(view, x, y)
+    v = _surface(view, x, y, unit)
     if ax is None:
         with plt.rc_context(STYLE):
             fig = plt.figure(figsize=(6.4, 5.0))
@@ -331,7 +334,7 @@ def desirability_contour(view, x: str | None = None, y: str | None = None, *,
 
 
 # -- sweeps and kinetics --------------------------------------------------------------
-def sweep(view, *, ax: Axes | None = None) -> Axes:
+def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
     """Fitted sweep curve with its 95 % band, bath means, best level and sweet spot.
 
     ``view``: a :class:`trialkit.analysis.sweep.SweepResult` or a SweepView.
@@ -339,7 +342,7 @@ def sweep(view, *, ax: Axes | None = None) -> Axes:
     if not hasattr(view, "curve"):
         from trialkit.report.views import as_sweep_view
 
-        view = as_sweep_view(view)
+        view = as_sweep_view(view, unit=unit)
     _need(view, ("curve", "observed", "best", "sweet_spot", "factor"), "sweep")
     ax = _ax(ax)
     _style(ax)

@@ -98,20 +98,47 @@ class EffectLines:
     held: dict
 
 
+def averaged_prediction(fit, settings: pd.DataFrame, over: Sequence[str] = ()
+                        ) -> pd.DataFrame:
+    """Prediction at ``settings`` averaged with equal weight over every level of the
+    categorical factors in ``over`` (the mean of their model rows), with its 95 %
+    confidence interval: predicted, ci_low, ci_high."""
+    import itertools
+
+    fs = {f.name: f for f in model_factors(fit)}
+    levels = [fs[c].levels for c in over]
+    rows = []
+    for combo in itertools.product(*levels) if over else [()]:
+        frame = settings.copy()
+        for c, v in zip(over, combo, strict=True):
+            frame[c] = v
+        rows.append(fit.design_rows(frame))
+    X = np.mean(rows, axis=0)
+    pred = X @ fit.ls.beta + float(fit.shift)
+    se = np.sqrt(np.einsum("ij,jk,ik->i", X, fit.cov, X)) if fit.df_resid > 0 \
+        else np.full(len(X), np.nan)
+    t = stats.t.ppf(1 - fit.alpha / 2, fit.df_resid) if fit.df_resid > 0 else np.nan
+    return pd.DataFrame({"predicted": pred, "ci_low": pred - t * se, "ci_high": pred + t * se})
+
+
 def effect_lines(fit, *, unit: str = "", n: int = GRID) -> EffectLines:
-    """Predicted response along each factor with the others held at their middle."""
+    """Predicted response along each factor: continuous factors held at their middle,
+    categorical factors averaged over their levels (so on a balanced two-level design the
+    line's ends differ by the classical main effect)."""
     ref = reference_settings(fit)
+    cats = [f.name for f in model_factors(fit) if not f.is_continuous]
     obs = observed(fit)
     panels = []
     for f in model_factors(fit):
         xs = _axis_values(f, n)
         settings = pd.DataFrame([{**ref, f.name: x} for x in xs])
-        pred = fit.predict(settings)
+        pred = averaged_prediction(fit, settings, [c for c in cats if c != f.name])
         line = pd.DataFrame({"x": list(xs), "predicted": pred.predicted,
                              "ci_low": pred.ci_low, "ci_high": pred.ci_high})
         pts = pd.DataFrame({"x": obs[f.name].tolist(), "y": obs.y.tolist()})
         panels.append(LinePanel(f.name, f.unit, f.is_continuous, line, pts))
-    return EffectLines(fit.response, unit, panels, ref)
+    held = {k: (v if k not in cats else "averaged over levels") for k, v in ref.items()}
+    return EffectLines(fit.response, unit, panels, held)
 
 
 def interaction_lines(fit, x: str, trace: str, *, unit: str = "", n: int = GRID) -> LinePanel:
