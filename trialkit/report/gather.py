@@ -82,9 +82,14 @@ def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | Non
     _load_log(data)
     if responses is None and baths is None and data.log is not None:
         try:
+            import warnings
+
+            from trialkit.exceptions import TrialkitWarning
             from trialkit.responses import load_responses
 
-            responses = load_responses(data.folder)
+            with warnings.catch_warnings():  # the problems are listed in the report
+                warnings.simplefilter("ignore", TrialkitWarning)
+                responses = load_responses(data.folder)
         except ImportError:
             data.note("responses", "the responses module is not installed in this build")
         except TrialkitError as exc:
