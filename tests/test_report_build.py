@@ -142,7 +142,8 @@ def test_jupyter_repr_is_a_fragment():
 
 
 # -- the record log path: readings, revisions, missing values, flagged values ----------
-LOGGED = rt.SCREENING.replace('goal = "maximize"\n', 'goal = "maximize"\nmeasure = "removal_pct"\n') \
+LOGGED = rt.SCREENING \
+    .replace('goal = "maximize"\n', 'goal = "maximize"\nmeasure = "removal_pct"\n') \
     .replace('goal = "minimize"\n', 'goal = "minimize"\nmeasure = "corrosion_rate_mm_per_y"\n') \
     + '\n[coupons]\nshape = "plate"\nlength = 50\nwidth = 25\nthickness = 2\n'
 BAD = "B03-R1"  # coverage after 130 % of the area: impossible, must be flagged
