@@ -83,7 +83,7 @@ def test_interaction_draws_one_line_per_level(screening):
     model_lines = [ln for ln in ax.lines if ln.get_linestyle() == "-"]
     assert len(model_lines) == 2
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert labels == ["ph = 5.5 pH", "ph = 7.5 pH"]
+    assert labels == ["ph: pH 5.5", "ph: pH 7.5"]
     # each line equals the model's prediction at that pH, surfactant at its first level
     x, y = _xy(model_lines[1])
     pred = fit.predict({"chelator": x[-1], "ph": 7.5, "surfactant": "none"}).predicted[0]

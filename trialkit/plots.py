@@ -153,15 +153,19 @@ def interaction(result, x: str | None = None, trace: str | None = None, *, unit:
     _style(ax)
     for i, (lev, grp) in enumerate(result.line.groupby("trace", sort=False)):
         c, m = PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)]
-        lev_text = f"{lev:g} {result.trace_unit}".strip() if isinstance(lev, float) else lev
+        if isinstance(lev, float):
+            lev_text = f"pH {lev:g}" if result.trace_unit == "pH" else \
+                f"{lev:g} {result.trace_unit}".strip()
+        else:
+            lev_text = lev
         if result.continuous:
             ax.plot(grp.x.astype(float), grp.predicted, color=c, lw=2,
-                    label=f"{result.trace} = {lev_text}")
+                    label=f"{result.trace}: {lev_text}")
             pts = result.points[result.points.trace.astype(str) == str(lev)]
             ax.plot(pts.x.astype(float), pts.y, ls="none", marker=m, color=c, alpha=0.7)
         else:
             ax.plot(range(len(grp)), grp.predicted, color=c, marker=m, lw=2,
-                    label=f"{result.trace} = {lev_text}")
+                    label=f"{result.trace}: {lev_text}")
             ax.set_xticks(range(len(grp)), list(grp.x))
     ax.set_xlabel(label(result.factor, result.unit) if result.continuous
                   else f"{result.factor} (level)")

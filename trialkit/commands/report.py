@@ -50,7 +50,13 @@ def _bath_results(path: str, folder: str):
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.report.build import build_report
+    from trialkit.report.document import ReportError
 
+    if Path(args.out).suffix.lower() not in (".html", ".htm"):
+        raise ReportError(f"--out must name an .html file; got {args.out!r}. Use e.g. "
+                          "--out report.html (and --markdown notes.md for Markdown)")
+    if args.markdown and Path(args.markdown).suffix.lower() not in (".md", ".markdown"):
+        raise ReportError(f"--markdown must name a .md file; got {args.markdown!r}")
     baths = _bath_results(args.bath_results, args.folder) if args.bath_results else None
     report = build_report(args.folder, baths=baths, n_boot=args.bootstrap)
     out = report.write(args.out, markdown=args.markdown)

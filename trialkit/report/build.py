@@ -19,7 +19,7 @@ import pandas as pd
 
 from trialkit.report import figures as figs
 from trialkit.report.document import Block, Report, Section
-from trialkit.report.findings import effects_findings, model_findings
+from trialkit.report.findings import effects_findings, model_findings, pretty_unit
 from trialkit.report.gather import TrialData, analyse, load_inputs
 
 SECTION_TITLES = {
@@ -129,7 +129,7 @@ def _brief(data: TrialData) -> list[Block]:
                           "levels": _levels(f)} for f in t.factors])
     blocks.append(Block.frame(ftab, "Factors and their levels"))
     if t.responses:
-        rtab = pd.DataFrame([{"response": r.name, "unit": r.unit, "goal": r.goal,
+        rtab = pd.DataFrame([{"response": r.name, "unit": pretty_unit(r.unit), "goal": r.goal,
                               "computed as": r.measure or r.name} for r in t.responses])
         blocks.append(Block.frame(rtab, "Responses"))
     return blocks + _notes(data, "plan")
@@ -234,9 +234,16 @@ def _matters(data: TrialData, findings) -> list[Block]:
         why = "no responses to analyse yet" if data.baths is None else \
             "no model could be fitted to the responses"
         return [Block.note(why)] + _notes(data, "analysis")
-    blocks = [Block.bullets([f.text for f in findings], "Findings")]
+    blocks = []
     for name in data.fits:
+        said = [f.text for f in findings if f.response == name]
+        if said:
+            unit = pretty_unit(data.unit(name)) or "no unit"
+            blocks.append(Block.bullets(said, f"{name} ({unit})"))
         blocks += figs.effect_figures(data, name)
+    other = [f.text for f in findings if f.response not in data.fits]
+    if other:
+        blocks.append(Block.bullets(other, "Removal over time"))
     blocks += figs.kinetics_figure(data)
     return blocks + _notes(data, "analysis", "kinetics")
 
