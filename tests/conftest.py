@@ -12,7 +12,9 @@ import pytest
 REPO = Path(__file__).resolve().parents[1]
 
 
-def run_cli(*args: str, cwd: Path | None = None, timeout: float = 300) -> subprocess.CompletedProcess:
+def run_cli(
+    *args: str, cwd: Path | None = None, timeout: float = 300
+) -> subprocess.CompletedProcess:
     """Run ``python -m trialkit ARGS`` from the source tree and capture its output."""
     env = dict(os.environ)
     env["PYTHONPATH"] = str(REPO) + os.pathsep + env.get("PYTHONPATH", "")

@@ -209,3 +209,22 @@ def test_to_dict_contract_keys_and_natural_units():
     assert nat["temperature"]["estimate"] == pytest.approx(
         coded["temperature"]["estimate"] / 15.0, rel=1e-12)
     json.dumps(d, allow_nan=False)
+
+
+def test_profile_averages_hidden_categorical_factors():
+    """Main-effect profile: with sum coding, hidden categorical factors are averaged, so
+    the profile of 'surfactant' equals the mean of the per-agitation predictions."""
+    df = _unbalanced()
+    fit = fit_model(df, "y", FACT, "agitation + surfactant + agitation:surfactant + "
+                    "temperature", block=None)
+    prof = fit.profile("surfactant")
+    cells = fit.profile("surfactant", by="agitation")
+    assert set(prof.columns) >= {"surfactant", "predicted", "ci_low", "ci_high"}
+    for level in ("none", "added"):
+        mean_cells = cells[cells.surfactant == level].predicted.mean()
+        assert prof.set_index("surfactant").predicted[level] == pytest.approx(mean_cells)
+    line = fit.profile("temperature", n=5)
+    assert line.temperature.tolist() == [20.0, 27.5, 35.0, 42.5, 50.0]
+    assert np.allclose(np.diff(line.predicted, 2), 0)  # straight line in temperature
+    with pytest.raises(AnalysisError, match="not a factor"):
+        fit.profile("colour")

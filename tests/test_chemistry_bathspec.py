@@ -154,3 +154,10 @@ def test_bad_temperature_and_volume(tmp_path):
                                     'temperature = "30"\nvolume = "2 kg"')
     checks, _ = checks_of(write(tmp_path, text))
     assert checks == ["bad_temperature", "bad_quantity"]
+
+
+def test_duplicate_ingredient_and_adjuster_listed_as_ingredient(tmp_path):
+    text = HEAD + GOOD_BATH.replace('name = "non-ionic surfactant"', 'name = "tetrasodium EDTA"')
+    text = text.replace('adjust_with = "citric acid"', 'adjust_with = "tetrasodium EDTA"')
+    checks, _ = checks_of(write(tmp_path, text))
+    assert checks == ["duplicate_ingredient", "adjuster_is_ingredient"]

@@ -59,3 +59,12 @@ def test_temperature_changes_the_ph():
     a = make_recipe(BathSpec("a", 1.0, (("sodium carbonate", "1 % w/v"),), temperature_c=20))
     b = make_recipe(BathSpec("b", 1.0, (("sodium carbonate", "1 % w/v"),), temperature_c=50))
     assert b.predicted_ph < a.predicted_ph - 0.2  # carbonate and water pK fall with T
+
+
+def test_bath_without_target_has_null_target_in_json():
+    d = make_recipe(BathSpec("n", 0.5, (("Citric Acid", "1 % w/v"),))).to_dict()
+    assert d["target_ph"] is None and d["volume_l"] == 0.5
+    assert d["ingredients"][0]["grams"] == pytest.approx(5.0 / 0.995)
+    # 10 g/L = 0.0520 mol/L citric acid: handbook pKa (Benezeth et al. 1997) with Davies
+    # activity give pH 2.23 (the independent solver in test_chemistry_speciation.py)
+    assert d["predicted_ph"] == pytest.approx(2.23, abs=0.02)

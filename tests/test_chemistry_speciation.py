@@ -146,3 +146,12 @@ def test_several_solutions_one_call():
     before = speciation.call_count()
     solve([{"Citrate": 0.01 * k} for k in range(1, 11)])
     assert speciation.call_count() - before == 1
+
+
+def test_own_oxalate_definition_matches_sit_dat():
+    # minteq.v4 lacks oxalate; ours copies sit.dat's constants (Hummel et al. 2005,
+    # NEA-TDB), so a dilute solution must give the same pH in both databases.
+    a = solve([{"Oxalate": 0.01}])[0].ph
+    b = solve([{"Oxalate": 0.01}], database="sit.dat")[0].ph
+    assert a == pytest.approx(b, abs=0.01)
+    assert 1.9 < a < 2.3

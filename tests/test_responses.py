@@ -135,6 +135,13 @@ def test_timestamps_and_timecourse():
     assert not b.loc["B02", "reached_90"]
     assert any("B02: 90 % removal not reached" in w for w in r.warnings)
     assert "time_to_90_h" in r.measures()
+    # exact curves: t40 ratio = k_B01 / k_B02 = 0.4 / 0.05 = 8 (B02 reaches 40 % at 10.2 h)
+    ratio = r.time_ratio("B02", "B01", level_pct=40)
+    assert ratio.ratio == pytest.approx(8.0, rel=1e-5)
+    with pytest.raises(ResponseError, match="does not reach 90 %"):
+        r.time_ratio("B02", "B01")
+    with pytest.raises(ResponseError, match="no fitted removal curve"):
+        r.time_ratio("B09", "B01")
 
 
 def test_json_contract():

@@ -36,12 +36,15 @@ def test_layout_of_the_file(plan, tmp_path):
     assert g[2] == [c.name for c in lay.columns]
     assert len(g) == 3 + len(plan.table)
     names = g[2]
-    first = dict(zip(names, g[3], strict=True))
-    want = plan.table.sort_values(["run", "coupon"]).iloc[0]
-    assert first["coupon"] == want["coupon"]
-    assert first["run"] == "1"
-    assert float(first["chelator"]) == want["chelator"]
-    assert first["mass_initial_g"] == ""
+    rows = [dict(zip(names, r, strict=True)) for r in g[3:]]
+    ordered = plan.table.sort_values(["run", "coupon"])
+    assert [r["coupon"] for r in rows] == ordered["coupon"].tolist()
+    assert rows[0]["run"] == "1"
+    factorial = next(i for i, r in enumerate(rows) if r["point"] == "factorial")
+    want = ordered.iloc[factorial]
+    assert float(rows[factorial]["chelator"]) == want["chelator"]
+    assert rows[factorial]["surfactant"] == want["surfactant"]
+    assert all(r["mass_initial_g"] == "" for r in rows)
 
 
 def test_control_bath_has_empty_factor_cells(plan, tmp_path):

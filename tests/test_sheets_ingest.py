@@ -254,3 +254,29 @@ def test_report_faces(plan, blanks, tmp_path):
                     {"B01-R1": {"mass_initial_g": 20.0, "notes": "<b>x</b>"}})
     html = ingest_sheet(good, plan)._repr_html_()
     assert "&lt;b&gt;x&lt;/b&gt;" in html and "<b>x</b>" not in html
+
+
+def test_xlsx_with_both_tabs_filled(plan, blanks, tmp_path):
+    from trialkit.sheets.export_xlsx import FIRST_DATA_ROW
+
+    def inspections(wb):
+        ws = wb["Inspections"]
+        col = {name: xlsx_col(wb, name, "Inspections")
+               for name in ("coupon", "inspection", "elapsed_h", "coverage_pct", "notes")}
+        for r in range(FIRST_DATA_ROW, ws.max_row + 1):
+            if ws.cell(r, col["coupon"]).value == "B02-R1":
+                i = ws.cell(r, col["inspection"]).value
+                ws.cell(r, col["elapsed_h"]).value = [2.0, 24.25][i - 1]
+                ws.cell(r, col["coverage_pct"]).value = [55.0, 10.0][i - 1]
+                ws.cell(r, col["notes"]).value = "@ edge"
+
+    sheet = fill_xlsx(blanks[1], tmp_path / "both.xlsx", good_readings(), edit=inspections)
+    report = ingest_sheet(sheet, plan)
+    assert report.status == "accepted", repr(report)
+    log = RecordLog.for_folder(plan.trial.folder)
+    tc = log.current_timecourse()
+    assert sorted(tc[["coupon", "inspection", "field", "value"]].values.tolist()) == [
+        ["B02-R1", 1, "coverage_pct", 55.0], ["B02-R1", 1, "elapsed_h", 2.0],
+        ["B02-R1", 1, "notes", "@ edge"], ["B02-R1", 2, "coverage_pct", 10.0],
+        ["B02-R1", 2, "elapsed_h", 24.25], ["B02-R1", 2, "notes", "@ edge"]]
+    assert log.current_values(plan).set_index("coupon").loc["B01-R1", "mass_initial_g"] == 25.125

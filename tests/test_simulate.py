@@ -214,16 +214,6 @@ def test_cleaning_cycles_extrapolate_back_to_the_uncleaned_mass():
 
 
 # -- noise -----------------------------------------------------------------------------------
-@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(seed=st.integers(0, 2**32 - 1), sd=st.floats(0.0, 40.0))
-def test_coverage_readings_stay_within_0_and_100(seed, sd):
-    truth = BathTruth(noise=NoiseModel(coverage_reading_sd_pct=sd))
-    sim = simulate_readings(_SMALL_PLAN, truth, seed=seed, inspections_h=[1, 5])
-    for values in (sim.coupons["coverage_before_pct"], sim.coupons["coverage_after_pct"],
-                   sim.timecourse["coverage_pct"]):
-        assert values.between(0.0, 100.0).all()
-
-
 _SMALL_PLAN = make_plan(parse_trial_text("""
 [trial]
 title = "small"
@@ -238,6 +228,18 @@ count = 3
 [layout]
 controls = ["untreated"]
 """))
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 2**32 - 1), sd=st.floats(0.0, 40.0))
+def test_coverage_readings_stay_within_0_and_100(seed, sd):
+    truth = BathTruth(noise=NoiseModel(coverage_reading_sd_pct=sd))
+    sim = simulate_readings(_SMALL_PLAN, truth, seed=seed, inspections_h=[1, 5])
+    for values in (sim.coupons["coverage_before_pct"], sim.coupons["coverage_after_pct"],
+                   sim.timecourse["coverage_pct"]):
+        assert values.between(0.0, 100.0).all()
+
+
 
 
 def test_readings_are_rounded_to_the_stated_resolutions(plan):
@@ -276,14 +278,41 @@ count = 2
         simulate_readings(p, BathTruth(), seed=1)
 
 
+def test_factor_in_another_unit_is_refused():
+    p = make_plan(parse_trial_text("""
+[trial]
+title = "t"
+seed = 1
+[[factor]]
+name = "chelator"
+unit = "g/L"
+low = 20
+high = 80
+[design]
+kind = "sweep"
+count = 2
+"""))
+    with pytest.raises(SimulationError, match="g/L"):
+        simulate_readings(p, BathTruth(), seed=1)
+
+
 @pytest.mark.parametrize("kwargs, match", [
+    ({"seed": None}, "seed must be"),
+    ({"seed": -1}, "seed must be"),
     ({"inspections_h": [0, 4]}, "above 0"),
     ({"inspections_h": [4, 30], "immersion_h": 24}, "last inspection"),
     ({"immersion_h": 1.0001}, "whole number of minutes"),
 ])
-def test_bad_times_are_refused(plan, kwargs, match):
+def test_bad_times_and_seeds_are_refused(plan, kwargs, match):
+    kwargs = {"seed": 1, **kwargs}
     with pytest.raises(SimulationError, match=match):
-        simulate_readings(plan, BathTruth(), seed=1, **kwargs)
+        simulate_readings(plan, BathTruth(), **kwargs)
+
+
+def test_area_can_be_left_for_the_responses(plan):
+    sim = simulate_readings(plan, BathTruth(), seed=1, record_area=False)
+    assert sim.coupons["area_cm2"].isna().all()
+    assert sim.coupons["length_mm"].notna().all()
 
 
 def test_result_object_is_plain_data(plan):

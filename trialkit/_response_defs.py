@@ -236,3 +236,22 @@ def bath_table(coupons: pd.DataFrame, plan_cols: list[str]) -> pd.DataFrame:
             row[f"{name}_n"] = len(v)
         rows.append(row)
     return pd.DataFrame(rows)
+
+
+def records(frame: pd.DataFrame) -> list[dict]:
+    out = []
+    for row in frame.to_dict(orient="records"):
+        out.append({str(k): plain(v) for k, v in row.items()})
+    return out
+
+
+def plain(value: Any) -> Any:
+    if value is None or value is pd.NA or value is pd.NaT:
+        return None
+    if isinstance(value, pd.Timestamp):
+        return value.isoformat()
+    if isinstance(value, np.generic):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value

@@ -115,13 +115,27 @@ class Responses:
         return pd.Series(self.baths[col].to_numpy(dtype=float), index=self.baths["bath"],
                          name=measure)
 
+    def time_ratio(self, bath: str, reference: str, *, level_pct: float = 90.0,
+                   confidence: float = 0.95):
+        """How many times as long ``bath`` takes as ``reference`` (see
+        :func:`trialkit.kinetics.time_ratio`); needs time-course readings of both."""
+        from trialkit.kinetics import time_ratio
+
+        missing = [b for b in (bath, reference) if b not in self.kinetics]
+        if missing:
+            raise ResponseError(
+                f"no fitted removal curve for {missing}; fitted baths: "
+                f"{sorted(self.kinetics) or 'none'}. Record time-course readings first.")
+        return time_ratio(self.kinetics[bath], self.kinetics[reference], level_pct=level_pct,
+                          bath=bath, reference_name=reference, confidence=confidence)
+
     def to_dict(self) -> dict:
         """Plain data for JSON: ``coupons`` and ``baths`` lists, methods, problems."""
         return {
             "metal": self.metal,
             "density_g_cm3": self.density_g_cm3,
-            "coupons": _records(self.coupons),
-            "baths": _records(self.baths),
+            "coupons": defs.records(self.coupons),
+            "baths": defs.records(self.baths),
             "methods": self.methods,
             "problems": [p.__dict__ for p in self.problems],
             "warnings": list(self.warnings),
@@ -129,9 +143,13 @@ class Responses:
         }
 
     def __repr__(self) -> str:
-        return (f"Responses({len(self.coupons)} coupons, {len(self.baths)} baths, "
-                f"metal={self.metal!r}, {len(self.problems)} problems, "
-                f"{len(self.warnings)} warnings)")
+        def count(n: int, word: str) -> str:
+            return f"{n} {word}{'' if n == 1 else 's'}"
+
+        return (f"Responses({count(len(self.coupons), 'coupon')}, "
+                f"{count(len(self.baths), 'bath')}, metal={self.metal!r}, "
+                f"{count(len(self.problems), 'problem')}, "
+                f"{count(len(self.warnings), 'note')})")
 
     def _repr_html_(self) -> str:
         cols = ["bath"] + [c for c in self.baths.columns if c.endswith("_mean")]
@@ -141,25 +159,6 @@ class Responses:
         if self.problems:
             parts += ["<p><b>Problems</b></p>", self.problems._repr_html_()]
         return "\n".join(parts)
-
-
-def _records(frame: pd.DataFrame) -> list[dict]:
-    out = []
-    for row in frame.to_dict(orient="records"):
-        out.append({str(k): _plain(v) for k, v in row.items()})
-    return out
-
-
-def _plain(value: Any) -> Any:
-    if value is None or value is pd.NA or value is pd.NaT:
-        return None
-    if isinstance(value, pd.Timestamp):
-        return value.isoformat()
-    if isinstance(value, np.generic):
-        value = value.item()
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
 
 
 def _spec_get(spec: Any, key: str, default: Any = None) -> Any:

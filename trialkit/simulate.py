@@ -58,7 +58,7 @@ import pandas as pd
 
 from trialkit.plan import Plan
 from trialkit.readings import COUPON_FIELDS, TIMECOURSE_FIELDS, cleaning_cycle_fields
-from trialkit.truth_models import BathTruth, SimulationError
+from trialkit.truth_models import ROLE_UNITS, BathTruth, SimulationError
 
 #: ASTM G1 corrosion-rate constant for mm/y (W in g, A in cm², T in h, D in g/cm³).
 K_MM_PER_Y = 8.76e4
@@ -227,6 +227,9 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     -------
     SimulatedReadings
     """
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise SimulationError(f"seed must be a whole number >= 0 (the readings must be "
+                              f"reproducible); got {seed!r}")
     inspections = sorted(float(t) for t in (inspections_h or ()))
     if any(t <= 0 for t in inspections):
         raise SimulationError(f"inspection times must be above 0 h; got {inspections}")
@@ -244,6 +247,11 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     cycles = plan.trial.coupons.cleaning_cycles if plan.trial.coupons else 0
     factor_names = plan.factor_names
     truth.conditions({n: np.nan for n in factor_names})  # refuses unknown factor names
+    wrong = [f"{f.name} in {f.unit!r} (needs {ROLE_UNITS[f.name]!r})" for f in plan.trial.factors
+             if f.is_continuous and f.unit not in ("", ROLE_UNITS.get(f.name, f.unit))]
+    if wrong:
+        raise SimulationError(f"the truth model reads factors in fixed units; got "
+                              f"{', '.join(wrong)}. Give the factors those units.")
 
     streams = [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(5)]
     rng_block, rng_bath, rng_coupon, rng_inspect, rng_cycles = streams
@@ -304,7 +312,8 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
             return true_initial - removed - base_metal_loss_g(corrosion, area, t, density)
 
         def coverage_reading(t: float, zz: float, c0=c0, rate=rate) -> float:
-            c = c0 * math.exp(-rate * t) + noise.coverage_reading_sd_pct * zz
+            c = c0 * math.exp(-rate * t)
+            c += noise.coverage_reading_sd_pct * math.sqrt(c * (100.0 - c)) / 50.0 * zz
             return _round(min(100.0, max(0.0, c)), noise.coverage_resolution_pct)
 
         def weigh(m: float, zz: float) -> float:
@@ -422,43 +431,3 @@ def confirmation_plan(plan: Plan, recipe: dict, *, baths: int = 3) -> Plan:
     return replace(plan, table=table, baths=bath_table,
                    notes=[f"{baths} confirmation baths at {recipe}"])
 
-
-def write_example(name: str, trial_folder: str | Path, out: str | Path) -> list[Path]:
-    """Plan an example trial and write its plan and invented readings into ``out``.
-
-    ``name`` is a key of :data:`trialkit.truth_models.EXAMPLES`.  Writes ``plan.csv``,
-    ``plan.json`` and ``readings/`` (``coupons.csv``, ``timecourse.csv`` if inspected,
-    ``confirmation.csv`` if the scenario has confirmation baths, ``truth.json``).
-    """
-    import json
-
-    from trialkit.plan import load_plan
-    from trialkit.truth_models import EXAMPLES
-
-    if name not in EXAMPLES:
-        raise SimulationError(f"no example scenario {name!r}; known: {', '.join(EXAMPLES)}")
-    sc = EXAMPLES[name]
-    out = Path(out)
-    plan = load_plan(trial_folder)
-    paths = [plan.write(out), out / "plan.json"]
-    sim = simulate_readings(plan, sc.truth, seed=sc.seed, inspections_h=sc.inspections_h,
-                            immersion_h=sc.immersion_h)
-    folder = out / READINGS_FOLDER
-    paths += sim.write(folder)
-    truth = {"scenario": name, **sim.truth, "true_baths": sim.to_dict()["true_baths"]}
-    if sc.confirmation_baths:
-        conf = simulate_readings(
-            confirmation_plan(plan, dict(sc.confirmation_recipe), baths=sc.confirmation_baths),
-            sc.truth, seed=sc.confirmation_seed, immersion_h=sc.immersion_h)
-        path = folder / "confirmation.csv"
-        path.write_text(conf.coupons.to_csv(index=False, lineterminator="\n"),
-                        encoding="utf-8", newline="")
-        paths.append(path)
-        truth["confirmation"] = {"recipe": dict(sc.confirmation_recipe),
-                                 "seed": sc.confirmation_seed,
-                                 "true_baths": conf.to_dict()["true_baths"]}
-    path = folder / "truth.json"
-    path.write_text(json.dumps(truth, indent=1, sort_keys=True) + "\n", encoding="utf-8",
-                    newline="")
-    paths.append(path)
-    return paths

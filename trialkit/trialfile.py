@@ -29,14 +29,17 @@ from __future__ import annotations
 import importlib
 import re
 import tomllib
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from trialkit.exceptions import TrialFileError
 from trialkit.factors import CATEGORICAL, CONTINUOUS, FACTOR_KINDS, Factor
 from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.trialspec import CouponSpec, DesignSpec, Layout, ResponseSpec, Trial
 from trialkit.units import UnitError, check_unit, to_unit
+
+__all__ = ["CouponSpec", "DesignSpec", "Layout", "ResponseSpec", "Trial", "find_trial_file",
+           "load_trial", "parse_trial_text", "SECTION_PARSERS", "TRIAL_FILE_NAME"]
 
 TRIAL_FILE_NAME = "trial.toml"
 
@@ -62,117 +65,6 @@ COUPON_SHAPES = ("plate", "disc", "cylinder", "bar", "given")
 CONTROL_KINDS = ("untreated", "reference")
 GOALS = ("maximize", "minimize", "target", "none")
 NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
-
-
-@dataclass(frozen=True)
-class DesignSpec:
-    """The ``[design]`` section: the design kind and its kind-specific options."""
-
-    kind: str
-    options: dict = field(default_factory=dict)
-
-
-@dataclass(frozen=True)
-class Layout:
-    """The ``[layout]`` section: how design points become baths and coupons."""
-
-    replicates: int = 1
-    blocks: int = 1
-    block_label: str = "block"
-    center_points: int = 0
-    controls: tuple[str, ...] = ()
-    coupons_per_bath: int = 1
-    witness_coupons: int = 0
-
-
-@dataclass(frozen=True)
-class ResponseSpec:
-    """One ``[[response]]``: what is measured and what the trial wants of it."""
-
-    name: str
-    unit: str = ""
-    goal: str = "maximize"
-    target: float | None = None
-    lower: float | None = None
-    upper: float | None = None
-    weight: float = 1.0
-    importance: float = 1.0
-    measure: str = ""
-    description: str = ""
-
-    def to_dict(self) -> dict:
-        return dict(self.__dict__)
-
-
-@dataclass(frozen=True)
-class CouponSpec:
-    """The ``[coupons]`` section: default coupon geometry (mm) and metal."""
-
-    shape: str = "plate"
-    length_mm: float | None = None
-    width_mm: float | None = None
-    thickness_mm: float | None = None
-    diameter_mm: float | None = None
-    holes: tuple[float, ...] = ()
-    area_cm2: float | None = None
-    metal: str = "carbon steel"
-    cleaning_cycles: int = 0
-    description: str = ""
-
-
-@dataclass
-class Trial:
-    """Everything the trial file says, checked.
-
-    Attributes
-    ----------
-    path : Path or None
-        The trial file (``None`` when parsed from text).
-    title, seed, question, notes : str, int, str, str
-        From ``[trial]``.
-    factors : tuple of Factor
-    design : DesignSpec
-    layout : Layout
-    responses : tuple of ResponseSpec
-    coupons : CouponSpec or None
-    sections : dict
-        Parsed extension sections (``bath``, ``sheet`` ...), keyed by section name.
-    raw : dict
-        The TOML document as read.
-    """
-
-    path: Path | None
-    title: str
-    seed: int
-    factors: tuple[Factor, ...]
-    design: DesignSpec
-    layout: Layout
-    responses: tuple[ResponseSpec, ...] = ()
-    coupons: CouponSpec | None = None
-    question: str = ""
-    notes: str = ""
-    operator: str = ""
-    sections: dict[str, Any] = field(default_factory=dict)
-    raw: dict = field(default_factory=dict, repr=False)
-
-    @property
-    def folder(self) -> Path | None:
-        """The trial folder (the folder holding the trial file)."""
-        return None if self.path is None else self.path.parent
-
-    def factor(self, name: str) -> Factor:
-        """The factor called ``name`` (KeyError if none)."""
-        for f in self.factors:
-            if f.name == name:
-                return f
-        raise KeyError(name)
-
-    def response(self, name: str) -> ResponseSpec:
-        """The response called ``name`` (KeyError if none)."""
-        for r in self.responses:
-            if r.name == name:
-                return r
-        raise KeyError(name)
 
 
 # -- public entry points -----------------------------------------------------------------
@@ -306,30 +198,37 @@ def _table(doc: dict, key: str, p: ProblemReport, required: bool = False) -> dic
     return value
 
 
+def _named_tables(raw: Any, section: str, allowed: tuple[str, ...], example: str,
+                  p: ProblemReport):
+    """Yield ``(table, name, where)`` for each well-formed ``[[section]]`` with a unique name."""
+    seen: set[str] = set()
+    for i, table in enumerate(raw, start=1):
+        where = f"{section}[{i}]"
+        if not isinstance(table, dict):
+            p.add(where, f"each {section} must be a [[{section}]] table", check="not_table")
+            continue
+        _unknown_keys(table, allowed, where, p)
+        name = table.get("name")
+        if not isinstance(name, str) or not NAME_PATTERN.match(name):
+            p.add(f"{where}.name", f"a {section} name must start with a letter and use only "
+                  "letters, digits and _", value=name, check="bad_name",
+                  fix=f'write e.g. name = "{example}"')
+            continue
+        where = f"{section}[{i}] ({name})"
+        if name.lower() in seen:
+            p.add(f"{where}.name", f"{section} name {name!r} is used twice", value=name,
+                  check="duplicate_name", fix=f"give every {section} its own name")
+        seen.add(name.lower())
+        yield table, name, where
+
+
 def _check_factors(raw: Any, p: ProblemReport) -> list[Factor]:
     if not isinstance(raw, list) or not raw:
         p.add("factor", "the trial needs at least one [[factor]]", check="no_factors",
               fix='add [[factor]] with name, unit, low and high (or levels = ["a", "b"])')
         return []
     factors: list[Factor] = []
-    seen: set[str] = set()
-    for i, table in enumerate(raw, start=1):
-        where = f"factor[{i}]"
-        if not isinstance(table, dict):
-            p.add(where, "each factor must be a [[factor]] table", check="not_table")
-            continue
-        _unknown_keys(table, FACTOR_KEYS, where, p)
-        name = table.get("name")
-        if not isinstance(name, str) or not NAME_PATTERN.match(name):
-            p.add(f"{where}.name", "a factor name must start with a letter and use only "
-                  "letters, digits and _", value=name, check="bad_name",
-                  fix='write e.g. name = "chelator"')
-            continue
-        where = f"factor[{i}] ({name})"
-        if name.lower() in seen:
-            p.add(f"{where}.name", f"factor name {name!r} is used twice", value=name,
-                  check="duplicate_name", fix="give every factor its own name")
-        seen.add(name.lower())
+    for table, name, where in _named_tables(raw, "factor", FACTOR_KEYS, "chelator", p):
         f = _check_one_factor(table, name, where, p)
         if f is not None:
             factors.append(f)
@@ -474,24 +373,7 @@ def _check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
         p.add("response", "responses must be [[response]] tables", check="not_table")
         return []
     out: list[ResponseSpec] = []
-    seen: set[str] = set()
-    for i, table in enumerate(raw, start=1):
-        where = f"response[{i}]"
-        if not isinstance(table, dict):
-            p.add(where, "each response must be a [[response]] table", check="not_table")
-            continue
-        _unknown_keys(table, RESPONSE_KEYS, where, p)
-        name = table.get("name")
-        if not isinstance(name, str) or not NAME_PATTERN.match(name):
-            p.add(f"{where}.name", "a response name must start with a letter and use only "
-                  "letters, digits and _", value=name, check="bad_name",
-                  fix='write e.g. name = "removal"')
-            continue
-        where = f"response[{i}] ({name})"
-        if name.lower() in seen:
-            p.add(f"{where}.name", f"response name {name!r} is used twice", value=name,
-                  check="duplicate_name", fix="give every response its own name")
-        seen.add(name.lower())
+    for table, name, where in _named_tables(raw, "response", RESPONSE_KEYS, "removal", p):
         unit = str(table.get("unit", ""))
         if unit:
             try:

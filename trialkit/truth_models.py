@@ -12,10 +12,12 @@ model's baseline):
 
 - rust coverage falls first order, ``coverage(t) = coverage(0) * exp(-k t)``, with
 
-  ``ln k = ln k_peak - ln(c / c_opt)**2 / (2 w**2) + s_pH (pH - pH_0)
+  ``ln k = ln k_peak - ln(1 + (c - c_opt)**2 / (2 w**2)) + s_pH (pH - pH_0)
   - (E_r / R) (1/T - 1/T_0) + e_surf [surfactant added] + e_agit [agitation periodic]``
 
-  (``c`` chelator in % w/v, ``T`` in kelvin, ``R`` = 8.314462618 J/(mol K), CODATA 2018;
+  (``c`` chelator in % w/v: a peak of width ``w`` at ``c_opt``, symmetric and smooth
+  near the optimum with long tails, so removal slows strongly at high levels;
+  ``T`` in kelvin, ``R`` = N_A k = 8.31446261815324 J/(mol K), exact in the SI;
   ``pH_0`` and ``T_0`` are the model's anchor, ``model_ph`` and ``model_temperature_c``);
 - base-metal (witness) corrosion rate in mm/y,
 
@@ -38,14 +40,17 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import asdict, dataclass, field, replace
+from pathlib import Path
 
 import numpy as np
 
 from trialkit.exceptions import TrialkitError
 
-GAS_CONSTANT = 8.314462618  # J/(mol K), CODATA 2018 exact value of R
+GAS_CONSTANT = 6.02214076e23 * 1.380649e-23  # J/(mol K): N_A k, both exact in the SI (2019)
 ZERO_CELSIUS_K = 273.15
 ROLES = ("chelator", "ph", "temperature", "surfactant", "agitation")
+#: Units the model reads continuous factors in.
+ROLE_UNITS = {"chelator": "% w/v", "ph": "pH", "temperature": "degC"}
 
 
 class SimulationError(TrialkitError):
@@ -56,17 +61,20 @@ class SimulationError(TrialkitError):
 class NoiseModel:
     """Standard deviations of the invented variation (all zero: :meth:`off`).
 
-    Log-scale SDs multiply a rate by ``exp(N(0, sd))``.  Readings are rounded to the
+    Log-scale SDs multiply a rate by ``exp(N(0, sd))``.  A coverage reading of true
+    coverage ``c`` % has SD ``coverage_reading_sd_pct * sqrt(c (100 - c)) / 50``: the full
+    SD at half coverage, less towards bare and fully rusted surfaces, which are easy to
+    judge.  Readings are rounded to the
     stated resolutions (balance 0.1 mg, coverage 1 %, dimensions 0.01 mm, area 0.01 cm²,
     the last as ASTM G1 asks); a resolution of 0 means no rounding.
     """
 
-    block_log_rate_sd: float = 0.06
-    bath_log_rate_sd: float = 0.08
-    coupon_log_rate_sd: float = 0.05
+    block_log_rate_sd: float = 0.08
+    bath_log_rate_sd: float = 0.10
+    coupon_log_rate_sd: float = 0.08
     bath_log_corrosion_sd: float = 0.10
     coupon_log_corrosion_sd: float = 0.06
-    coverage_reading_sd_pct: float = 1.5
+    coverage_reading_sd_pct: float = 2.0
     rust_mass_sd_rel: float = 0.08
     balance_sd_g: float = 0.0001
     dimension_sd_mm: float = 0.05
@@ -94,8 +102,9 @@ class BathTruth:
         First-order removal rate constant k (1/h) at the chelator optimum and baseline.
     chelator_optimum : float
         Chelator level (% w/v) of fastest removal, whatever the other factors.
-    chelator_log_width : float
-        Width w of the log-parabola in chelator.
+    chelator_width : float
+        Width w (% w/v) of the peak in chelator: at ``c_opt +- w*sqrt(2)`` the rate is
+        half the peak rate.
     ph_log_slope : float
         d ln k / d pH (negative: more acidic baths clean faster).
     removal_activation_kj_per_mol, corrosion_activation_kj_per_mol : float
@@ -130,18 +139,18 @@ class BathTruth:
     description: str = ""
     peak_rate_per_h: float = 0.12
     chelator_optimum: float = 5.0
-    chelator_log_width: float = 0.7
+    chelator_width: float = 3.0
     ph_log_slope: float = -0.25
     removal_activation_kj_per_mol: float = 40.0
     surfactant_log_effect: float = 0.0
     agitation_log_effect: float = 0.3
-    base_corrosion_mm_per_y: float = 0.02
+    base_corrosion_mm_per_y: float = 0.04
     acid_corrosion_mm_per_y: float = 1.5
     acid_ph_half: float = 4.5
     acid_ph_scale: float = 0.4
-    chelator_corrosion_per_pct: float = 0.03
-    corrosion_activation_kj_per_mol: float = 20.0
-    agitation_corrosion_log_effect: float = 0.18
+    chelator_corrosion_per_pct: float = 0.0
+    corrosion_activation_kj_per_mol: float = 30.0
+    agitation_corrosion_log_effect: float = 0.4
     surfactant_corrosion_log_effect: float = 0.0
     model_ph: float = 6.5
     model_temperature_c: float = 20.0
@@ -194,8 +203,8 @@ class BathTruth:
         """First-order removal rate constant k (1/h)."""
         x = self.conditions(values)
         log_k = (math.log(self.peak_rate_per_h)
-                 - math.log(float(x["chelator"]) / self.chelator_optimum) ** 2
-                 / (2.0 * self.chelator_log_width ** 2)
+                 - math.log1p((float(x["chelator"]) - self.chelator_optimum) ** 2
+                              / (2.0 * self.chelator_width ** 2))
                  + self.ph_log_slope * (float(x["ph"]) - self.model_ph)
                  + self.surfactant_log_effect * (x["surfactant"] == "added")
                  + self.agitation_log_effect * (x["agitation"] == "periodic"))
@@ -317,12 +326,12 @@ EXAMPLES: dict[str, ExampleScenario] = {
         folder="five-factor-screen",
         truth=BathTruth(
             name="five-factor screen (invented)",
-            description="chelator, pH, temperature and agitation change removal; surfactant "
-                        "changes nothing; pH, temperature, agitation and (weakly) chelator "
-                        "change attack",
+            description="chelator (peak at 5 % w/v), pH, temperature and agitation change "
+                        "removal; pH, temperature and agitation change attack; surfactant "
+                        "changes nothing",
             baseline={"chelator": 4.0, "ph": 6.5, "temperature": 30.0,
                       "surfactant": "none", "agitation": "none"}),
-        seed=8102, immersion_h=8.0, inspections_h=(1.0, 2.0, 4.0, 8.0)),
+        seed=8105, immersion_h=8.0, inspections_h=(1.0, 2.0, 4.0, 8.0)),
     "surface-follow-up": ExampleScenario(
         folder="surface-follow-up",
         truth=BathTruth(
@@ -346,3 +355,48 @@ def surface_desirability(truth: BathTruth, x: Mapping, *, hours: float = 8.0) ->
     d1 = one_sided_desirability(truth.removal_pct(x, hours), 50.0, 90.0, "maximize")
     d2 = one_sided_desirability(truth.corrosion_mm_per_y(x), 0.05, 0.30, "minimize")
     return math.sqrt(d1 * d2)
+
+
+def write_example(name: str, trial_folder: str | Path, out: str | Path) -> list[Path]:
+    """Plan an example trial and write its plan and invented readings into ``out``.
+
+    ``name`` is a key of :data:`EXAMPLES`.  Writes ``plan.csv``,
+    ``plan.json`` and ``readings/`` (``coupons.csv``, ``timecourse.csv`` if inspected,
+    ``confirmation.csv`` if the scenario has confirmation baths, ``truth.json``).
+    """
+    import json
+
+    from trialkit.plan import load_plan
+    from trialkit.simulate import (
+        READINGS_FOLDER,
+        confirmation_plan,
+        simulate_readings,
+    )
+
+    if name not in EXAMPLES:
+        raise SimulationError(f"no example scenario {name!r}; known: {', '.join(EXAMPLES)}")
+    sc = EXAMPLES[name]
+    out = Path(out)
+    plan = load_plan(trial_folder)
+    paths = [plan.write(out), out / "plan.json"]
+    sim = simulate_readings(plan, sc.truth, seed=sc.seed, inspections_h=sc.inspections_h,
+                            immersion_h=sc.immersion_h)
+    folder = out / READINGS_FOLDER
+    paths += sim.write(folder)
+    truth = {"scenario": name, **sim.truth, "true_baths": sim.to_dict()["true_baths"]}
+    if sc.confirmation_baths:
+        conf = simulate_readings(
+            confirmation_plan(plan, dict(sc.confirmation_recipe), baths=sc.confirmation_baths),
+            sc.truth, seed=sc.confirmation_seed, immersion_h=sc.immersion_h)
+        path = folder / "confirmation.csv"
+        path.write_text(conf.coupons.to_csv(index=False, lineterminator="\n"),
+                        encoding="utf-8", newline="")
+        paths.append(path)
+        truth["confirmation"] = {"recipe": dict(sc.confirmation_recipe),
+                                 "seed": sc.confirmation_seed,
+                                 "true_baths": conf.to_dict()["true_baths"]}
+    path = folder / "truth.json"
+    path.write_text(json.dumps(truth, indent=1, sort_keys=True) + "\n", encoding="utf-8",
+                    newline="")
+    paths.append(path)
+    return paths

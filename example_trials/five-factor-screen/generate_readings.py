@@ -32,7 +32,7 @@ def main(argv: list[str] | None = None) -> int:
         import trialkit  # noqa: F401
     except ModuleNotFoundError:  # run from a source tree without installing
         sys.path.insert(0, str(HERE.parents[1]))
-    from trialkit.simulate import write_example
+    from trialkit.truth_models import write_example
 
     for path in write_example(SCENARIO, HERE, Path(args.out)):
         print(f"wrote {path}")

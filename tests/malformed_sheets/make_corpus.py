@@ -7,9 +7,8 @@ corpus into a folder for inspection::
 
     PYTHONPATH=. python tests/malformed_sheets/make_corpus.py /tmp/corpus
 
-The trial below is used through :func:`trialkit.plan.make_plan` when the design builders
-are available; until then an equivalent plan (same columns and ids, a 2 x 2 factorial plus
-one untreated control) is laid out by hand.
+The test trial (a 2 x 2 full factorial plus one untreated control, two rusted and one
+witness coupon per bath) is laid out by :func:`trialkit.plan.make_plan`.
 """
 
 from __future__ import annotations
@@ -71,71 +70,12 @@ def write_trial(folder: Path, *, title: str = DEFAULT_TITLE, seed: int = 4242,
     return folder
 
 
-def hand_plan(trial: Any) -> Any:
-    """The plan of the test trial laid out by hand (columns as the Plan contract)."""
-    from trialkit.plan import Plan
-
-    points = [(2.0, "none"), (10.0, "none"), (2.0, "added"), (10.0, "added")]
-    baths = []
-    for i, (c, s) in enumerate(points, start=1):
-        baths.append({"bath": f"B0{i}", "point": "factorial", "chelator": c, "surfactant": s,
-                      "std_order": i})
-    baths.append({"bath": "B05", "point": "control", "chelator": float("nan"),
-                  "surfactant": float("nan"), "std_order": 5})
-    order = [3, 1, 5, 4, 2] if trial.seed % 2 == 0 else [2, 5, 1, 3, 4]
-    rows = []
-    for run, b in enumerate(order, start=1):
-        bath = baths[b - 1]
-        for kind, suffix in (("rusted", "R1"), ("rusted", "R2"), ("witness", "W1")):
-            rows.append({"run": run, "bath": bath["bath"], "coupon": f"{bath['bath']}-{suffix}",
-                         "coupon_kind": kind, "block": 1, "point": bath["point"],
-                         "chelator": bath["chelator"], "surfactant": bath["surfactant"],
-                         "replicate": 1, "std_order": bath["std_order"]})
-    table = pd.DataFrame(rows)
-    table["surfactant"] = table["surfactant"].astype(object)
-    bath_table = table.drop(columns=["coupon", "coupon_kind"]).drop_duplicates("bath")
-    return Plan(trial=trial, design=None, table=table, baths=bath_table.reset_index(drop=True),
-                coded=bath_table.set_index("bath")[["chelator", "surfactant"]])
-
-
 def make_test_plan(folder: Path, **kw: Any) -> Any:
     """Write the test trial into ``folder`` and return its plan."""
     from trialkit.plan import make_plan
     from trialkit.trialfile import load_trial
 
-    folder = write_trial(folder, **kw)
-    try:
-        trial = load_trial(folder)
-        return make_plan(trial)
-    except (ImportError, AttributeError):  # design builders not there yet
-        return hand_plan(_hand_trial(folder))
-
-
-def _hand_trial(folder: Path) -> Any:
-    """The test trial without the design checks (until the design builders land)."""
-    import tomllib
-
-    from trialkit.factors import Factor
-    from trialkit.problems import ProblemReport
-    from trialkit.sheets.config import parse_sheet_section
-    from trialkit.trialfile import DesignSpec, Layout, Trial
-
-    path = folder / "trial.toml"
-    doc = tomllib.loads(path.read_text(encoding="utf-8"))
-    problems = ProblemReport(str(path))
-    trial = Trial(path=path, title=doc["trial"]["title"], seed=doc["trial"]["seed"],
-                  factors=(Factor.continuous("chelator", 2.0, 10.0, unit="% w/v"),
-                           Factor.categorical("surfactant", ["none", "added"])),
-                  design=DesignSpec("full-factorial"),
-                  layout=Layout(controls=("untreated",), coupons_per_bath=2,
-                                witness_coupons=1), raw=doc)
-    trial.sections["sheet"] = parse_sheet_section(doc["sheet"], trial, problems, "sheet")
-    if problems:
-        raise ValueError(str(problems))
-    return trial
-
-
-
+    return make_plan(load_trial(write_trial(folder, **kw)))
 
 
 # -- filling sheets ----------------------------------------------------------------------

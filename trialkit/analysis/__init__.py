@@ -1,0 +1,57 @@
+"""Analysis of bath-level responses: ANOVA, effects, reduction, diagnostics, surfaces,
+sweeps, desirability and confirmation.
+
+Modules: :mod:`~trialkit.analysis.model` (fit), :mod:`~trialkit.analysis.anova` (types
+1-3, lack of fit, curvature), :mod:`~trialkit.analysis.exact` (exact decimal shift),
+:mod:`~trialkit.analysis.effects` (two-level effects, alias chains, Lenth),
+:mod:`~trialkit.analysis.reduction`, :mod:`~trialkit.analysis.diagnostics`,
+:mod:`~trialkit.analysis.surface`, :mod:`~trialkit.analysis.sweep`,
+:mod:`~trialkit.analysis.desirability`, :mod:`~trialkit.analysis.confirm`,
+:mod:`~trialkit.analysis.pipeline` (everything for one response),
+:mod:`~trialkit.analysis.config` (the ``[analysis]`` trial-file section).
+Public names are imported on first use so that importing this package stays light
+(``confirm`` is not re-exported here: it is also the name of its module).
+"""
+
+from __future__ import annotations
+
+import importlib
+from typing import Any
+
+_EXPORTS: dict[str, str] = {
+    "fit_model": "trialkit.analysis.model",
+    "ModelFit": "trialkit.analysis.model",
+    "AnovaTable": "trialkit.analysis.anova",
+    "two_level_effects": "trialkit.analysis.effects",
+    "lenth": "trialkit.analysis.effects",
+    "EffectsResult": "trialkit.analysis.effects",
+    "reduce_model": "trialkit.analysis.reduction",
+    "ReductionResult": "trialkit.analysis.reduction",
+    "diagnose": "trialkit.analysis.diagnostics",
+    "Diagnostics": "trialkit.analysis.diagnostics",
+    "fit_surface": "trialkit.analysis.surface",
+    "SurfaceResult": "trialkit.analysis.surface",
+    "fit_sweep": "trialkit.analysis.sweep",
+    "SweepResult": "trialkit.analysis.sweep",
+    "Goal": "trialkit.analysis.desirability",
+    "optimize_desirability": "trialkit.analysis.desirability",
+    "DesirabilityResult": "trialkit.analysis.desirability",
+    "ConfirmationResult": "trialkit.analysis.confirm",
+    "analyze_table": "trialkit.analysis.pipeline",
+    "best_compromise": "trialkit.analysis.pipeline",
+    "AnalysisResult": "trialkit.analysis.pipeline",
+    "factors_from_table": "trialkit.analysis.data",
+    "AnalysisConfig": "trialkit.analysis.config",
+}
+
+__all__ = sorted(_EXPORTS)
+
+
+def __getattr__(name: str) -> Any:
+    if name in _EXPORTS:
+        return getattr(importlib.import_module(_EXPORTS[name]), name)
+    raise AttributeError(f"module 'trialkit.analysis' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return __all__

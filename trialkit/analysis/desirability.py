@@ -32,7 +32,7 @@ import pandas as pd
 from scipy import optimize
 
 from trialkit.analysis.data import finite
-from trialkit.analysis.surface import coded_rows, continuous_factors
+from trialkit.analysis.surface import continuous_factors, quadratic_operators
 from trialkit.exceptions import AnalysisError
 
 DIRECTIONS = ("maximize", "minimize", "target")
@@ -155,11 +155,23 @@ class DesirabilityResult:
             self.summary.to_html(index=False)
 
 
+def _quadratic(fit, fixed):
+    """(c, b, B) of the fitted surface in coded units (exact for order <= 2)."""
+    key = ("quadratic", tuple(sorted((fixed or {}).items())))
+    if key not in fit._cache:
+        Lc, Lb, LB = quadratic_operators(fit, fixed)
+        beta = fit.ls.beta
+        fit._cache[key] = (float(Lc @ beta) + float(fit.shift), Lb @ beta, LB @ beta)
+    return fit._cache[key]
+
+
 def _predict_coded(fit, pts, fixed):
-    return coded_rows(fit, pts, fixed) @ fit.ls.beta + float(fit.shift)
+    c, b, B = _quadratic(fit, fixed)
+    return c + pts @ b + np.einsum("gi,ij,gj->g", pts, B, pts)
 
 
 def _overall(fits, goals, pts, fixed) -> np.ndarray:
+    pts = np.atleast_2d(pts)
     logs = np.zeros(len(pts))
     total = 0.0
     for g in goals:

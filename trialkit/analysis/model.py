@@ -224,6 +224,53 @@ class ModelFit:
                              "ci_high": pred + t * se, "pi_low": pred - t * se_pi,
                              "pi_high": pred + t * se_pi})
 
+    def profile(self, factor: str, *, by: str | None = None, n: int = 21) -> pd.DataFrame:
+        """Predictions along one factor (and per level of ``by``), others at their centre.
+
+        Continuous factors not shown sit at the middle of their range; with sum-to-zero
+        coding, categorical factors not shown are averaged over their levels.  The data of
+        main-effect (``by=None``) and interaction plots.
+
+        Returns
+        -------
+        DataFrame
+            ``factor`` (natural units or level), ``by`` when given, predicted, se_fit,
+            ci_low, ci_high, pi_low, pi_high.
+        """
+        shown = [factor] + ([by] if by else [])
+        facs = {f.name: f for f in self.spec.used_factors}
+        for name in shown:
+            if name not in facs or name == BLOCK:
+                raise AnalysisError(f"{name!r} is not a factor of the model "
+                                    f"{self.spec.to_text()!r}")
+
+        def values(name):
+            f = facs[name]
+            return list(self.mm.levels[name]) if f.is_categorical else \
+                list(np.linspace(f.low, f.high, n if name == factor else 3))
+
+        grid = pd.MultiIndex.from_product([values(s) for s in shown], names=shown).to_frame(
+            index=False)
+        frame = grid.copy()
+        for f in self.spec.used_factors:
+            if f.name in shown or f.name == BLOCK:
+                continue
+            frame[f.name] = f.center if f.is_continuous else self.mm.levels[f.name][0]
+        X = self.design_rows(frame)
+        if self.mm.coding == "sum":
+            hidden = {f.name for f in self.spec.used_factors
+                      if f.is_categorical and f.name not in shown}
+            for t in self.spec.terms:
+                if hidden & set(t.factors):
+                    X[:, self.mm.term_columns[t.name]] = 0.0
+        pred = X @ self.ls.beta + float(self.shift)
+        var = np.einsum("ij,jk,ik->i", X, self.ls.xtx_inv, X) * self.sigma2
+        t = self._t()
+        se, se_pi = np.sqrt(var), np.sqrt(var + self.sigma2)
+        return pd.concat([grid, pd.DataFrame({
+            "predicted": pred, "se_fit": se, "ci_low": pred - t * se, "ci_high": pred + t * se,
+            "pi_low": pred - t * se_pi, "pi_high": pred + t * se_pi})], axis=1)
+
     # -- tables and output ----------------------------------------------------------
     def anova(self, typ: int = 2):
         """The ANOVA table of sums of squares of type 1, 2 or 3."""

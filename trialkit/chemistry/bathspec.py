@@ -36,7 +36,8 @@ from typing import Any
 
 from trialkit.chemistry.amounts import Amount, parse_amount
 from trialkit.chemistry.capacity import DEFAULT_RUST_MG_PER_CM2
-from trialkit.chemistry.catalogue import Catalogue, Ingredient, default_catalogue, parse_ingredient
+from trialkit.chemistry.catalogue import Catalogue, Ingredient, default_catalogue
+from trialkit.chemistry.ingredient_table import parse_ingredient
 from trialkit.chemistry.volume import ASTM_G31_ML_PER_CM2, DEFAULT_CONTAINERS_L
 from trialkit.exceptions import TrialkitError
 from trialkit.problems import ProblemReport, did_you_mean
@@ -144,6 +145,14 @@ def parse_bath_section(raw: Any, trial: Any, problems: ProblemReport,
         if rule is not None:
             rules.append(rule)
     adjust_with = _adjuster(raw.get("adjust_with"), f"{where}.adjust_with", cat, problems)
+    names = [r.name for r in rules]
+    for name in sorted({n for n in names if names.count(n) > 1}):
+        problems.add(f"{where}.ingredient", "the same ingredient is listed twice", value=name,
+                     check="duplicate_ingredient", fix="give each ingredient once")
+    if adjust_with is not None and adjust_with in names:
+        problems.add(f"{where}.adjust_with", "the pH adjuster is also a base-recipe "
+                     "ingredient", value=adjust_with, check="adjuster_is_ingredient",
+                     fix="list it once, as adjust_with (its dose is computed)")
     target = raw.get("target_ph")
     if target is not None and (not _num(target) or not 0 < target < 14):
         problems.add(f"{where}.target_ph", "target pH must be a number between 0 and 14",

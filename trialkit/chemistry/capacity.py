@@ -9,7 +9,7 @@ Examples
 --------
 >>> c = capacity_from_moles(0.1, volume_l=2.0, rust_mg_per_cm2=5.0)
 >>> round(c.g_fe_per_l, 3)
-5.584
+5.585
 """
 
 from __future__ import annotations

@@ -122,35 +122,17 @@ def _fmt(x: Any, digits: int = 3) -> str:
 
 
 def coupon_area_cm2(coupons: Any) -> float | None:
-    """Area of one coupon, cm², from ``[coupons]`` (plate/bar/disc/cylinder or ``area``)."""
+    """Area of one coupon, cm², from ``[coupons]`` (:func:`trialkit.geometry.coupon_area_cm2`);
+    ``None`` when the trial gives no coupons or not enough dimensions."""
     if coupons is None:
         return None
-    try:
-        from trialkit.geometry import coupon_area_cm2 as geometric
+    from trialkit.exceptions import TrialkitError
+    from trialkit.geometry import coupon_area_cm2 as geometric
 
+    try:
         return float(geometric(coupons))
-    except ImportError:
-        pass
-    if getattr(coupons, "area_cm2", None):
-        return float(coupons.area_cm2)
-    shape = coupons.shape
-    t = coupons.thickness_mm or 0.0
-    holes = tuple(coupons.holes or ())
-    if shape in ("plate", "bar") and coupons.length_mm and coupons.width_mm:
-        lng, w = coupons.length_mm, coupons.width_mm
-        area = 2 * (lng * w + lng * t + w * t)
-    elif shape == "disc" and coupons.diameter_mm:
-        d = coupons.diameter_mm
-        area = math.pi / 2 * d**2 + math.pi * d * t
-    elif shape == "cylinder" and coupons.diameter_mm and coupons.length_mm:
-        d = coupons.diameter_mm
-        area = math.pi / 2 * d**2 + math.pi * d * coupons.length_mm
-        holes = ()
-    else:
+    except TrialkitError:
         return None
-    for h in holes:  # a through hole removes two faces' worth and adds its bore
-        area += -math.pi / 2 * h**2 + math.pi * h * t
-    return area / 100.0
 
 
 def _bath_specs(plan: Any, section: BathSection) -> list[tuple[str, str, BathSpec]]:
@@ -265,7 +247,7 @@ def bill_of_materials(recipes: list[BathRecipe], section: BathSection | None = N
         pack_g, pack_text, cost, cur = None, "", None, None
         if ing.price is not None:
             p = ing.price
-            pack_text = f"{p.pack_size:g} {p.pack_unit}"
+            pack_text = p.pack
             ppg = ing.price_per_gram()
             pack_g = p.amount / ppg if ppg else None
             cost, cur = (with_spare * ppg if ppg else None), p.currency

@@ -78,7 +78,11 @@ class BathSpec:
 
 @dataclass(frozen=True)
 class RecipeLine:
-    """One ingredient of a recipe (grams of the product as supplied)."""
+    """One ingredient of a recipe (grams of the product as supplied).
+
+    Lines are kept in order of addition: bases, chelators, salts, acids, surfactants,
+    then the pH adjuster.
+    """
 
     name: str
     grams: float
@@ -197,6 +201,8 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
                            basis_note(ing, amt)))
         moles.append((ing, w.moles))
         hazards.update(ing.hazards)
+    order = {"base": 0, "chelator": 1, "salt": 2, "acid": 3, "surfactant": 4}
+    lines.sort(key=lambda ln: order.get(ln.role, 5))  # order of addition (stable)
     base = _composition(moles, spec.volume_l)
     t = float(spec.temperature_c)
     before = speciation.solve([base], t, label=label)[0] if spec.target_ph is None else None
@@ -262,26 +268,33 @@ def _line(ing: Ingredient, grams: float, basis: str, moles: float, ml: float | N
 
 def _cross_check(base, adj, spec, moles, dose, label, notes) -> dict:
     sit = speciation.CROSS_CHECK_DATABASE
-    comp = _composition(moles, spec.volume_l)
-    ph_sit = speciation.solve([comp], spec.temperature_c, database=sit, label=label)[0].ph
-    out = {"database": sit, "predicted_ph": ph_sit, "dose_g": None, "dose_spread_g": None}
-    text = (f"ionic strength is above {speciation.DAVIES_LIMIT} mol/kg, where the Davies "
-            f"model is unreliable: the specific-ion-interaction model ({sit}) gives pH "
-            f"{ph_sit:.2f} for this recipe")
-    if dose is not None:
+    out = {"database": sit, "predicted_ph": None, "dose_g": None, "dose_spread_g": None}
+    if dose is None:
+        comp = _composition(moles, spec.volume_l)
+        ph_sit = speciation.solve([comp], spec.temperature_c, database=sit, label=label)[0].ph
+        tail = ""
+    else:
         per_g = {sp: n * adj.mol_per_gram_supplied for sp, n in adj.species.items()}
+        tail = "; it cannot reach the target with this adjuster"
         try:
             d_sit = local_dose(base, per_g, float(spec.target_ph), dose.g_per_l,
                                spec.temperature_c, database=sit, label=label,
                                adjuster=adj.name)
+            ph_sit = d_sit.ph_at_zero
             g_sit = d_sit.g_per_l * spec.volume_l
             spread = abs(g_sit - dose.g_per_l * spec.volume_l)
             out.update(dose_g=g_sit, dose_spread_g=spread)
-            text += (f" and a dose of {g_sit:.1f} g; take ±{spread:.1f} g as the "
-                     "uncertainty of the dose")
+            tail = (f" and a dose of {g_sit:.1f} g; take ±{spread:.1f} g as the "
+                    "uncertainty of the dose")
         except ChemistryError:
-            text += "; it cannot reach the target with this adjuster"
-    notes.append(text + ". The pH is an estimate: confirm it with a pH meter.")
+            comp = _composition(moles, spec.volume_l)
+            ph_sit = speciation.solve([comp], spec.temperature_c, database=sit,
+                                      label=label)[0].ph
+    out["predicted_ph"] = ph_sit
+    notes.append(f"ionic strength is above {speciation.DAVIES_LIMIT} mol/kg, where the "
+                 f"Davies model is unreliable: the specific-ion-interaction model ({sit}) "
+                 f"gives pH {ph_sit:.2f} for this recipe{tail}. The pH is an estimate: "
+                 "confirm it with a pH meter.")
     return out
 
 
@@ -290,9 +303,8 @@ def _steps(spec: BathSpec, lines: list[RecipeLine], dose: Dose | None,
     v = spec.volume_l
     steps = [f"Measure about {0.8 * v:.3g} L of deionised water into a vented, non-metal "
              f"container of at least {v:g} L; bring it to {spec.temperature_c:g} °C."]
-    order = {"base": 0, "chelator": 1, "salt": 2, "acid": 3, "surfactant": 4}
     body = [ln for ln in lines if adj is None or ln.name != adj.name]
-    for ln in sorted(body, key=lambda x: order.get(x.role, 5)):
+    for ln in body:
         how = f"{ln.grams:.4g} g" + ("" if ln.millilitres is None else
                                      f" ({ln.millilitres:.3g} mL)")
         verb = "Add slowly, stirring," if ln.role == "base" else "Add"

@@ -117,26 +117,19 @@ class _Engine:
             )
 
 
-@lru_cache(maxsize=4)
+_ENGINES: dict[str, _Engine] = {}
+
+
 def engine(database: str = DEFAULT_DATABASE) -> _Engine:
-    """The cached PHREEQC engine of ``database``."""
-    return _Engine(database)
+    """The PHREEQC engine of ``database``, loaded on first use and kept."""
+    if database not in _ENGINES:
+        _ENGINES[database] = _Engine(database)
+    return _ENGINES[database]
 
 
 def call_count() -> int:
-    """Total ``RunString`` calls made so far by every cached engine (for benchmarks)."""
-    info = engine.cache_info()
-    if info.currsize == 0:
-        return 0
-    return sum(engine(db).calls for db in DATABASES if _loaded(db))
-
-
-def _loaded(db: str) -> bool:
-    # lru_cache has no membership test; we keep our own record.
-    return db in _LOADED
-
-
-_LOADED: set[str] = set()
+    """Total ``RunString`` calls made so far by every loaded engine (for benchmarks)."""
+    return sum(e.calls for e in _ENGINES.values())
 
 
 @lru_cache(maxsize=1)
@@ -229,7 +222,6 @@ def solve(compositions: list[dict[str, float]], temperature_c: float | list[floa
     temps = (list(temperature_c) if isinstance(temperature_c, (list, tuple))
              else [float(temperature_c)] * len(compositions))
     eng = engine(database)
-    _LOADED.add(database)
     head = ["SELECTED_OUTPUT 1", "    -reset false", "    -solution true", "    -pH true",
             "    -ionic_strength true", "    -high_precision true"]
     if gamma_species:

@@ -6,8 +6,8 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
-from pyDOE3 import fullfact
 
+from trialkit.designs._pydoe import fullfact
 from trialkit.designs.base import Design
 from trialkit.exceptions import DesignError
 from trialkit.factors import Factor

@@ -74,6 +74,29 @@ class Design:
                 out[f.name] = f.to_natural(out[f.name].to_numpy(dtype=float))
         return out
 
+    def summary(self) -> pd.DataFrame:
+        """Count of design points per point type (columns ``point``, ``points``)."""
+        counts = pd.Series(self.point, dtype=object).value_counts(sort=False)
+        return pd.DataFrame({"point": counts.index.astype(str), "points": counts.to_numpy()})
+
+    def __repr__(self) -> str:
+        parts = [f"{self.kind}", f"{self.n_points} points", f"{len(self.factors)} factors"]
+        if self.resolution is not None:
+            parts.append(f"resolution {self.resolution}")
+        if self.alpha is not None:
+            parts.append(f"alpha {self.alpha:.4g}")
+        if self.generators:
+            parts.append("generators " + ", ".join(self.generators))
+        return f"Design({'; '.join(parts)})"
+
+    def _repr_html_(self) -> str:
+        from html import escape
+
+        head = f"<p><b>{escape(repr(self))}</b></p>"
+        notes = "".join(f"<li>{escape(n)}</li>" for n in self.notes)
+        table = self.natural().assign(point=list(self.point)).to_html(escape=True)
+        return head + (f"<ul>{notes}</ul>" if notes else "") + table
+
     def to_dict(self) -> dict:
         """Plain-data summary for JSON (no matrix)."""
         return {

@@ -18,6 +18,8 @@ too_many_runs              a full factorial beyond :data:`MAX_FULL_FACTORIAL_RUN
 categorical_not_two_level  a two-level kind got a categorical factor without 2 levels
 resolution_out_of_range    resolution outside 3..8
 resolution_unreachable     no fraction of this many factors reaches the resolution
+resolution_not_met         the given generators give less than the given resolution
+no_tabulated_design        resolution asked for more than 10 factors (beyond Table 3.17)
 generators_invalid         a generator that cannot be parsed or does not fit the factors
 levels_invalid             full-factorial ``levels`` not a whole number >= 2
 alpha_invalid              alpha not rotatable/face/inscribed or a number > 0
@@ -48,9 +50,10 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 
-from trialkit.designs.aliasing import roman
+from trialkit.designs.aliasing import alias_structure, roman
 from trialkit.designs.generators import check_generator_set
 from trialkit.designs.space import LHS_CRITERIA
+from trialkit.designs.twolevel import fraction_matrix
 from trialkit.exceptions import DesignError
 from trialkit.factors import FACTOR_LETTERS, Factor
 from trialkit.problems import ProblemReport, did_you_mean
@@ -66,7 +69,8 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
     },
     "fractional-factorial": {
         "resolution": "3..8: the smallest published fraction of at least this resolution",
-        "generators": "list such as [\"E = ABCD\", \"F = -ABC\"] (letters A B C ... skip I)",
+        "generators": "list such as [\"E = ABCD\", \"F = -ABC\"] (letters A B C ... skip I); "
+                      "with resolution too, the generators must reach it",
     },
     "plackett-burman": {},
     "central-composite": {
@@ -77,7 +81,8 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
     "sweep": {
         "factor": "name of the continuous factor to sweep (default: the only one)",
         "levels": "list of natural values, strictly increasing, within low..high",
-        "count": "whole number >= 2 of levels from low to high",
+        "count": "whole number >= 2 of levels from low to high (default: the factor's "
+                 "own levels, else 5)",
         "spacing": "\"linear\" (default) or \"geometric\" (constant ratio; low > 0)",
     },
     "latin-hypercube": {
@@ -90,6 +95,7 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
 MAX_FULL_FACTORIAL_RUNS = 4096
 MAX_TWO_LEVEL_FACTORS = len(FACTOR_LETTERS)
 MAX_PB_FACTORS = 47
+MAX_TABULATED_FACTORS = 10
 
 
 def _is_int(v) -> bool:
@@ -118,6 +124,9 @@ def check_design_options(factors: Sequence[Factor], kind: str, options: Mapping,
     opts = {k: v for k, v in options.items() if k in allowed}
     cont = [f for f in factors if f.is_continuous]
     cats = [f for f in factors if not f.is_continuous]
+    if any(not (_is_num(f.low) and _is_num(f.high) and f.low < f.high) for f in cont) or \
+            any(len(f.levels) < 2 for f in cats):
+        return  # the factors themselves are faulty; the trial-file checks report that
     _CHECKERS[kind](factors, cont, cats, opts, problems, where)
 
 
@@ -182,11 +191,13 @@ def _check_fractional(factors, cont, cats, opts, problems, where):
                          value=res, check="resolution_unreachable",
                          fix=f"lower the resolution to {k} or less, or use kind = "
                              "'full-factorial'")
+        elif gens is None and k > MAX_TABULATED_FACTORS:
+            problems.add(f"{where}.resolution", f"the published table of fractions goes to "
+                         f"{MAX_TABULATED_FACTORS} factors; got {k}", value=res,
+                         check="no_tabulated_design",
+                         fix="give generators = [...] explicitly, or use kind = "
+                             "'plackett-burman' for screening")
     if gens is not None:
-        if res is not None:
-            problems.add(f"{where}.generators", "give either resolution or generators, "
-                         "not both", check="conflicting_options",
-                         fix="remove one of the two keys")
         if not (isinstance(gens, (list, tuple)) and all(isinstance(g, str) for g in gens)):
             problems.add(f"{where}.generators", "generators must be a list of text such as "
                          "\"E = ABCD\"", value=gens, check="option_type",
@@ -198,6 +209,15 @@ def _check_fractional(factors, cont, cats, opts, problems, where):
                 problems.add(f"{where}.generators", str(exc), value=", ".join(gens),
                              check="generators_invalid",
                              fix=f"factors are lettered {' '.join(FACTOR_LETTERS[:k])}")
+                return
+            if _is_int(res) and 3 <= res <= k:
+                got = alias_structure(fraction_matrix(k, gens)).resolution
+                if got < res:
+                    problems.add(f"{where}.generators", f"these generators give resolution "
+                                 f"{roman(got)}, below the resolution {roman(res)} asked for",
+                                 value=", ".join(gens), check="resolution_not_met",
+                                 fix="change the generators, or drop them and let the "
+                                     "resolution choose a published design")
 
 
 def _check_pb(factors, cont, cats, opts, problems, where):

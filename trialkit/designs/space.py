@@ -14,9 +14,9 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 
 import numpy as np
-from pyDOE3 import lhs
 
 from trialkit.designs._common import continuous, cross
+from trialkit.designs._pydoe import lhs
 from trialkit.designs.base import Design
 from trialkit.exceptions import DesignError
 from trialkit.factors import Factor
@@ -78,15 +78,37 @@ def build_latin_hypercube(factors: Sequence[Factor], options: Mapping, seed) -> 
     if k < 1:
         raise DesignError("a Latin hypercube needs at least one continuous factor")
     runs = int(options.get("runs", 10 * k))
-    kwargs = {}
-    if options.get("criterion") is not None:
-        kwargs["criterion"] = options["criterion"]
-        if options.get("iterations") is not None:
-            kwargs["iterations"] = int(options["iterations"])
-    u = lhs(k, samples=runs, seed=np.random.default_rng(seed), **kwargs)
+    rng = np.random.default_rng(seed)
+    crit = options.get("criterion")
+    iterations = int(options.get("iterations") or 5)
+    if crit == "correlation":
+        u = _least_correlated(k, runs, iterations, rng)
+    elif crit is not None:
+        u = lhs(k, samples=runs, criterion=crit, iterations=iterations, seed=rng)
+    else:
+        u = lhs(k, samples=runs, seed=rng)
     core = 2.0 * u - 1.0  # pyDOE3 gives [0, 1]; we scale to coded -1..+1 ourselves
     coded, point = cross(factors, core, ("space-filling",) * runs)
     return Design("latin-hypercube", tuple(factors), coded, point, has_center=False,
                   notes=[f"Latin hypercube of {runs} points, seed {seed}"
                          + (f", criterion {options['criterion']}"
                             if options.get("criterion") else "")])
+
+
+def _least_correlated(k: int, runs: int, iterations: int, rng) -> np.ndarray:
+    """Of ``iterations`` random Latin hypercubes, the one with the smallest largest
+    absolute correlation between factors.
+
+    Done here because pyDOE3 1.6.2's ``criterion="correlation"`` fails when every
+    correlation is +1 (one factor, or two runs).
+    """
+    best, best_c = None, np.inf
+    for _ in range(iterations):
+        h = lhs(k, samples=runs, seed=rng)
+        c = 0.0
+        if k > 1:
+            r = np.corrcoef(h.T)
+            c = float(np.max(np.abs(r - np.eye(k))))
+        if best is None or c < best_c:
+            best, best_c = h, c
+    return best

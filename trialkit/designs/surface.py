@@ -24,9 +24,9 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 
 import numpy as np
-from pyDOE3 import bbdesign, fullfact
 
 from trialkit.designs._common import continuous, cross
+from trialkit.designs._pydoe import bbdesign, fullfact
 from trialkit.designs.base import Design
 from trialkit.exceptions import DesignError
 from trialkit.factors import Factor

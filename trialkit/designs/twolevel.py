@@ -12,9 +12,9 @@ from collections.abc import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
-from pyDOE3 import fracfact, fullfact, pbdesign
 
 from trialkit.designs._common import two_level_frame
+from trialkit.designs._pydoe import fracfact, fullfact, pbdesign
 from trialkit.designs.aliasing import AliasStructure, alias_structure, roman, word_text
 from trialkit.designs.base import Design
 from trialkit.designs.generators import (
@@ -24,6 +24,14 @@ from trialkit.designs.generators import (
 )
 from trialkit.exceptions import DesignError
 from trialkit.factors import FACTOR_LETTERS, Factor
+
+
+def _levels_note(factors: Sequence[Factor]) -> list[str]:
+    listed = [f.name for f in factors if f.is_continuous and f.levels]
+    if not listed:
+        return []
+    return [f"listed levels of {', '.join(listed)} not used: a two-level design runs each "
+            "continuous factor at its low and high"]
 
 
 def _attach(design: Design, s: AliasStructure) -> Design:
@@ -108,7 +116,7 @@ def build_fractional(factors: Sequence[Factor], options: Mapping) -> Design:
         gens, x, s = _by_resolution(k, wanted, notes)
     design = Design("fractional-factorial", tuple(factors), two_level_frame(factors, x),
                     ("factorial",) * len(x), has_center=any(f.is_continuous for f in factors),
-                    generators=gens, notes=notes)
+                    generators=gens, notes=notes + _levels_note(factors))
     return _attach(design, s)
 
 
@@ -147,5 +155,6 @@ def build_plackett_burman(factors: Sequence[Factor], options: Mapping) -> Design
     x = pbdesign(k)
     design = Design("plackett-burman", tuple(factors), two_level_frame(factors, x),
                     ("screening",) * len(x), has_center=any(f.is_continuous for f in factors),
-                    notes=[f"Plackett–Burman design in {len(x)} runs for {k} factors"])
+                    notes=[f"Plackett–Burman design in {len(x)} runs for {k} factors",
+                           *_levels_note(factors)])
     return _attach(design, alias_structure(x, FACTOR_LETTERS[:k]))

@@ -24,7 +24,8 @@ Examples
 >>> problems = ProblemReport("trial.toml")
 >>> cfg = parse_sheet_section({"cleaning_cycles": 2, "required": ["mass_initial_g"]},
 ...                           None, problems, "sheet")
->>> len(problems), [f.name for f in cfg.coupon_fields][-2:]
+>>> names = [f.name for f in cfg.coupon_fields]
+>>> len(problems), names[names.index("mass_final_g") + 1:][:2]
 (0, ['mass_cycle_1_g', 'mass_cycle_2_g'])
 """
 

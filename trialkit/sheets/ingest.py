@@ -110,10 +110,13 @@ class IngestReport:
 
 
 def check_sheet(path: str | Path, plan: Any, *, config: SheetConfig | None = None,
-                allow_mass_gain: bool = False) -> SheetReading:
-    """Read and check a sheet file against ``plan`` without touching any record log."""
+                allow_mass_gain: bool = False, data: bytes | None = None) -> SheetReading:
+    """Read and check a sheet file against ``plan`` without touching any record log.
+
+    ``data`` are the file's bytes when already read (the file is then not read again).
+    """
     path = Path(path)
-    data = path.read_bytes()
+    data = path.read_bytes() if data is None else data
     sha = hashlib.sha256(data).hexdigest()
     config = config or sheet_config(plan.trial)
     problems = ProblemReport(path.name)
@@ -156,7 +159,8 @@ def ingest_sheet(path: str | Path, plan: Any, *, log: Any = None,
     if log is None:
         log = RecordLog.for_folder(plan.trial.folder)
     path = Path(path)
-    sha = hashlib.sha256(path.read_bytes()).hexdigest()
+    data = path.read_bytes()  # read once: the hash and the checks see the same bytes
+    sha = hashlib.sha256(data).hexdigest()
     seen = log.ingest_of(sha)
     empty = pd.DataFrame(columns=["coupon", "inspection", "field", "value", "revision"])
     if seen:
@@ -164,7 +168,8 @@ def ingest_sheet(path: str | Path, plan: Any, *, log: Any = None,
                             ProblemReport(path.name),
                             f"this file was already read in on {seen[2]} (as {seen[1]}); "
                             "nothing changed")
-    checked = check_sheet(path, plan, config=config, allow_mass_gain=allow_mass_gain)
+    checked = check_sheet(path, plan, config=config, allow_mass_gain=allow_mass_gain,
+                          data=data)
     if checked.problems:
         n = len(checked.problems)
         return IngestReport(path.name, checked.sha256, "refused", empty, 0, checked.problems,

@@ -130,7 +130,7 @@ def _columns(raw: RawTable, layout: SheetLayout,
                          check="heading_mismatch",
                          fix="columns were moved without their machine names, or a heading "
                              "was retyped: put headings and machine names back together")
-        elif got_unit != want_unit:
+        elif got_unit != want_unit and not _same_unit(heading, known[name].heading):
             problems.add(raw.tab, f"the heading of {name!r} gives the unit {got_unit!r}; "
                          f"this column is in {want_unit!r}", column=name, value=heading,
                          check="unit_mismatch",
@@ -141,6 +141,30 @@ def _columns(raw: RawTable, layout: SheetLayout,
             problems.add(raw.tab, f"plan column {c.name!r} is missing", column=c.name,
                          check="missing_column", fix="export a fresh sheet; keep plan columns")
     return index
+
+
+def _unit_of(heading: str) -> str | None:
+    m = re.search(r"\(([^()]*)\)\s*$", heading)
+    if not m:
+        return None
+    text = m.group(1).strip()
+    for a, b in (("²", "^2"), ("³", "^3"), ("°C", "degC"), ("°F", "degF")):
+        text = text.replace(a, b)
+    return text
+
+
+def _same_unit(got_heading: str, want_heading: str) -> bool:
+    """True when two headings name the same unit in different spellings (pint decides)."""
+    from trialkit.units import registry
+
+    got, want = _unit_of(got_heading), _unit_of(want_heading)
+    if not got or not want:
+        return False
+    try:
+        ureg = registry()
+        return ureg.Unit(got) == ureg.Unit(want)
+    except Exception:  # pint raises several types for unknown units
+        return False
 
 
 def _same_plan_value(got: Any, want: Any, col: Column, raw: RawTable) -> bool:

@@ -1,0 +1,62 @@
+"""``trialkit sheet``: the real command on a trial folder in tmp_path."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from malformed_sheets.make_corpus import write_trial
+from openpyxl import load_workbook
+
+from trialkit.plan import load_plan
+
+
+@pytest.mark.parametrize("fmt", ["xlsx", "csv", "html"])
+def test_sheet_each_format(cli, tmp_path, fmt):
+    folder = write_trial(tmp_path / "trial")
+    res = cli("sheet", str(folder), "--format", fmt, "--json")
+    assert res.returncode == 0, res.stderr
+    out = json.loads(res.stdout)
+    plan = load_plan(folder)
+    assert out["fingerprint"] == plan.fingerprint
+    files = [p for p in out["files"]]
+    expected = [str(folder / f"recording-sheet.{fmt}")]
+    if fmt == "csv":  # the test trial plans inspections: a second CSV
+        expected.append(str(folder / "recording-sheet-inspections.csv"))
+    assert files == expected
+    text_or_book = folder / f"recording-sheet.{fmt}"
+    if fmt == "xlsx":
+        assert "Coupon readings" in load_workbook(text_or_book).sheetnames
+    else:
+        assert plan.fingerprint in text_or_book.read_text(encoding="utf-8-sig")
+
+
+def test_starter_trial_whole_loop(cli, tmp_path):
+    """new -> sheet --out -> fill -> ingest -> corrected copy -> history (invented values)."""
+    from malformed_sheets.make_corpus import fill_csv
+
+    folder = tmp_path / "starter"
+    assert cli("new", str(folder)).returncode == 0
+    blank = tmp_path / "bench.csv"
+    res = cli("sheet", str(folder), "--format", "csv", "--out", str(blank))
+    assert res.returncode == 0, res.stderr
+    plan = load_plan(folder)
+    assert plan.fingerprint in res.stdout
+    coupon = plan.table.loc[plan.table["point"] != "control", "coupon"].iloc[0]
+    first = fill_csv(blank, tmp_path / "day1.csv",
+                     {coupon: {"mass_initial_g": 25.0, "mass_final_g": 24.6}})
+    fixed = fill_csv(blank, tmp_path / "day1-fixed.csv",
+                     {coupon: {"mass_initial_g": 25.0, "mass_final_g": 24.4}})
+    for sheet in (first, fixed):
+        res = cli("ingest", str(sheet), "--trial", str(folder))
+        assert res.returncode == 0, res.stdout + res.stderr
+    res = cli("history", str(folder), "--json")
+    rows = [(r["field"], r["value"], r["revision"]) for r in json.loads(res.stdout)]
+    assert rows == [("mass_final_g", 24.6, 1), ("mass_final_g", 24.4, 2),
+                    ("mass_initial_g", 25.0, 1)]
+
+
+def test_sheet_bad_folder(cli, tmp_path):
+    res = cli("sheet", str(tmp_path / "nothing-here"))
+    assert res.returncode == 2
+    assert "trial" in res.stderr and "Traceback" not in res.stderr

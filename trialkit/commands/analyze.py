@@ -1,0 +1,115 @@
+"""``trialkit analyze DIR_OR_TABLE``: ANOVA, effects, surfaces and the best recipe.
+
+Thin: reads the trial folder or table, calls :func:`trialkit.analysis.pipeline.analyze_table`
+and prints its console summary or JSON.
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from trialkit.commands._output import print_json
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("source", metavar="DIR_OR_TABLE",
+                        help="a trial folder, or a CSV/XLSX table with one row per bath")
+    parser.add_argument("--response", metavar="NAME",
+                        help="response to analyse (default: the trial's first response)")
+    parser.add_argument("--factor", metavar="NAME[:categorical]", action="append",
+                        default=[], help="factor column of a plain table (repeat); add "
+                        ":categorical or :ordinal for text levels")
+    parser.add_argument("--model", metavar="SPEC",
+                        help="main, interactions, quadratic, or terms such as "
+                        "'chelator + ph + chelator:ph + chelator^2'")
+    parser.add_argument("--type", dest="anova_type", type=int, choices=(1, 2, 3),
+                        help="sums of squares type (default 2)")
+    parser.add_argument("--alpha", type=float, help="1 - confidence level (default 0.05)")
+    parser.add_argument("--block", default="block", metavar="COLUMN",
+                        help="column of blocks, a fixed effect (default 'block')")
+    parser.add_argument("--sweep", metavar="FACTOR",
+                        help="analyse a one-factor sweep of FACTOR")
+    parser.add_argument("--goal", choices=("maximize", "minimize"),
+                        help="for the best point (default: the trial's goal, else maximize)")
+    parser.add_argument("--reduce", choices=("none", "p", "aic", "bic"),
+                        help="hierarchical backward reduction of the model")
+    parser.add_argument("--threshold", type=float, help="p threshold for --reduce p")
+    parser.add_argument("--bootstrap", type=int, metavar="N",
+                        help="bootstrap resamples for optimum intervals (default 2000)")
+    parser.add_argument("--seed", type=int, help="seed of the bootstrap")
+    parser.add_argument("--compromise", action="store_true",
+                        help="trial folders: best Derringer-Suich compromise of every "
+                        "response that has lower and upper limits")
+    parser.add_argument("--json", action="store_true", help="print JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    from trialkit.analysis.data import factors_from_table
+    from trialkit.analysis.pipeline import analyze_table
+    from trialkit.analysis.sources import (
+        AnalysisSource,
+        from_trial_folder,
+        read_table,
+        response_for,
+    )
+
+    path = Path(args.source)
+    if path.is_dir():
+        source = from_trial_folder(path)
+        if args.factor:
+            names = [s.partition(":")[0] for s in args.factor]
+            source.factors = tuple(f for f in source.factors if f.name in names)
+    else:
+        table = read_table(path)
+        source = AnalysisSource(table, factors_from_table(table, args.factor),
+                                origin=str(path))
+    cfg = source.config
+    if args.compromise:
+        return _compromise(args, source)
+    column = response_for(source, args.response)
+    name = next((k for k, v in source.responses.items() if v == column), column)
+    goal = args.goal or source.goals.get(name, "maximize")
+    result = analyze_table(
+        source.table, column, source.factors,
+        model=args.model or cfg.model_for(name),
+        anova_type=args.anova_type or cfg.anova_type,
+        alpha=args.alpha if args.alpha is not None else cfg.alpha,
+        block=args.block, sweep=args.sweep or cfg.sweep,
+        goal=goal if goal in ("maximize", "minimize") else "maximize",
+        reduce=args.reduce or cfg.reduce,
+        threshold=args.threshold if args.threshold is not None else cfg.threshold,
+        n_boot=args.bootstrap if args.bootstrap is not None else cfg.bootstrap,
+        seed=args.seed if args.seed is not None else source.seed,
+        tolerance=cfg.tolerance, relative_tolerance=cfg.relative_tolerance)
+    if args.json:
+        out = result.to_dict()
+        out["source"] = source.origin
+        print_json(out)
+    else:
+        print(result.text())
+    return 0
+
+
+def _compromise(args: argparse.Namespace, source) -> int:
+    from trialkit.analysis.pipeline import best_compromise
+    from trialkit.exceptions import AnalysisError
+
+    if not source.specs:
+        raise AnalysisError("--compromise needs a trial folder whose [[response]] entries "
+                            "give lower and upper limits")
+    goals = source.goals_with_limits()
+    models = {source.responses[k]: v for k, v in source.config.response_models.items()
+              if k in source.responses}
+    cfg = source.config
+    res = best_compromise(source.table, source.factors, goals, models=models or None,
+                          block=args.block, seed=args.seed if args.seed is not None
+                          else source.seed,
+                          alpha=args.alpha if args.alpha is not None else cfg.alpha)
+    if args.json:
+        out = res.to_dict()
+        out["source"] = source.origin
+        print_json(out)
+    else:
+        print(repr(res))
+    return 0
