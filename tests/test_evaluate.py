@@ -9,16 +9,11 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from trialkit import power as pw
-from trialkit.evaluate import (
-    EvaluationSettings,
-    evaluate_design,
-    evaluate_plan,
-)
-from trialkit.exceptions import ModelSpecError, PlanError, TrialFileError
+from trialkit.evaluate import evaluate_design, evaluate_plan
+from trialkit.exceptions import ModelSpecError, PlanError
 from trialkit.factors import Factor
 from trialkit.plan import make_plan
-from trialkit.trialfile import load_trial, parse_trial_text
+from trialkit.trialfile import parse_trial_text
 
 TWO_FACTOR = """
 [trial]
@@ -93,13 +88,18 @@ def test_factorial_with_blocks_and_center_points_agrees_with_simulation():
     ev = evaluate_plan(plan, model="interactions", sd=1.0, effects=2.5)
     assert ev.blocks == 2 and ev.baths == 12
     assert ev.residual_df == 12 - 7 - 1
-    X = np.hstack([ev._X, pw.sum_contrasts(list(ev._blocks))])
     for term in ("chelator", "chelator:ph"):
-        sl = ev._model.term_columns[term]
-        beta = np.zeros(X.shape[1])
-        beta[sl] = 2.5 / 2
-        sim, se = pw.simulate_power(X, sl, beta, 1.0, n_sim=20_000, seed=17)
+        sim, se = ev.simulated_power(term, n_sim=20_000, seed=17)
         assert abs(sim - ev.power_of(term)) < 3 * se
+
+
+def test_simulated_power_of_three_level_factor_uses_least_favourable_pattern():
+    # one-way layout, unbalanced: analytic minimum over level pairs vs simulation
+    fs = (Factor.categorical("bath_type", ["a", "b", "c"]),)
+    pts = pd.DataFrame({"bath_type": ["a"] * 3 + ["b"] * 4 + ["c"] * 6})
+    ev = evaluate_design(pts, fs, sd=1.0, effects=2.0)
+    sim, se = ev.simulated_power("bath_type", n_sim=20_000, seed=3)
+    assert abs(sim - ev.power_of("bath_type")) < 3 * se
 
 
 def test_effect_is_twice_the_coded_coefficient():
@@ -189,28 +189,15 @@ def test_bad_sd_raises():
         evaluate_plan(_plan(), sd=-1.0)
 
 
-def test_evaluation_section_is_used(tmp_path):
-    path = tmp_path / "trial.toml"
-    path.write_text(TWO_FACTOR.format(replicates=2, blocks=1, center=0, controls="[]")
-                    + '[evaluation]\nsd = 0.5\nalpha = 0.1\nmodel = "interactions"\n'
-                    'effects = {chelator = 1.0, ph = 0.5}\n', encoding="utf-8")
-    trial = load_trial(path)
-    s = trial.sections["evaluation"]
-    assert s == EvaluationSettings(sd=0.5, effects={"chelator": 1.0, "ph": 0.5}, alpha=0.1,
-                                   model="interactions")
-    ev = evaluate_plan(make_plan(trial))
-    assert (ev.sd, ev.alpha, ev.model) == (0.5, 0.1, "interactions")
-    assert np.isnan(ev.summary.set_index("term").loc["temperature", "power"])
-
-
-def test_malformed_evaluation_section_reports_every_problem(tmp_path):
-    path = tmp_path / "trial.toml"
-    path.write_text(TWO_FACTOR.format(replicates=1, blocks=1, center=0, controls="[]")
-                    + '[evaluation]\nsd = -2\nalpha = 1.5\nmodel = "chelator + pH"\n'
-                    'effects = {chelator = "big"}\nsigma = 1\n', encoding="utf-8")
-    with pytest.raises(TrialFileError) as err:
-        load_trial(path)
-    checks = err.value.problems.checks()
-    for code in ("not_positive", "out_of_range", "bad_model", "unknown_key"):
-        assert code in checks
-    assert checks.count("not_positive") == 2            # sd and the effect size
+def test_fractional_plan_reports_resolution_aliases_and_unestimable_interactions():
+    # 2^(4-1), D = ABC: resolution IV, two-factor interactions aliased in pairs
+    # (e-Handbook 5.3.3.4.3 fraction table, carried by the designs module)
+    text = TWO_FACTOR.format(replicates=1, blocks=1, center=0, controls="[]").replace(
+        'kind = "full-factorial"', 'kind = "fractional-factorial"\nresolution = 4') + \
+        '[[factor]]\nname = "agitation"\nunit = "rpm"\nlow = 0\nhigh = 200\n'
+    plan = make_plan(parse_trial_text(text))
+    main = evaluate_plan(plan, model="main", sd=1.0, effects=2.0)
+    assert main.resolution == 4 and main.aliases
+    assert main.estimable and main.d_efficiency == pytest.approx(100.0, abs=1e-9)
+    inter = evaluate_plan(plan, model="interactions", sd=1.0)
+    assert not inter.estimable

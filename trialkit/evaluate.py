@@ -7,8 +7,8 @@ size per term (the change in mean response from a factor's low to its high level
 :mod:`trialkit.power` for interactions, squared terms and factors with several levels),
 the smallest effect detectable at a target power, how many replicates of the whole plan
 reach it, the D- and I-efficiency, the largest variance inflation factor and the
-fraction-of-design-space curve of prediction variance.  :func:`compare_plans` puts
-several candidate plans side by side.
+fraction-of-design-space curve of prediction variance.
+:func:`trialkit.comparison.compare_plans` puts several candidate plans side by side.
 
 The experimental unit is the bath: ``sd`` is the standard deviation of a bath's response
 (the mean over its rusted coupons), and control and reference baths, which lie outside
@@ -37,96 +37,18 @@ import numpy as np
 import pandas as pd
 
 from trialkit import power as pw
+from trialkit.evaluation_config import EvaluationSettings, parse_evaluation_section
 from trialkit.exceptions import ModelSpecError, PlanError
 from trialkit.factors import Factor
-from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.problems import did_you_mean
+
+__all__ = ["Evaluation", "EvaluationSettings", "build_model", "evaluate_design",
+           "evaluate_plan", "parse_evaluation_section", "plain"]
 
 #: Signal-to-noise used when no effect sizes are given: an effect of two residual SDs.
 DEFAULT_EFFECT_IN_SD = 2.0
 NON_FACTOR_POINTS = ("control", "reference")
 _FDS_POINTS = 2000
-
-
-@dataclass(frozen=True)
-class EvaluationSettings:
-    """The ``[evaluation]`` section of a trial file (every field optional)."""
-
-    sd: float | None = None
-    effects: dict[str, float] | float | None = None
-    alpha: float | None = None
-    model: str | None = None
-    target_power: float | None = None
-
-    def to_dict(self) -> dict:
-        return {"sd": self.sd, "effects": self.effects, "alpha": self.alpha,
-                "model": self.model, "target_power": self.target_power}
-
-
-def _positive(value, where, key, problems) -> float | None:
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not value > 0:
-        problems.add(f"{where}.{key}", f"{key} must be a positive number",
-                     value=value, fix=f"write e.g. {key} = 0.5", check="not_positive")
-        return None
-    return float(value)
-
-
-def parse_evaluation_section(raw, trial, problems: ProblemReport,
-                             where: str = "evaluation") -> EvaluationSettings:
-    """Parse the optional ``[evaluation]`` section: ``sd``, ``effects``, ``alpha``,
-    ``model``, ``target_power``.  Problems are added to ``problems``, never raised.
-
-    ``effects`` is one number (every term) or a table ``{term = size}`` in response units.
-    """
-    allowed = ("sd", "effects", "alpha", "model", "target_power")
-    if not isinstance(raw, Mapping):
-        problems.add(where, "the evaluation section must be a table", value=type(raw).__name__,
-                     fix="write [evaluation] with keys " + ", ".join(allowed), check="not_table")
-        return EvaluationSettings()
-    for key in raw:
-        if key not in allowed:
-            problems.add(f"{where}.{key}", f"unknown key {key!r}", value=key,
-                         fix=did_you_mean(key, list(allowed)), check="unknown_key")
-    sd = _positive(raw["sd"], where, "sd", problems) if "sd" in raw else None
-    alpha = target = None
-    for key in ("alpha", "target_power"):
-        if key in raw:
-            v = raw[key]
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 < v < 1:
-                problems.add(f"{where}.{key}", f"{key} must lie strictly between 0 and 1",
-                             value=v, fix=f"write e.g. {key} = "
-                             + ("0.05" if key == "alpha" else "0.8"), check="out_of_range")
-            elif key == "alpha":
-                alpha = float(v)
-            else:
-                target = float(v)
-    model = None
-    if "model" in raw:
-        if isinstance(raw["model"], str) and raw["model"].strip():
-            model = raw["model"]
-            factors = getattr(trial, "factors", None)
-            if factors:
-                try:
-                    pw.parse_terms(model, factors)
-                except ModelSpecError as exc:
-                    problems.add(f"{where}.model", str(exc), value=model,
-                                 check="bad_model", fix="use main, interactions, quadratic "
-                                 "or terms joined by '+'")
-        else:
-            problems.add(f"{where}.model", "model must be a text such as 'quadratic'",
-                         value=raw["model"], check="bad_model",
-                         fix="main, interactions, quadratic or 'a + b + a:b'")
-    effects = None
-    if "effects" in raw:
-        e = raw["effects"]
-        if isinstance(e, Mapping):
-            effects = {}
-            for term, size in e.items():
-                v = _positive(size, f"{where}.effects", str(term), problems)
-                if v is not None:
-                    effects[str(term)] = v
-        else:
-            effects = _positive(e, where, "effects", problems)
-    return EvaluationSettings(sd, effects, alpha, model, target)
 
 
 def build_model(spec, factors: Sequence[Factor]) -> pw.DesignModel:
@@ -186,6 +108,29 @@ class Evaluation:
             raise ModelSpecError(f"term {term!r} is not in the model; terms are "
                                  f"{list(self.summary.term)}")
         return float(row.power.iloc[0])
+
+    def model_matrix(self) -> np.ndarray:
+        """The plan's model matrix: intercept, model columns, block contrasts last."""
+        return _assemble(self._X, self._blocks)
+
+    def simulated_power(self, term: str, *, n_sim: int = 10_000, seed: int = 0
+                        ) -> tuple[float, float]:
+        """Power of ``term`` by simulating ``n_sim`` trials (batched least squares) with
+        the term's effect in its least favourable direction; ``(power, standard error)``.
+        A check on the analytic ``power`` column."""
+        row = self.summary[self.summary.term == term]
+        if row.empty or not np.isfinite(row.effect.iloc[0]) or not self.estimable:
+            raise ModelSpecError(f"term {term!r} has no effect size in an estimable model; "
+                                 f"terms are {list(self.summary.term)}")
+        X = self.model_matrix()
+        sl = self._model.term_columns[term]
+        dirs = self._model.term_directions(term)
+        info = pw.information(X, sl)
+        worst = dirs[int(np.argmin(np.einsum("ij,jk,ik->i", dirs, info, dirs)))]
+        beta = np.zeros(X.shape[1])
+        beta[sl] = worst * float(row.effect.iloc[0])
+        return pw.simulate_power(X, sl, beta, self.sd, alpha=self.alpha, n_sim=n_sim,
+                                 seed=seed)
 
     def replicates_needed(self, target_power: float | None = None, *,
                           terms: Sequence[str] | None = None,
@@ -270,7 +215,7 @@ def _replicate_blocks(blocks, k):
 
 
 def _term_power(X, model, term, effect, sd, alpha):
-    """(power, detectable effect at 0.8-like target unused here, info) of one term."""
+    """(power, adjusted information matrix) of one term; power NaN without an effect."""
     info = pw.information(X, model.term_columns[term])
     if info is None or effect is None or not np.isfinite(effect):
         return float("nan"), info
@@ -280,7 +225,7 @@ def _term_power(X, model, term, effect, sd, alpha):
     return float(np.min(pw.f_test_power(lam, df1, X.shape[0] - X.shape[1], alpha))), info
 
 
-def _effect_for(term: str, effects, sd: float, terms: Sequence[str]):
+def _effect_for(term: str, effects, sd: float):
     if effects is None:
         return DEFAULT_EFFECT_IN_SD * sd
     if isinstance(effects, Mapping):
@@ -347,7 +292,7 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
     need = pw.noncentrality_needed(target_power, 1, df2, alpha) if estimable else np.nan
     for t in dm.terms:
         sl = dm.term_columns[t.name]
-        eff = _effect_for(t.name, effects, sd, names)
+        eff = _effect_for(t.name, effects, sd)
         pwr, info = _term_power(X, dm, t.name, eff, sd, alpha) if estimable \
             else (float("nan"), None)
         det_eff = se = float("nan")
@@ -439,10 +384,12 @@ def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
     table = getattr(design, "aliases", None)
     if table is not None and len(table):
         aliases = [f"{r.effect} = {r.aliases}" for r in table.itertuples() if r.aliases]
-    return evaluate_design(
-        coded, factors, model=model or s.model or "main", sd=sd or s.sd or 1.0,
-        effects=effects if effects is not None else s.effects,
-        alpha=alpha or s.alpha or 0.05, target_power=target_power or s.target_power or 0.8,
-        blocks=blocks, coupons=coupons, resolution=getattr(design, "resolution", None),
-        aliases=aliases)
+    def pick(given, from_file, default):
+        return given if given is not None else (from_file if from_file is not None
+                                                else default)
 
+    return evaluate_design(
+        coded, factors, model=pick(model, s.model, "main"), sd=pick(sd, s.sd, 1.0),
+        effects=pick(effects, s.effects, None), alpha=pick(alpha, s.alpha, 0.05),
+        target_power=pick(target_power, s.target_power, 0.8), blocks=blocks,
+        coupons=coupons, resolution=getattr(design, "resolution", None), aliases=aliases)

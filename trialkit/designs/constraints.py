@@ -64,9 +64,9 @@ def _tokens(text: str) -> list[tuple[str, str]]:
     return out
 
 
-def _side(tokens, text, index) -> tuple[np.ndarray, float]:
-    """A sum of terms -> (natural-unit coefficients, constant)."""
-    coefs = np.zeros(len(index))
+def _side(tokens, text, index, k) -> tuple[np.ndarray, float]:
+    """A sum of terms -> (natural-unit coefficients, one per factor; constant)."""
+    coefs = np.zeros(k)
     const = 0.0
     pos = 0
     sign = 1.0
@@ -139,12 +139,12 @@ def parse_constraint(text: str, factors: Sequence[Factor]) -> LinearConstraint:
                           f"(found {len(cmps)})")
     at = cmps[0]
     op = toks[at][1]
-    lc, l0 = _side(toks[:at], text, index)
-    rc, r0 = _side(toks[at + 1:], text, index)
+    k = len(factors)
+    lc, l0 = _side(toks[:at], text, index, k)
+    rc, r0 = _side(toks[at + 1:], text, index, k)
     a, a0 = (lc - rc, l0 - r0) if op in ("<=", "=<", "<") else (rc - lc, r0 - l0)
     if not np.any(a):
         raise DesignError(f"constraint {text!r} names no factor")
-    k = len(factors)
     centre = np.array([f.center if f.is_continuous else 0.0 for f in factors])
     half = np.array([f.half_range if f.is_continuous else 0.0 for f in factors])
     coef = np.zeros(k)

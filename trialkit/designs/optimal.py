@@ -29,21 +29,30 @@ import pandas as pd
 
 from trialkit import power as pw
 from trialkit.designs.base import Design
-from trialkit.designs.constraints import (
-    Disallowed,
-    LinearConstraint,
-    parse_constraint,
-    parse_disallowed,
-)
+from trialkit.designs.constraints import parse_constraint, parse_disallowed
+from trialkit.designs.exchange import Region, coordinate_exchange
 from trialkit.exceptions import DesignError, ModelSpecError
 from trialkit.factors import Factor
 from trialkit.problems import ProblemReport, did_you_mean
 
 CRITERIA = ("D", "I")
-OPTION_KEYS = ("runs", "model", "criterion", "starts", "grid", "constraints", "disallow",
-               "fixed", "augment", "max_passes")
-_RIDGE = 1e-7
-_GAIN = 1e-10
+#: Trial-file options of ``kind = "optimal"`` -> description.
+OPTION_DESCRIPTIONS: dict[str, str] = {
+    "runs": "whole number (required): runs the search chooses, besides fixed runs",
+    "model": "model the design must estimate: main, interactions, quadratic (default) or "
+             "terms joined by '+'",
+    "criterion": "\"D\" (default; precise coefficients) or \"I\" (precise predictions)",
+    "starts": "random starts, best kept (default 10)",
+    "grid": "levels per continuous factor tried by the exchange (default 5)",
+    "constraints": "list of linear constraints in natural units, "
+                   "e.g. [\"ph >= 4 + 0.2*chelator\"]",
+    "disallow": "list of combinations that cannot be mixed, e.g. "
+                "[{surfactant = \"added\", temperature = [40, 50]}]",
+    "fixed": "list of runs fixed in advance, every factor in natural units",
+    "augment": "path of an earlier plan.csv whose runs the new ones complement",
+    "max_passes": "passes over all coordinates per start (default 50)",
+}
+OPTION_KEYS = tuple(OPTION_DESCRIPTIONS)
 
 
 @dataclass
@@ -88,163 +97,6 @@ class OptimalResult:
         return f"<p>{self!r}</p>" + self.coded.to_html(index=False)
 
 
-class _Region:
-    """Feasibility and coordinate candidates of the design region."""
-
-    def __init__(self, factors, constraints: Sequence[LinearConstraint],
-                 disallowed: Sequence[Disallowed], grid: int):
-        self.factors = tuple(factors)
-        self.constraints = tuple(constraints)
-        self.disallowed = tuple(disallowed)
-        self.values = []
-        for f in self.factors:
-            if f.is_categorical:
-                self.values.append(np.arange(f.n_levels, dtype=float))
-            else:
-                self.values.append(np.linspace(-1.0, 1.0, grid))
-        self.cont = np.array([f.is_continuous for f in self.factors], dtype=bool)
-        # coordinates whose candidates are always the plain level list (no checks needed)
-        touched = set()
-        for c in self.constraints:
-            touched |= set(np.flatnonzero(np.abs(c.coefficients) > 1e-12))
-        for d in self.disallowed:
-            touched |= {i for i, f in enumerate(self.factors) if f.name in d.spec}
-        self.simple = [i not in touched for i in range(len(self.factors))]
-
-    def feasible(self, U) -> np.ndarray:
-        U = np.atleast_2d(U)
-        ok = np.all(np.abs(U[:, self.cont]) <= 1 + 1e-9, axis=1)
-        for c in self.constraints:
-            ok &= c.satisfied(U)
-        for d in self.disallowed:
-            ok &= ~d.matches(U, self.factors)
-        return ok
-
-    def candidates(self, row: np.ndarray, j: int) -> np.ndarray:
-        vals = self.values[j]
-        if self.cont[j] and self.constraints:
-            extra = []
-            for c in self.constraints:
-                a = c.coefficients[j]
-                if abs(a) > 1e-12:
-                    rest = c.coefficients @ row - a * row[j]
-                    v = (c.bound - rest) / a
-                    if -1 < v < 1:
-                        extra.append(v)
-            if extra:
-                vals = np.concatenate([vals, extra])
-        U = np.repeat(row[None, :], len(vals), axis=0)
-        U[:, j] = vals
-        return U[self.feasible(U)]
-
-    def pool(self, rng, size: int = 4000) -> np.ndarray:
-        """Feasible starting points: random grid points and random vertices."""
-        k = len(self.factors)
-        U = np.column_stack([rng.choice(v, size) for v in self.values]) if k else \
-            np.empty((size, 0))
-        pts = [U[self.feasible(U)]]
-        if self.constraints and self.cont.any():
-            pts.append(self._vertices(rng, 60))
-        P = np.vstack(pts)
-        return P
-
-    def _vertices(self, rng, n) -> np.ndarray:
-        from scipy.optimize import linprog
-
-        k = len(self.factors)
-        ci = np.flatnonzero(self.cont)
-        A = np.array([c.coefficients[ci] for c in self.constraints])
-        b = np.array([c.bound for c in self.constraints])
-        out = []
-        for _ in range(n):
-            cats = np.array([rng.choice(v) for v in self.values])
-            res = linprog(rng.standard_normal(len(ci)), A_ub=A,
-                          b_ub=b - A @ np.zeros(len(ci)) - 1e-7, bounds=[(-1, 1)] * len(ci),
-                          method="highs")
-            if res.status == 0:
-                row = cats.copy()
-                row[ci] = res.x
-                out.append(row)
-        return np.array(out).reshape(-1, k)
-
-    def check_feasible(self) -> None:
-        """Raise DesignError naming the constraints when no point meets them all."""
-        if self.constraints and self.cont.any():
-            from scipy.optimize import linprog
-
-            ci = np.flatnonzero(self.cont)
-            A = np.array([c.coefficients[ci] for c in self.constraints])
-            b = np.array([c.bound for c in self.constraints])
-            res = linprog(np.zeros(len(ci)), A_ub=A, b_ub=b, bounds=[(-1, 1)] * len(ci),
-                          method="highs")
-            if res.status != 0:
-                texts = "; ".join(c.text for c in self.constraints)
-                raise DesignError(
-                    f"no combination of factor levels inside their ranges meets all the "
-                    f"constraints ({texts}); widen the factor ranges or relax a constraint")
-
-
-def _search(model: pw.DesignModel, region: _Region, U: np.ndarray, free: np.ndarray,
-            criterion: str, W: np.ndarray | None, rng, max_passes: int,
-            tables: list[np.ndarray]) -> np.ndarray:
-    """Coordinate exchange from start ``U`` (rows ``free`` may move); returns ``U``."""
-    X = model.expand(U)
-    n, k = U.shape
-    p = model.p
-    A = np.linalg.inv(X.T @ X + _RIDGE * np.eye(p))
-    rows = np.flatnonzero(free)
-    simple = region.simple
-    others = [np.array([f for f in range(k) if f != j], dtype=int) for j in range(k)]
-    eye = _RIDGE * np.eye(p)
-    for _ in range(max_passes):
-        improved = False
-        for i in rng.permutation(rows):
-            G = np.empty((p, k))
-            for f in range(k):
-                G[:, f] = model.factor_columns(f, U[i, f])[0]
-            for j in range(k):
-                rest = G[:, others[j]].prod(axis=1)
-                if simple[j]:
-                    vals = region.values[j]
-                    Y = tables[j] * rest
-                else:
-                    cand = region.candidates(U[i], j)
-                    if len(cand) == 0:
-                        continue
-                    vals = cand[:, j]
-                    Y = model.factor_columns(j, vals) * rest
-                x = X[i]
-                Ax = A @ x
-                d1 = 1.0 - x @ Ax
-                if d1 <= 1e-12:
-                    continue
-                A1 = A + (Ax[:, None] * Ax[None, :]) / d1
-                YA = Y @ A1
-                q = 1.0 + np.einsum("ij,ij->i", YA, Y)
-                if criterion == "D":
-                    gain = d1 * q                      # det ratio new/old
-                    best = int(np.argmax(gain))
-                    ok = gain[best] > 1.0 + _GAIN
-                else:
-                    t0 = np.trace(W @ A)
-                    t1 = t0 + (Ax @ W @ Ax) / d1
-                    t2 = t1 - np.einsum("ij,jk,ik->i", YA, W, YA) / q
-                    best = int(np.argmin(t2))
-                    ok = t2[best] < t0 * (1.0 - _GAIN)
-                if ok:
-                    Ay = YA[best]
-                    A = A1 - (Ay[:, None] * Ay[None, :]) / q[best]
-                    U[i, j] = vals[best]
-                    X[i] = Y[best]
-                    G[:, j] = Y[best] / rest if simple[j] and np.all(rest != 0) else \
-                        model.factor_columns(j, vals[best])[0]
-                    improved = True
-        A = np.linalg.inv(X.T @ X + eye)
-        if not improved:
-            break
-    return U
-
-
 def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
                    criterion: str = "D", constraints: Sequence[str] = (),
                    disallow: Sequence[Mapping] = (), fixed: pd.DataFrame | None = None,
@@ -276,7 +128,7 @@ def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
     if criterion not in CRITERIA:
         raise DesignError(f"criterion must be one of {list(CRITERIA)}, got {criterion!r}")
     dm = pw.DesignModel.from_spec(model, factors)
-    region = _Region(factors, [parse_constraint(c, factors) for c in constraints],
+    region = Region(factors, [parse_constraint(c, factors) for c in constraints],
                      [parse_disallowed(d, factors) for d in disallow], int(grid))
     region.check_feasible()
     kept = [t for t in (existing, fixed) if t is not None and len(t)]
@@ -302,7 +154,7 @@ def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
     best_U, best_val, values = None, None, []
     for _ in range(max(1, int(starts))):
         U = np.vstack([U0, pool[rng.integers(0, len(pool), int(runs))]])
-        U = _search(dm, region, U, free, criterion, W, rng, max_passes, tables)
+        U = coordinate_exchange(dm, region, U, free, criterion, W, rng, max_passes, tables)
         X = dm.expand(U)
         ld = pw.log_det_information(X)
         val = ld if criterion == "D" else (pw.average_variance(X, W) if np.isfinite(ld)
