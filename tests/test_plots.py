@@ -138,6 +138,18 @@ def test_residual_panels(surface):
     assert "standard deviations" in a3.get_ylabel()
 
 
+def test_residual_panels_with_diagnostics(surface):
+    res = surface.results["removal"]
+    d = res.diagnostics.table
+    fig = plots.residual_panels(res, unit="%")
+    a3 = fig.axes[2]
+    x, q = _xy(a3.lines[0])
+    assert x == pytest.approx(d.studentized) and q == pytest.approx(d.normal_quantile)
+    assert a3.get_xlabel() == "studentized residual (no unit)"
+    labelled = {t.get_text() for t in fig.axes[0].texts}
+    assert labelled == set(d[d.flagged].bath)
+
+
 def test_contour_marks_design_points_and_optimum(surface):
     res = surface.surfaces["removal"]
     ax = plots.contour(res, unit="%")

@@ -226,13 +226,21 @@ def half_normal(effects, *, unit: str = "", ax: Axes | None = None) -> Axes:
 
 
 # -- diagnostics ----------------------------------------------------------------------
-def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Figure:
+def residual_panels(result, diagnostics=None, *, unit: str = "",
+                    fig: Figure | None = None) -> Figure:
     """Residuals against fitted values, against run order (coloured by block) and on a
-    normal probability scale.  ``result``: ``ModelFit`` or ``ResidualView``."""
+    normal probability scale; flagged baths are labelled.
+
+    ``result``: ``ModelFit`` (with its ``Diagnostics`` as ``diagnostics``, if computed),
+    an ``AnalysisResult`` of :func:`trialkit.analysis.pipeline.analyze_table`, or a
+    ``ResidualView``.
+    """
+    if hasattr(result, "fit") and hasattr(result, "diagnostics") and not _fit_like(result):
+        result, diagnostics = result.fit, result.diagnostics
     if _fit_like(result):
         from trialkit.report.views import residual_view
 
-        result = residual_view(result, unit=unit)
+        result = residual_view(result, diagnostics, unit=unit)
     _need(result, ("table", "response"), "residual_panels")
     t = result.table
     unit = unit or getattr(result, "unit", "")
@@ -244,6 +252,10 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
         _style(ax)
     a1.plot(t.fitted, t.residual, ls="none", marker="o", color=BLUE, mec=BLACK)
     a1.axhline(0, color=BLACK, lw=1)
+    if "flagged" in t:
+        for r in t[t.flagged.astype(bool)].itertuples():
+            a1.annotate(str(r.bath), (r.fitted, r.residual), textcoords="offset points",
+                        xytext=(4, 4), fontsize=8, color=VERMILION)
     a1.set_xlabel(label(f"fitted {result.response}", unit))
     a1.set_ylabel(label("residual", unit))
     a1.set_title("Residuals against fitted values")
@@ -256,8 +268,10 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
     a2.set_ylabel(label("residual", unit))
     a2.set_title("Residuals in run order (drift shows here)")
     a2.legend(fontsize=8)
-    a3.plot(t.residual, t.normal_quantile, ls="none", marker="o", color=GREEN, mec=BLACK)
-    a3.set_xlabel(label("residual", unit))
+    nx = t.normal_x if "normal_x" in t else t.residual
+    a3.plot(nx, t.normal_quantile, ls="none", marker="o", color=GREEN, mec=BLACK)
+    what = getattr(result, "normal_label", "residual")
+    a3.set_xlabel(label(what, "" if what.startswith("studentized") else unit))
     a3.set_ylabel("normal quantile (standard deviations)")
     a3.set_title("Normal probability of the residuals")
     fig.suptitle(f"Model checks for {result.response}")

@@ -265,12 +265,48 @@ def _models(data: TrialData) -> list[Block]:
             lf = an.lack_of_fit
             blocks.append(Block.para(f"Lack of fit against pure error for {name}: F = "
                                      f"{lf['F']:.3g}, p = {lf['p']:.3g}."))
+        blocks += _diagnostic_text(data, name)
         if fit.df_resid > 0:
             blocks += figs.model_figures(data, name)
         else:
             blocks.append(Block.note(f"{name}: the model uses every bath (no residual "
                                      "degrees of freedom), so residual checks are not possible"))
     return blocks
+
+
+def _diagnostic_text(data: TrialData, name: str) -> list[Block]:
+    res = data.results.get(name)
+    out = []
+    red = getattr(res, "reduction", None)
+    if red is not None and getattr(red, "steps", None) is not None:
+        steps = red.steps
+        rows = steps.to_dict("records") if hasattr(steps, "to_dict") else list(steps)
+        if rows:
+            out.append(Block.frame(pd.DataFrame(rows), f"Model reduction steps for {name}"))
+    d = getattr(res, "diagnostics", None)
+    if d is None:
+        return out
+    said = []
+    p = d.normality.get("p")
+    if p is not None and math.isfinite(p):
+        said.append(f"Shapiro–Wilk test of normal residuals: p = {p:.2g}"
+                    + (" (the residuals do not look normal)." if p < 0.05 else "."))
+    if d.drift and math.isfinite(d.drift.get("p", math.nan)):
+        said.append(f"Trend of residuals with run order: Spearman ρ = {d.drift['rho']:.2f}, "
+                    f"p = {d.drift['p']:.2g}"
+                    + (" (drift between runs or days)." if d.drift["p"] < 0.05 else "."))
+    flagged = d.table[d.table.flagged]
+    if len(flagged):
+        said.append("Baths to look at: " + ", ".join(
+            f"{r.bath} ({r.reason.replace(',', ', ').replace('_', ' ')})"
+            for r in flagged.itertuples()) + ".")
+    if d.box_cox and d.box_cox.get("recommended"):
+        said.append(f"The residual spread grows with the mean; a {d.box_cox['transform']} "
+                    f"transform of {name} (Box–Cox power {d.box_cox['suggested']:g}) may fit "
+                    "better.")
+    if said:
+        out.append(Block.bullets(said, f"Checks of the model for {name}"))
+    return out
 
 
 def _recipe(data: TrialData) -> list[Block]:

@@ -161,26 +161,50 @@ def interaction_lines(fit, x: str, trace: str, *, unit: str = "", n: int = GRID)
 
 @dataclass
 class ResidualView:
-    """Residuals for the three diagnostic panels."""
+    """Residuals for the three diagnostic panels.
+
+    ``table``: fitted, residual, run, block, bath, normal_x, normal_quantile, flagged.
+    The normal panel draws ``normal_x`` (described by ``normal_label``) against
+    ``normal_quantile``.
+    """
 
     response: str
     unit: str
-    table: pd.DataFrame   # fitted, residual, run, block, normal_quantile, bath
+    table: pd.DataFrame
+    normal_label: str = "residual"
     method: str = "residuals of the fitted model; normal quantiles by Blom's plotting positions"
 
 
-def residual_view(fit, *, unit: str = "") -> ResidualView:
-    """Fitted values, residuals, run order and blocks of the baths in the model."""
+def residual_view(fit, diagnostics=None, *, unit: str = "") -> ResidualView:
+    """Fitted values, residuals, run order and blocks of the baths in the model.
+
+    With a :class:`trialkit.analysis.diagnostics.Diagnostics` the normal panel shows its
+    studentized residuals and quantiles and its flagged baths; without, the raw residuals
+    with Blom (1958) plotting positions.
+    """
     obs = observed(fit)
     n = len(obs)
+    block = obs["block"].astype(str).to_numpy() if "block" in obs else np.array(["1"] * n)
+    if diagnostics is not None:
+        d = diagnostics.table.reset_index(drop=True)
+        table = pd.DataFrame({"fitted": d.fitted.to_numpy(), "residual": d.residual.to_numpy(),
+                              "run": d.run.to_numpy(), "block": block,
+                              "bath": d.bath.astype(str).to_numpy(),
+                              "normal_x": d.studentized.to_numpy(),
+                              "normal_quantile": d.normal_quantile.to_numpy(),
+                              "flagged": d.flagged.to_numpy(bool)})
+        return ResidualView(fit.response, unit, table, "studentized residual",
+                            "diagnostics of trialkit.analysis.diagnostics")
     order = np.argsort(np.argsort(obs.residual.to_numpy(), kind="mergesort"), kind="mergesort")
     q = stats.norm.ppf((order + 1 - 0.375) / (n + 0.25))  # Blom (1958) plotting positions
     table = pd.DataFrame({
         "fitted": obs.fitted.to_numpy(), "residual": obs.residual.to_numpy(),
         "run": obs["run"].to_numpy() if "run" in obs else np.arange(1, n + 1),
-        "block": obs["block"].astype(str).to_numpy() if "block" in obs else ["1"] * n,
-        "normal_quantile": q,
-        "bath": obs["bath"].to_numpy() if "bath" in obs else [str(i + 1) for i in range(n)]})
+        "block": block,
+        "bath": obs["bath"].astype(str).to_numpy() if "bath" in obs
+        else np.array([str(i + 1) for i in range(n)]),
+        "normal_x": obs.residual.to_numpy(), "normal_quantile": q,
+        "flagged": np.zeros(n, bool)})
     return ResidualView(fit.response, unit, table)
 
 
