@@ -258,12 +258,17 @@ def analysed(kind: str):
             folder, resp, tc = example(kind.split(":", 1)[1], base)
             data = analyse(load_inputs(folder, responses=resp, timecourse=tc))
             inputs = {"responses": resp, "timecourse": tc}
+            conf = folder / "readings" / "confirmation.csv"
+            inputs_build = dict(inputs, confirmation=pd.read_csv(conf) if conf.exists()
+                                else None)
         else:
             out = {"screening": screening, "surface": surface, "sweep": sweep}[kind](base)
             tc = out[3] if kind == "sweep" else None
             data = analyse(load_inputs(base, baths=out[2], timecourse=tc))
             inputs = {"baths": out[2], "timecourse": tc}
+            inputs_build = inputs
         _CACHE[key] = (data, inputs)
+        _CACHE[("build", kind)] = inputs_build
     return _CACHE[key]
 
 
@@ -273,8 +278,8 @@ def report_of(kind: str):
 
     key = ("report", kind)
     if key not in _CACHE:
-        data, inputs = analysed(kind)
-        _CACHE[key] = build_report(data.folder, **inputs)
+        data, _ = analysed(kind)
+        _CACHE[key] = build_report(data.folder, **_CACHE[("build", kind)])
     return _CACHE[key]
 
 

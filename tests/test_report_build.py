@@ -76,6 +76,23 @@ def test_safety_cautions(kind):
         assert words in text, words
 
 
+def test_confirmation_baths_checked_against_prediction_intervals():
+    from trialkit.analysis.confirm import confirm
+
+    report = rt.report_of("example:surface-follow-up")
+    data, _ = rt.analysed("example:surface-follow-up")
+    conf = report.data["confirmation"]
+    assert "removal" in conf
+    c = conf["removal"]
+    # the same check straight from the analysis package
+    obs = [b["observed"] for b in c["baths"]]
+    ref = confirm(data.fits["removal"], c["settings"], obs)
+    assert c["mean"]["pi_low"] == pytest.approx(ref.mean["pi_low"])
+    assert c["all_inside"] == ref.all_inside
+    text = " ".join(b.text for b in report.section("confirm").blocks if b.kind == "text")
+    assert "Confirmation baths were run at chelator = 5, ph = 6.1." in text
+
+
 def test_reproducibility_lists_files_with_sha256():
     import hashlib
 

@@ -15,6 +15,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--bath-results", metavar="CSV",
                         help="one row per bath with the plan's bath ids and one column per "
                              "response, instead of the folder's record log")
+    parser.add_argument("--confirmation", metavar="CSV",
+                        help="coupon readings of confirmation baths run at one setting "
+                             "(checked against the prediction intervals)")
     parser.add_argument("--bootstrap", metavar="N", type=int, default=0,
                         help="bootstrap resamples for the interval of the best point "
                              "(default 0: none)")
@@ -58,7 +61,17 @@ def run(args: argparse.Namespace) -> int:
     if args.markdown and Path(args.markdown).suffix.lower() not in (".md", ".markdown"):
         raise ReportError(f"--markdown must name a .md file; got {args.markdown!r}")
     baths = _bath_results(args.bath_results, args.folder) if args.bath_results else None
-    report = build_report(args.folder, baths=baths, n_boot=args.bootstrap)
+    confirmation = None
+    if args.confirmation:
+        import pandas as pd
+
+        from trialkit.exceptions import ResponseError
+
+        if not Path(args.confirmation).exists():
+            raise ResponseError(f"confirmation file {args.confirmation!r} not found")
+        confirmation = pd.read_csv(args.confirmation)
+    report = build_report(args.folder, baths=baths, confirmation=confirmation,
+                          n_boot=args.bootstrap)
     out = report.write(args.out, markdown=args.markdown)
     if args.json:
         from trialkit.commands._output import print_json

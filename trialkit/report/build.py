@@ -20,7 +20,7 @@ import pandas as pd
 from trialkit.report import figures as figs
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import effects_findings, model_findings, pretty_unit
-from trialkit.report.gather import TrialData, analyse, load_inputs
+from trialkit.report.gather import TrialData, analyse, check_confirmation, load_inputs
 
 SECTION_TITLES = {
     "brief": "The trial in brief",
@@ -42,7 +42,8 @@ NOT_THE_LAST_WORD = ("This recommendation summarises a bench trial. It is not a 
 
 
 def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
-                 timecourse: pd.DataFrame | None = None, n_boot: int = 0) -> Report:
+                 timecourse: pd.DataFrame | None = None, confirmation=None,
+                 n_boot: int = 0) -> Report:
     """The report of the trial in ``folder``.
 
     Parameters
@@ -56,6 +57,9 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
         per trial response (by its name).
     timecourse : DataFrame, optional
         Coverage readings over time (``bath, elapsed_h, coverage_pct``).
+    confirmation : Responses or DataFrame, optional
+        Confirmation baths (their responses, or their coupon readings) run at one
+        setting; checked against the prediction intervals.
     n_boot : int
         Bootstrap resamples for the best point's interval (0: none).
 
@@ -66,6 +70,7 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
     """
     data = analyse(load_inputs(folder, responses=responses, baths=baths,
                                timecourse=timecourse), n_boot=n_boot)
+    check_confirmation(data, confirmation)
     findings = _findings(data)
     sections = [
         Section("brief", SECTION_TITLES["brief"], _brief(data)),
@@ -84,6 +89,7 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
                "recommendation": None if rec is None else {
                    "settings": rec["settings"], "source": rec["source"],
                    "predictions": rec["predictions"].to_dict("records")},
+               "confirmation": {k: v.to_dict() for k, v in data.confirmations.items()},
                "fingerprint": data.plan.fingerprint, "seed": trial.seed,
                "notes": {k: list(v) for k, v in data.notes.items()}}
     return Report(trial.title, sections, sub, payload)
@@ -353,7 +359,28 @@ def _confirm(data: TrialData) -> list[Block]:
     tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]]
     tab = tab.rename(columns={"pi_low": "one bath: low", "pi_high": "one bath: high",
                               "pi3_low": f"mean of {n}: low", "pi3_high": f"mean of {n}: high"})
-    return [Block.para(
+    blocks = []
+    if data.confirmations:
+        rows = []
+        for name, c in data.confirmations.items():
+            m = c.mean
+            rows.append({"response": name, "baths": m["n"], "observed mean": m["observed"],
+                         "predicted": m["predicted"], "interval low": m["pi_low"],
+                         "interval high": m["pi_high"],
+                         "baths inside": f"{int(c.table.inside.sum())} of {len(c.table)}",
+                         "confirmed": "yes" if c.all_inside else "no"})
+        settings = ", ".join(f"{k} = {v:g}" if isinstance(v, float) else f"{k} = {v}"
+                             for k, v in next(iter(data.confirmations.values()))
+                             .settings.items())
+        ok = [n for n, c in data.confirmations.items() if c.all_inside]
+        bad = [n for n, c in data.confirmations.items() if not c.all_inside]
+        text = f"Confirmation baths were run at {settings}. "
+        text += (f"Inside the prediction intervals: {', '.join(ok)}. " if ok else "")
+        text += (f"Outside: {', '.join(bad)} — the model does not hold there; look again "
+                 "before adopting the recipe." if bad else "The model holds there.")
+        blocks += [Block.para(text), Block.frame(pd.DataFrame(rows),
+                   "Confirmation baths against the 95 % prediction interval of their mean")]
+    return blocks + _notes(data, "confirm") + [Block.para(
         f"Mix {n} fresh baths at the recommended settings, each with {lay.coupons_per_bath} "
         f"rusted coupon(s) and {lay.witness_coupons} witness coupon(s) prepared as in this "
         "trial, in one new block, next to one bath of the current recipe for comparison. The "

@@ -50,6 +50,7 @@ class TrialData:
     detectable: dict = field(default_factory=dict)
     recommendation: dict | None = None
     recipe: object | None = None
+    confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -391,3 +392,51 @@ def _recipe(data: TrialData) -> None:
         data.recipe = recipes_for_plan(one).recipes[0]
     except TrialkitError as exc:
         data.note("recipe", f"the recipe could not be worked out: {_message(exc)}")
+
+
+def check_confirmation(data: TrialData, confirmation) -> None:
+    """Compare confirmation baths with the prediction intervals of each fitted model.
+
+    ``confirmation``: a :class:`trialkit.responses.Responses` of the confirmation baths
+    or their coupon readings (one row per coupon: bath, coupon_kind, factor columns and
+    the entry fields), all baths at one setting.
+    """
+    if confirmation is None:
+        return
+    try:
+        from trialkit.analysis.confirm import confirm
+        from trialkit.responses import compute_responses
+    except ImportError:
+        data.note("confirm", "the confirmation module is not installed in this build")
+        return
+    import warnings
+
+    from trialkit.exceptions import TrialkitWarning
+
+    resp = confirmation
+    if isinstance(confirmation, pd.DataFrame):
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", TrialkitWarning)
+            resp = compute_responses(confirmation, coupon_spec=data.trial.coupons)
+    table = resp.baths
+    names = [f.name for f in data.trial.factors]
+    if table.empty or any(n not in table for n in names):
+        data.note("confirm", "the confirmation readings do not give the factor settings")
+        return
+    first = table.iloc[0]
+    settings = {f.name: (float(first[f.name]) if f.is_continuous else str(first[f.name]))
+                for f in data.trial.factors}
+    for name, fit in data.fits.items():
+        spec = data.specs[name]
+        try:
+            values = resp.bath_values(spec.measure or spec.name)
+        except TrialkitError:
+            continue
+        values = values.dropna()
+        if values.empty:
+            continue
+        try:
+            data.confirmations[name] = confirm(fit, settings, values.tolist(),
+                                               baths=[str(b) for b in values.index])
+        except TrialkitError as exc:
+            data.note("confirm", f"{name}: confirmation not checked ({_message(exc)})")
