@@ -324,7 +324,7 @@ def _recipe(data: TrialData) -> list[Block]:
                          for k, v in rec["settings"].items())
     blocks = [Block.para(f"Recommended settings: {settings}. Chosen as the {rec['source']}.")]
     pred = rec["predictions"][["response", "unit", "predicted", "ci_low", "ci_high", "pi_low",
-                               "pi_high"]]
+                               "pi_high"]].assign(unit=lambda d: d.unit.map(pretty_unit))
     blocks.append(Block.frame(pred, "Predicted responses at the recommended settings (95 % "
                                     "confidence interval of the mean, prediction interval "
                                     "of one new bath)"))
@@ -356,7 +356,8 @@ def _confirm(data: TrialData) -> list[Block]:
     lay = data.trial.layout
     n = 3
     pred = rec["predictions"]
-    tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]]
+    tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]] \
+        .assign(unit=lambda d: d.unit.map(pretty_unit))
     tab = tab.rename(columns={"pi_low": "one bath: low", "pi_high": "one bath: high",
                               "pi3_low": f"mean of {n}: low", "pi3_high": f"mean of {n}: high"})
     blocks = []
@@ -418,7 +419,9 @@ def _version(name: str) -> str:
 def _reproduce(data: TrialData) -> list[Block]:
     import trialkit
 
-    tk = getattr(trialkit, "__version__", None) or _version("trialkit")
+    tk = _version("trialkit")
+    if tk == "not installed":
+        tk = f"source tree at {Path(trialkit.__file__).resolve().parent.parent}"
     pairs = [("trialkit", tk), ("Python", platform.python_version())]
     pairs += [(p, _version(p)) for p in PACKAGES]
     files = []
