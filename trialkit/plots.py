@@ -388,22 +388,29 @@ def kinetics(view, *, ax: Axes | None = None) -> Axes:
     ``view``: :class:`trialkit.report.views.KineticsView`.
     """
     _need(view, ("readings", "curves", "time_to_90"), "kinetics")
-    ax = _ax(ax)
+    n = view.curves.bath.nunique()
+    ax = _ax(ax, (8.6, 4.6) if n > 6 else (6.4, 4.2))
     _style(ax)
     for i, (bath, grp) in enumerate(view.curves.groupby("bath", sort=True)):
-        col, m = PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)]
+        col, m = PALETTE[i % len(PALETTE)], MARKERS[(i // len(PALETTE)) % len(MARKERS)]
         t90 = view.time_to_90.get(str(bath), float("nan"))
         tag = f"{t90:.3g} h to 90 %" if np.isfinite(t90) else "90 % not reached"
-        ax.plot(grp.elapsed_h, grp.coverage_pct, color=col, lw=1.6, label=f"{bath}: {tag}")
+        ax.plot(grp.elapsed_h, grp.coverage_pct, color=col, lw=1.4,
+                ls=("-", "--", ":")[(i // len(PALETTE)) % 3], label=f"{bath}: {tag}")
         r = view.readings[view.readings.bath.astype(str) == str(bath)]
         ax.plot(r.elapsed_h, r.coverage_pct, ls="none", marker=m, color=col, mec=BLACK,
-                ms=4)
-        if np.isfinite(t90):
+                ms=3.5)
+        if np.isfinite(t90) and n <= 6:
             ax.axvline(t90, color=col, ls=":", lw=1)
     ax.set_xlabel("time in the bath (h)")
     ax.set_ylabel("rust coverage (% of area)")
     ax.set_title("Rust coverage over time in each bath")
-    ax.legend(fontsize=7, ncol=2)
+    if n > 6:  # many baths: the legend goes beside the plot, out of the curves' way
+        ax.legend(fontsize=6.5, loc="upper left", bbox_to_anchor=(1.01, 1.0),
+                  ncol=1 if n <= 14 else 2, frameon=False)
+        ax.figure.tight_layout()
+    else:
+        ax.legend(fontsize=7)
     return ax
 
 

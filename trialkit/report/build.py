@@ -232,7 +232,7 @@ def _findings(data: TrialData) -> list:
 
 
 def _size(x: float, unit: str) -> str:
-    return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {unit}".rstrip()
+    return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {pretty_unit(unit)}".rstrip()
 
 
 def _matters(data: TrialData, findings) -> list[Block]:
