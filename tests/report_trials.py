@@ -233,3 +233,54 @@ def example(name: str, dest: Path):
     timecourse = pd.read_csv(tc_path) if tc_path.exists() else None
     responses = compute_responses(readings, coupon_spec=trial.coupons, timecourse=timecourse)
     return folder, responses, timecourse
+
+
+_CACHE: dict = {}
+
+
+def _scratch() -> Path:
+    import tempfile
+
+    if "dir" not in _CACHE:
+        _CACHE["dir"] = Path(tempfile.mkdtemp(prefix="trialkit-report-tests-"))
+    return _CACHE["dir"]
+
+
+def analysed(kind: str):
+    """(TrialData, inputs) of one invented or example trial, gathered and analysed once
+    per test session: kind is "screening", "surface", "sweep" or "example:<name>"."""
+    from trialkit.report.gather import analyse, load_inputs
+
+    key = ("analysed", kind)
+    if key not in _CACHE:
+        base = _scratch() / kind.replace(":", "-")
+        if kind.startswith("example:"):
+            folder, resp, tc = example(kind.split(":", 1)[1], base)
+            data = analyse(load_inputs(folder, responses=resp, timecourse=tc))
+            inputs = {"responses": resp, "timecourse": tc}
+            conf = folder / "readings" / "confirmation.csv"
+            inputs_build = dict(inputs, confirmation=pd.read_csv(conf) if conf.exists()
+                                else None)
+        else:
+            out = {"screening": screening, "surface": surface, "sweep": sweep}[kind](base)
+            tc = out[3] if kind == "sweep" else None
+            data = analyse(load_inputs(base, baths=out[2], timecourse=tc))
+            inputs = {"baths": out[2], "timecourse": tc}
+            inputs_build = inputs
+        _CACHE[key] = (data, inputs)
+        _CACHE[("build", kind)] = inputs_build
+    return _CACHE[key]
+
+
+def report_of(kind: str):
+    """The built Report of one trial (cached per session)."""
+    from trialkit.report.build import build_report
+
+    key = ("report", kind)
+    if key not in _CACHE:
+        data, _ = analysed(kind)
+        _CACHE[key] = build_report(data.folder, **_CACHE[("build", kind)])
+    return _CACHE[key]
+
+
+ALL_KINDS = ["screening", "surface", "sweep"] + [f"example:{n}" for n in example_names()]

@@ -87,7 +87,8 @@ def _fit_like(obj) -> bool:
 
 # -- main effects and interactions ----------------------------------------------------
 def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure:
-    """Predicted response along each factor (others at their middle), with 95 % band.
+    """Predicted response along each factor, with 95 % band (other continuous factors at
+    their middle, categorical ones averaged over their levels).
 
     ``result``: a fitted model (``ModelFit``) or :class:`trialkit.report.views.EffectLines`.
     The observed baths are drawn as points.
@@ -125,7 +126,8 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
         ax.set_title(f"Effect of {p.factor}")
     axes[0].set_ylabel(label(result.response, unit))
     axes[0].legend(fontsize=8, loc="best")
-    fig.suptitle(f"Main effects on {result.response} (other factors at their middle)")
+    fig.suptitle(f"Main effects on {result.response} (other factors at their middle "
+                 "or averaged over their levels)")
     fig.tight_layout()
     return fig
 
@@ -151,15 +153,19 @@ def interaction(result, x: str | None = None, trace: str | None = None, *, unit:
     _style(ax)
     for i, (lev, grp) in enumerate(result.line.groupby("trace", sort=False)):
         c, m = PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)]
-        lev_text = f"{lev:g} {result.trace_unit}".strip() if isinstance(lev, float) else lev
+        if isinstance(lev, float):
+            lev_text = f"pH {lev:g}" if result.trace_unit == "pH" else \
+                f"{lev:g} {result.trace_unit}".strip()
+        else:
+            lev_text = lev
         if result.continuous:
             ax.plot(grp.x.astype(float), grp.predicted, color=c, lw=2,
-                    label=f"{result.trace} = {lev_text}")
+                    label=f"{result.trace}: {lev_text}")
             pts = result.points[result.points.trace.astype(str) == str(lev)]
             ax.plot(pts.x.astype(float), pts.y, ls="none", marker=m, color=c, alpha=0.7)
         else:
             ax.plot(range(len(grp)), grp.predicted, color=c, marker=m, lw=2,
-                    label=f"{result.trace} = {lev_text}")
+                    label=f"{result.trace}: {lev_text}")
             ax.set_xticks(range(len(grp)), list(grp.x))
     ax.set_xlabel(label(result.factor, result.unit) if result.continuous
                   else f"{result.factor} (level)")
@@ -220,13 +226,21 @@ def half_normal(effects, *, unit: str = "", ax: Axes | None = None) -> Axes:
 
 
 # -- diagnostics ----------------------------------------------------------------------
-def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Figure:
+def residual_panels(result, diagnostics=None, *, unit: str = "",
+                    fig: Figure | None = None) -> Figure:
     """Residuals against fitted values, against run order (coloured by block) and on a
-    normal probability scale.  ``result``: ``ModelFit`` or ``ResidualView``."""
+    normal probability scale; flagged baths are labelled.
+
+    ``result``: ``ModelFit`` (with its ``Diagnostics`` as ``diagnostics``, if computed),
+    an ``AnalysisResult`` of :func:`trialkit.analysis.pipeline.analyze_table`, or a
+    ``ResidualView``.
+    """
+    if hasattr(result, "fit") and hasattr(result, "diagnostics") and not _fit_like(result):
+        result, diagnostics = result.fit, result.diagnostics
     if _fit_like(result):
         from trialkit.report.views import residual_view
 
-        result = residual_view(result, unit=unit)
+        result = residual_view(result, diagnostics, unit=unit)
     _need(result, ("table", "response"), "residual_panels")
     t = result.table
     unit = unit or getattr(result, "unit", "")
@@ -238,6 +252,10 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
         _style(ax)
     a1.plot(t.fitted, t.residual, ls="none", marker="o", color=BLUE, mec=BLACK)
     a1.axhline(0, color=BLACK, lw=1)
+    if "flagged" in t:
+        for r in t[t.flagged.astype(bool)].itertuples():
+            a1.annotate(str(r.bath), (r.fitted, r.residual), textcoords="offset points",
+                        xytext=(4, 4), fontsize=8, color=VERMILION)
     a1.set_xlabel(label(f"fitted {result.response}", unit))
     a1.set_ylabel(label("residual", unit))
     a1.set_title("Residuals against fitted values")
@@ -250,8 +268,10 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
     a2.set_ylabel(label("residual", unit))
     a2.set_title("Residuals in run order (drift shows here)")
     a2.legend(fontsize=8)
-    a3.plot(t.residual, t.normal_quantile, ls="none", marker="o", color=GREEN, mec=BLACK)
-    a3.set_xlabel(label("residual", unit))
+    nx = t.normal_x if "normal_x" in t else t.residual
+    a3.plot(nx, t.normal_quantile, ls="none", marker="o", color=GREEN, mec=BLACK)
+    what = getattr(result, "normal_label", "residual")
+    a3.set_xlabel(label(what, "" if what.startswith("studentized") else unit))
     a3.set_ylabel("normal quantile (standard deviations)")
     a3.set_title("Normal probability of the residuals")
     fig.suptitle(f"Model checks for {result.response}")
@@ -260,23 +280,24 @@ def residual_panels(result, *, unit: str = "", fig: Figure | None = None) -> Fig
 
 
 # -- surfaces -------------------------------------------------------------------------
-def _surface(view, x=None, y=None):
+def _surface(view, x=None, y=None, unit: str = ""):
     if not hasattr(view, "grid_x"):
         from trialkit.report.views import as_surface_view
 
-        view = as_surface_view(view, x, y)
+        view = as_surface_view(view, x, y, **({"unit": unit} if unit else {}))
     _need(view, ("grid_x", "grid_y", "z", "points", "x", "y"), "contour")
     return view
 
 
-def contour(view, x: str | None = None, y: str | None = None, *, ax: Axes | None = None,
-            title: str | None = None) -> Axes:
+def contour(view, x: str | None = None, y: str | None = None, *, unit: str = "",
+            ax: Axes | None = None, title: str | None = None) -> Axes:
     """Filled contours of a fitted response over two factors, the baths and the optimum.
 
     ``view``: a ``SurfaceResult`` or ``DesirabilityResult`` of :mod:`trialkit.analysis`
-    (``x``, ``y`` choose the factors) or a :class:`trialkit.report.views.SurfaceView`.
+    (``x``, ``y`` choose the factors; ``unit`` is the response's) or a
+    :class:`trialkit.report.views.SurfaceView`.
     """
-    v = _surface(view, x, y)
+    v = _surface(view, x, y, unit)
     ax = _ax(ax, (6.0, 4.6))
     cs = ax.contourf(v.grid_x, v.grid_y, v.z, levels=12, cmap=SEQUENTIAL)
     lines = ax.contour(v.grid_x, v.grid_y, v.z, levels=12, colors="white", linewidths=0.5)
@@ -299,10 +320,10 @@ def contour(view, x: str | None = None, y: str | None = None, *, ax: Axes | None
     return ax
 
 
-def surface3d(view, x: str | None = None, y: str | None = None, *,
+def surface3d(view, x: str | None = None, y: str | None = None, *, unit: str = "",
               ax: Axes | None = None) -> Axes:
     """The same fitted response as a 3-D surface, with the optimum marked."""
-    v = _surface(view, x, y)
+    v = _surface(view, x, y, unit)
     if ax is None:
         with plt.rc_context(STYLE):
             fig = plt.figure(figsize=(6.4, 5.0))
@@ -331,7 +352,7 @@ def desirability_contour(view, x: str | None = None, y: str | None = None, *,
 
 
 # -- sweeps and kinetics --------------------------------------------------------------
-def sweep(view, *, ax: Axes | None = None) -> Axes:
+def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
     """Fitted sweep curve with its 95 % band, bath means, best level and sweet spot.
 
     ``view``: a :class:`trialkit.analysis.sweep.SweepResult` or a SweepView.
@@ -339,7 +360,7 @@ def sweep(view, *, ax: Axes | None = None) -> Axes:
     if not hasattr(view, "curve"):
         from trialkit.report.views import as_sweep_view
 
-        view = as_sweep_view(view)
+        view = as_sweep_view(view, unit=unit)
     _need(view, ("curve", "observed", "best", "sweet_spot", "factor"), "sweep")
     ax = _ax(ax)
     _style(ax)
@@ -367,22 +388,29 @@ def kinetics(view, *, ax: Axes | None = None) -> Axes:
     ``view``: :class:`trialkit.report.views.KineticsView`.
     """
     _need(view, ("readings", "curves", "time_to_90"), "kinetics")
-    ax = _ax(ax)
+    n = view.curves.bath.nunique()
+    ax = _ax(ax, (8.6, 4.6) if n > 6 else (6.4, 4.2))
     _style(ax)
     for i, (bath, grp) in enumerate(view.curves.groupby("bath", sort=True)):
-        col, m = PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)]
+        col, m = PALETTE[i % len(PALETTE)], MARKERS[(i // len(PALETTE)) % len(MARKERS)]
         t90 = view.time_to_90.get(str(bath), float("nan"))
         tag = f"{t90:.3g} h to 90 %" if np.isfinite(t90) else "90 % not reached"
-        ax.plot(grp.elapsed_h, grp.coverage_pct, color=col, lw=1.6, label=f"{bath}: {tag}")
+        ax.plot(grp.elapsed_h, grp.coverage_pct, color=col, lw=1.4,
+                ls=("-", "--", ":")[(i // len(PALETTE)) % 3], label=f"{bath}: {tag}")
         r = view.readings[view.readings.bath.astype(str) == str(bath)]
         ax.plot(r.elapsed_h, r.coverage_pct, ls="none", marker=m, color=col, mec=BLACK,
-                ms=4)
-        if np.isfinite(t90):
+                ms=3.5)
+        if np.isfinite(t90) and n <= 6:
             ax.axvline(t90, color=col, ls=":", lw=1)
     ax.set_xlabel("time in the bath (h)")
     ax.set_ylabel("rust coverage (% of area)")
     ax.set_title("Rust coverage over time in each bath")
-    ax.legend(fontsize=7, ncol=2)
+    if n > 6:  # many baths: the legend goes beside the plot, out of the curves' way
+        ax.legend(fontsize=6.5, loc="upper left", bbox_to_anchor=(1.01, 1.0),
+                  ncol=1 if n <= 14 else 2, frameon=False)
+        ax.figure.tight_layout()
+    else:
+        ax.legend(fontsize=7)
     return ax
 
 

@@ -15,6 +15,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--bath-results", metavar="CSV",
                         help="one row per bath with the plan's bath ids and one column per "
                              "response, instead of the folder's record log")
+    parser.add_argument("--confirmation", metavar="CSV",
+                        help="coupon readings of confirmation baths run at one setting "
+                             "(checked against the prediction intervals)")
     parser.add_argument("--bootstrap", metavar="N", type=int, default=0,
                         help="bootstrap resamples for the interval of the best point "
                              "(default 0: none)")
@@ -50,9 +53,25 @@ def _bath_results(path: str, folder: str):
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.report.build import build_report
+    from trialkit.report.document import ReportError
 
+    if Path(args.out).suffix.lower() not in (".html", ".htm"):
+        raise ReportError(f"--out must name an .html file; got {args.out!r}. Use e.g. "
+                          "--out report.html (and --markdown notes.md for Markdown)")
+    if args.markdown and Path(args.markdown).suffix.lower() not in (".md", ".markdown"):
+        raise ReportError(f"--markdown must name a .md file; got {args.markdown!r}")
     baths = _bath_results(args.bath_results, args.folder) if args.bath_results else None
-    report = build_report(args.folder, baths=baths, n_boot=args.bootstrap)
+    confirmation = None
+    if args.confirmation:
+        import pandas as pd
+
+        from trialkit.exceptions import ResponseError
+
+        if not Path(args.confirmation).exists():
+            raise ResponseError(f"confirmation file {args.confirmation!r} not found")
+        confirmation = pd.read_csv(args.confirmation)
+    report = build_report(args.folder, baths=baths, confirmation=confirmation,
+                          n_boot=args.bootstrap)
     out = report.write(args.out, markdown=args.markdown)
     if args.json:
         from trialkit.commands._output import print_json

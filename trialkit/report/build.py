@@ -19,8 +19,8 @@ import pandas as pd
 
 from trialkit.report import figures as figs
 from trialkit.report.document import Block, Report, Section
-from trialkit.report.findings import effects_findings, model_findings
-from trialkit.report.gather import TrialData, analyse, load_inputs
+from trialkit.report.findings import effects_findings, model_findings, pretty_unit
+from trialkit.report.gather import TrialData, analyse, check_confirmation, load_inputs
 
 SECTION_TITLES = {
     "brief": "The trial in brief",
@@ -42,7 +42,8 @@ NOT_THE_LAST_WORD = ("This recommendation summarises a bench trial. It is not a 
 
 
 def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
-                 timecourse: pd.DataFrame | None = None, n_boot: int = 0) -> Report:
+                 timecourse: pd.DataFrame | None = None, confirmation=None,
+                 n_boot: int = 0) -> Report:
     """The report of the trial in ``folder``.
 
     Parameters
@@ -56,6 +57,9 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
         per trial response (by its name).
     timecourse : DataFrame, optional
         Coverage readings over time (``bath, elapsed_h, coverage_pct``).
+    confirmation : Responses or DataFrame, optional
+        Confirmation baths (their responses, or their coupon readings) run at one
+        setting; checked against the prediction intervals.
     n_boot : int
         Bootstrap resamples for the best point's interval (0: none).
 
@@ -66,6 +70,7 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
     """
     data = analyse(load_inputs(folder, responses=responses, baths=baths,
                                timecourse=timecourse), n_boot=n_boot)
+    check_confirmation(data, confirmation)
     findings = _findings(data)
     sections = [
         Section("brief", SECTION_TITLES["brief"], _brief(data)),
@@ -84,6 +89,7 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
                "recommendation": None if rec is None else {
                    "settings": rec["settings"], "source": rec["source"],
                    "predictions": rec["predictions"].to_dict("records")},
+               "confirmation": {k: v.to_dict() for k, v in data.confirmations.items()},
                "fingerprint": data.plan.fingerprint, "seed": trial.seed,
                "notes": {k: list(v) for k, v in data.notes.items()}}
     return Report(trial.title, sections, sub, payload)
@@ -129,7 +135,7 @@ def _brief(data: TrialData) -> list[Block]:
                           "levels": _levels(f)} for f in t.factors])
     blocks.append(Block.frame(ftab, "Factors and their levels"))
     if t.responses:
-        rtab = pd.DataFrame([{"response": r.name, "unit": r.unit, "goal": r.goal,
+        rtab = pd.DataFrame([{"response": r.name, "unit": pretty_unit(r.unit), "goal": r.goal,
                               "computed as": r.measure or r.name} for r in t.responses])
         blocks.append(Block.frame(rtab, "Responses"))
     return blocks + _notes(data, "plan")
@@ -226,7 +232,7 @@ def _findings(data: TrialData) -> list:
 
 
 def _size(x: float, unit: str) -> str:
-    return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {unit}".rstrip()
+    return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {pretty_unit(unit)}".rstrip()
 
 
 def _matters(data: TrialData, findings) -> list[Block]:
@@ -234,9 +240,16 @@ def _matters(data: TrialData, findings) -> list[Block]:
         why = "no responses to analyse yet" if data.baths is None else \
             "no model could be fitted to the responses"
         return [Block.note(why)] + _notes(data, "analysis")
-    blocks = [Block.bullets([f.text for f in findings], "Findings")]
+    blocks = []
     for name in data.fits:
+        said = [f.text for f in findings if f.response == name]
+        if said:
+            unit = pretty_unit(data.unit(name)) or "no unit"
+            blocks.append(Block.bullets(said, f"{name} ({unit})"))
         blocks += figs.effect_figures(data, name)
+    other = [f.text for f in findings if f.response not in data.fits]
+    if other:
+        blocks.append(Block.bullets(other, "Removal over time"))
     blocks += figs.kinetics_figure(data)
     return blocks + _notes(data, "analysis", "kinetics")
 
@@ -258,12 +271,48 @@ def _models(data: TrialData) -> list[Block]:
             lf = an.lack_of_fit
             blocks.append(Block.para(f"Lack of fit against pure error for {name}: F = "
                                      f"{lf['F']:.3g}, p = {lf['p']:.3g}."))
+        blocks += _diagnostic_text(data, name)
         if fit.df_resid > 0:
             blocks += figs.model_figures(data, name)
         else:
             blocks.append(Block.note(f"{name}: the model uses every bath (no residual "
                                      "degrees of freedom), so residual checks are not possible"))
     return blocks
+
+
+def _diagnostic_text(data: TrialData, name: str) -> list[Block]:
+    res = data.results.get(name)
+    out = []
+    red = getattr(res, "reduction", None)
+    if red is not None and getattr(red, "steps", None) is not None:
+        steps = red.steps
+        rows = steps.to_dict("records") if hasattr(steps, "to_dict") else list(steps)
+        if rows:
+            out.append(Block.frame(pd.DataFrame(rows), f"Model reduction steps for {name}"))
+    d = getattr(res, "diagnostics", None)
+    if d is None:
+        return out
+    said = []
+    p = d.normality.get("p")
+    if p is not None and math.isfinite(p):
+        said.append(f"Shapiro–Wilk test of normal residuals: p = {p:.2g}"
+                    + (" (the residuals do not look normal)." if p < 0.05 else "."))
+    if d.drift and math.isfinite(d.drift.get("p", math.nan)):
+        said.append(f"Trend of residuals with run order: Spearman ρ = {d.drift['rho']:.2f}, "
+                    f"p = {d.drift['p']:.2g}"
+                    + (" (drift between runs or days)." if d.drift["p"] < 0.05 else "."))
+    flagged = d.table[d.table.flagged]
+    if len(flagged):
+        said.append("Baths to look at: " + ", ".join(
+            f"{r.bath} ({r.reason.replace(',', ', ').replace('_', ' ')})"
+            for r in flagged.itertuples()) + ".")
+    if d.box_cox and d.box_cox.get("recommended"):
+        said.append(f"The residual spread grows with the mean; a {d.box_cox['transform']} "
+                    f"transform of {name} (Box–Cox power {d.box_cox['suggested']:g}) may fit "
+                    "better.")
+    if said:
+        out.append(Block.bullets(said, f"Checks of the model for {name}"))
+    return out
 
 
 def _recipe(data: TrialData) -> list[Block]:
@@ -275,7 +324,7 @@ def _recipe(data: TrialData) -> list[Block]:
                          for k, v in rec["settings"].items())
     blocks = [Block.para(f"Recommended settings: {settings}. Chosen as the {rec['source']}.")]
     pred = rec["predictions"][["response", "unit", "predicted", "ci_low", "ci_high", "pi_low",
-                               "pi_high"]]
+                               "pi_high"]].assign(unit=lambda d: d.unit.map(pretty_unit))
     blocks.append(Block.frame(pred, "Predicted responses at the recommended settings (95 % "
                                     "confidence interval of the mean, prediction interval "
                                     "of one new bath)"))
@@ -307,10 +356,32 @@ def _confirm(data: TrialData) -> list[Block]:
     lay = data.trial.layout
     n = 3
     pred = rec["predictions"]
-    tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]]
+    tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]] \
+        .assign(unit=lambda d: d.unit.map(pretty_unit))
     tab = tab.rename(columns={"pi_low": "one bath: low", "pi_high": "one bath: high",
                               "pi3_low": f"mean of {n}: low", "pi3_high": f"mean of {n}: high"})
-    return [Block.para(
+    blocks = []
+    if data.confirmations:
+        rows = []
+        for name, c in data.confirmations.items():
+            m = c.mean
+            rows.append({"response": name, "baths": m["n"], "observed mean": m["observed"],
+                         "predicted": m["predicted"], "interval low": m["pi_low"],
+                         "interval high": m["pi_high"],
+                         "baths inside": f"{int(c.table.inside.sum())} of {len(c.table)}",
+                         "confirmed": "yes" if c.all_inside else "no"})
+        settings = ", ".join(f"{k} = {v:g}" if isinstance(v, float) else f"{k} = {v}"
+                             for k, v in next(iter(data.confirmations.values()))
+                             .settings.items())
+        ok = [n for n, c in data.confirmations.items() if c.all_inside]
+        bad = [n for n, c in data.confirmations.items() if not c.all_inside]
+        text = f"Confirmation baths were run at {settings}. "
+        text += (f"Inside the prediction intervals: {', '.join(ok)}. " if ok else "")
+        text += (f"Outside: {', '.join(bad)} — the model does not hold there; look again "
+                 "before adopting the recipe." if bad else "The model holds there.")
+        blocks += [Block.para(text), Block.frame(pd.DataFrame(rows),
+                   "Confirmation baths against the 95 % prediction interval of their mean")]
+    return blocks + _notes(data, "confirm") + [Block.para(
         f"Mix {n} fresh baths at the recommended settings, each with {lay.coupons_per_bath} "
         f"rusted coupon(s) and {lay.witness_coupons} witness coupon(s) prepared as in this "
         "trial, in one new block, next to one bath of the current recipe for comparison. The "
@@ -348,7 +419,9 @@ def _version(name: str) -> str:
 def _reproduce(data: TrialData) -> list[Block]:
     import trialkit
 
-    tk = getattr(trialkit, "__version__", None) or _version("trialkit")
+    tk = _version("trialkit")
+    if tk == "not installed":
+        tk = f"source tree at {Path(trialkit.__file__).resolve().parent.parent}"
     pairs = [("trialkit", tk), ("Python", platform.python_version())]
     pairs += [(p, _version(p)) for p in PACKAGES]
     files = []

@@ -79,7 +79,8 @@ def model_figures(data, name: str) -> list[Block]:
     from trialkit.report import views
 
     fit, unit = data.fits[name], data.unit(name)
-    out = [embed(lambda: plots.residual_panels(fit, unit=unit),
+    diag = getattr(data.results.get(name), "diagnostics", None)
+    out = [embed(lambda: plots.residual_panels(fit, diag, unit=unit),
                  f"Model checks for {name}: residuals against fitted values, run order and "
                  "the normal distribution")]
     if name in data.surfaces and len(data.surfaces[name].factors) >= 2:

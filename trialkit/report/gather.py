@@ -42,6 +42,7 @@ class TrialData:
     kinetics: dict = field(default_factory=dict)
     fits: dict = field(default_factory=dict)
     models: dict = field(default_factory=dict)
+    results: dict = field(default_factory=dict)  # response -> AnalysisResult
     effects: dict = field(default_factory=dict)
     surfaces: dict = field(default_factory=dict)
     sweeps: dict = field(default_factory=dict)
@@ -49,6 +50,7 @@ class TrialData:
     detectable: dict = field(default_factory=dict)
     recommendation: dict | None = None
     recipe: object | None = None
+    confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -82,9 +84,14 @@ def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | Non
     _load_log(data)
     if responses is None and baths is None and data.log is not None:
         try:
+            import warnings
+
+            from trialkit.exceptions import TrialkitWarning
             from trialkit.responses import load_responses
 
-            responses = load_responses(data.folder)
+            with warnings.catch_warnings():  # the problems are listed in the report
+                warnings.simplefilter("ignore", TrialkitWarning)
+                responses = load_responses(data.folder)
         except ImportError:
             data.note("responses", "the responses module is not installed in this build")
         except TrialkitError as exc:
@@ -176,50 +183,67 @@ def _timecourse(data: TrialData, timecourse: pd.DataFrame | None) -> None:
 
 
 # -- analysis -----------------------------------------------------------------------
-def _configured_model(trial) -> str | None:
+def config_of(trial):
+    """The trial's parsed ``[analysis]`` section (defaults when absent)."""
+    try:
+        from trialkit.analysis.config import AnalysisConfig
+    except ImportError:  # pragma: no cover - the analysis package ships it
+        return None
     sec = (trial.sections or {}).get("analysis")
-    model = getattr(sec, "model", None) if not isinstance(sec, dict) else sec.get("model")
-    return str(model) if model else None
+    return sec if isinstance(sec, AnalysisConfig) else AnalysisConfig()
 
 
 def _goal(spec) -> str:
     return spec.goal if spec.goal in ("maximize", "minimize") else "maximize"
 
 
-def analyse(data: TrialData, *, n_boot: int = 0) -> TrialData:
-    """Fit every response that has values; effects, surfaces, sweeps, desirability."""
-    from trialkit.analysis.model import fit_model
+def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
+    """Analyse every response that has values with :func:`trialkit.analysis.pipeline.
+    analyze_table` (the same analysis as ``trialkit analyze``), the trial's ``[analysis]``
+    settings applied; Lenth's effects for two-level designs, desirability, recommendation.
+
+    ``n_boot`` overrides the section's ``bootstrap`` (the report default is 0: none).
+    """
+    from trialkit.analysis.pipeline import analyze_table
 
     if data.baths is None:
         return data
     trial = data.trial
+    cfg = config_of(trial)
     kind = trial.design.kind
+    boot = 0 if n_boot is None else int(n_boot)
+    sweep = cfg.sweep if cfg.sweep else None
+    if kind == "sweep" and sweep is None:
+        cont = [f.name for f in trial.factors if f.is_continuous]
+        sweep = cont[0] if cont else None
     for spec in trial.responses:
         if spec.name not in data.baths or data.baths[spec.name].notna().sum() == 0:
             data.note("analysis", f"{spec.name}: no bath has a value yet")
             continue
-        if kind == "sweep":
-            _sweep(data, spec, n_boot)
+        model = cfg.response_models.get(spec.name) or cfg.model
+        try:
+            res = analyze_table(data.baths, spec.name, trial.factors, model=model,
+                                anova_type=cfg.anova_type, alpha=cfg.alpha, sweep=sweep,
+                                goal=_goal(spec) if _wanted(spec) else "maximize",
+                                reduce=cfg.reduce, threshold=cfg.threshold, n_boot=boot,
+                                seed=trial.seed, tolerance=cfg.tolerance,
+                                relative_tolerance=cfg.relative_tolerance)
+        except TrialkitError as exc:
+            data.note("analysis", f"{spec.name}: no model could be fitted ({_message(exc)})")
             continue
-        candidates = [_configured_model(trial)] if _configured_model(trial) else \
-            (["quadratic", "interactions", "main"] if kind not in TWO_LEVEL_KINDS
-             else ["interactions", "main"])
-        for model in candidates:
-            try:
-                fit = fit_model(data.baths, spec.name, trial.factors, model)
-            except TrialkitError as exc:
-                last = exc
-                continue
-            if fit.df_resid >= 2 or model == candidates[-1]:
-                data.fits[spec.name], data.models[spec.name] = fit, model
-                break
-        else:
-            data.note("analysis", f"{spec.name}: no model could be fitted ({_message(last)})")
-            continue
-        if kind in TWO_LEVEL_KINDS:
+        data.fits[spec.name] = res.fit
+        data.models[spec.name] = res.fit.spec.to_text()
+        data.results[spec.name] = res
+        if res.sweep is not None:
+            data.sweeps[spec.name] = res.sweep
+        if res.surface is not None and _wanted(spec):
+            data.surfaces[spec.name] = res.surface
+        if res.effects is not None:
+            data.effects[spec.name] = res.effects
+        elif kind in TWO_LEVEL_KINDS:
             _effects(data, spec)
-        _surface(data, spec, n_boot)
-        _detectable(data, spec)
+        if res.sweep is None:
+            _detectable(data, spec)
     _desirability(data)
     _recommend(data)
     return data
@@ -239,37 +263,6 @@ def _wanted(spec) -> bool:
     return spec.goal in ("maximize", "minimize", "target")
 
 
-def _surface(data: TrialData, spec, n_boot: int) -> None:
-    fit = data.fits[spec.name]
-    if not _wanted(spec) or not any(t.power == 2 for t in fit.spec.terms):
-        return
-    try:
-        from trialkit.analysis.surface import fit_surface
-
-        data.surfaces[spec.name] = fit_surface(fit, goal=_goal(spec), seed=data.trial.seed,
-                                               n_boot=n_boot)
-    except ImportError:
-        data.note("analysis", "the response-surface module is not installed in this build")
-    except TrialkitError as exc:
-        data.note("analysis", f"{spec.name}: no response surface ({_message(exc)})")
-
-
-def _sweep(data: TrialData, spec, n_boot: int) -> None:
-    cont = [f for f in data.trial.factors if f.is_continuous]
-    try:
-        from trialkit.analysis.sweep import fit_sweep
-
-        res = fit_sweep(data.baths, spec.name, cont[0], goal=_goal(spec), n_boot=n_boot,
-                        seed=data.trial.seed)
-    except (ImportError, IndexError, TrialkitError) as exc:
-        data.note("analysis", f"{spec.name}: the sweep could not be analysed "
-                              f"({_message(exc)})")
-        return
-    data.sweeps[spec.name] = res
-    data.fits[spec.name] = res.fit
-    data.models[spec.name] = f"{cont[0].name} + {cont[0].name}^2"
-
-
 def _detectable(data: TrialData, spec) -> None:
     fit = data.fits[spec.name]
     if not (fit.df_resid > 0 and math.isfinite(fit.sigma2) and fit.sigma2 > 0):
@@ -278,8 +271,8 @@ def _detectable(data: TrialData, spec) -> None:
         from trialkit.evaluate import evaluate_plan
         from trialkit.report.findings import detectable_effects
 
-        ev = evaluate_plan(data.plan, model=data.models[spec.name],
-                           sd=float(np.sqrt(fit.sigma2)))
+        terms = " + ".join(t.name for t in fit.spec.terms if t.name != "block")
+        ev = evaluate_plan(data.plan, model=terms, sd=float(np.sqrt(fit.sigma2)))
         data.detectable[spec.name] = detectable_effects(ev)
     except (ImportError, TrialkitError, ValueError, np.linalg.LinAlgError) as exc:
         data.note("analysis", f"{spec.name}: smallest detectable effects not available "
@@ -399,3 +392,51 @@ def _recipe(data: TrialData) -> None:
         data.recipe = recipes_for_plan(one).recipes[0]
     except TrialkitError as exc:
         data.note("recipe", f"the recipe could not be worked out: {_message(exc)}")
+
+
+def check_confirmation(data: TrialData, confirmation) -> None:
+    """Compare confirmation baths with the prediction intervals of each fitted model.
+
+    ``confirmation``: a :class:`trialkit.responses.Responses` of the confirmation baths
+    or their coupon readings (one row per coupon: bath, coupon_kind, factor columns and
+    the entry fields), all baths at one setting.
+    """
+    if confirmation is None:
+        return
+    try:
+        from trialkit.analysis.confirm import confirm
+        from trialkit.responses import compute_responses
+    except ImportError:
+        data.note("confirm", "the confirmation module is not installed in this build")
+        return
+    import warnings
+
+    from trialkit.exceptions import TrialkitWarning
+
+    resp = confirmation
+    if isinstance(confirmation, pd.DataFrame):
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", TrialkitWarning)
+            resp = compute_responses(confirmation, coupon_spec=data.trial.coupons)
+    table = resp.baths
+    names = [f.name for f in data.trial.factors]
+    if table.empty or any(n not in table for n in names):
+        data.note("confirm", "the confirmation readings do not give the factor settings")
+        return
+    first = table.iloc[0]
+    settings = {f.name: (float(first[f.name]) if f.is_continuous else str(first[f.name]))
+                for f in data.trial.factors}
+    for name, fit in data.fits.items():
+        spec = data.specs[name]
+        try:
+            values = resp.bath_values(spec.measure or spec.name)
+        except TrialkitError:
+            continue
+        values = values.dropna()
+        if values.empty:
+            continue
+        try:
+            data.confirmations[name] = confirm(fit, settings, values.tolist(),
+                                               baths=[str(b) for b in values.index])
+        except TrialkitError as exc:
+            data.note("confirm", f"{name}: confirmation not checked ({_message(exc)})")

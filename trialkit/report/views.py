@@ -98,20 +98,47 @@ class EffectLines:
     held: dict
 
 
+def averaged_prediction(fit, settings: pd.DataFrame, over: Sequence[str] = ()
+                        ) -> pd.DataFrame:
+    """Prediction at ``settings`` averaged with equal weight over every level of the
+    categorical factors in ``over`` (the mean of their model rows), with its 95 %
+    confidence interval: predicted, ci_low, ci_high."""
+    import itertools
+
+    fs = {f.name: f for f in model_factors(fit)}
+    levels = [fs[c].levels for c in over]
+    rows = []
+    for combo in itertools.product(*levels) if over else [()]:
+        frame = settings.copy()
+        for c, v in zip(over, combo, strict=True):
+            frame[c] = v
+        rows.append(fit.design_rows(frame))
+    X = np.mean(rows, axis=0)
+    pred = X @ fit.ls.beta + float(fit.shift)
+    se = np.sqrt(np.einsum("ij,jk,ik->i", X, fit.cov, X)) if fit.df_resid > 0 \
+        else np.full(len(X), np.nan)
+    t = stats.t.ppf(1 - fit.alpha / 2, fit.df_resid) if fit.df_resid > 0 else np.nan
+    return pd.DataFrame({"predicted": pred, "ci_low": pred - t * se, "ci_high": pred + t * se})
+
+
 def effect_lines(fit, *, unit: str = "", n: int = GRID) -> EffectLines:
-    """Predicted response along each factor with the others held at their middle."""
+    """Predicted response along each factor: continuous factors held at their middle,
+    categorical factors averaged over their levels (so on a balanced two-level design the
+    line's ends differ by the classical main effect)."""
     ref = reference_settings(fit)
+    cats = [f.name for f in model_factors(fit) if not f.is_continuous]
     obs = observed(fit)
     panels = []
     for f in model_factors(fit):
         xs = _axis_values(f, n)
         settings = pd.DataFrame([{**ref, f.name: x} for x in xs])
-        pred = fit.predict(settings)
+        pred = averaged_prediction(fit, settings, [c for c in cats if c != f.name])
         line = pd.DataFrame({"x": list(xs), "predicted": pred.predicted,
                              "ci_low": pred.ci_low, "ci_high": pred.ci_high})
         pts = pd.DataFrame({"x": obs[f.name].tolist(), "y": obs.y.tolist()})
         panels.append(LinePanel(f.name, f.unit, f.is_continuous, line, pts))
-    return EffectLines(fit.response, unit, panels, ref)
+    held = {k: (v if k not in cats else "averaged over levels") for k, v in ref.items()}
+    return EffectLines(fit.response, unit, panels, held)
 
 
 def interaction_lines(fit, x: str, trace: str, *, unit: str = "", n: int = GRID) -> LinePanel:
@@ -134,26 +161,50 @@ def interaction_lines(fit, x: str, trace: str, *, unit: str = "", n: int = GRID)
 
 @dataclass
 class ResidualView:
-    """Residuals for the three diagnostic panels."""
+    """Residuals for the three diagnostic panels.
+
+    ``table``: fitted, residual, run, block, bath, normal_x, normal_quantile, flagged.
+    The normal panel draws ``normal_x`` (described by ``normal_label``) against
+    ``normal_quantile``.
+    """
 
     response: str
     unit: str
-    table: pd.DataFrame   # fitted, residual, run, block, normal_quantile, bath
+    table: pd.DataFrame
+    normal_label: str = "residual"
     method: str = "residuals of the fitted model; normal quantiles by Blom's plotting positions"
 
 
-def residual_view(fit, *, unit: str = "") -> ResidualView:
-    """Fitted values, residuals, run order and blocks of the baths in the model."""
+def residual_view(fit, diagnostics=None, *, unit: str = "") -> ResidualView:
+    """Fitted values, residuals, run order and blocks of the baths in the model.
+
+    With a :class:`trialkit.analysis.diagnostics.Diagnostics` the normal panel shows its
+    studentized residuals and quantiles and its flagged baths; without, the raw residuals
+    with Blom (1958) plotting positions.
+    """
     obs = observed(fit)
     n = len(obs)
+    block = obs["block"].astype(str).to_numpy() if "block" in obs else np.array(["1"] * n)
+    if diagnostics is not None:
+        d = diagnostics.table.reset_index(drop=True)
+        table = pd.DataFrame({"fitted": d.fitted.to_numpy(), "residual": d.residual.to_numpy(),
+                              "run": d.run.to_numpy(), "block": block,
+                              "bath": d.bath.astype(str).to_numpy(),
+                              "normal_x": d.studentized.to_numpy(),
+                              "normal_quantile": d.normal_quantile.to_numpy(),
+                              "flagged": d.flagged.to_numpy(bool)})
+        return ResidualView(fit.response, unit, table, "studentized residual",
+                            "diagnostics of trialkit.analysis.diagnostics")
     order = np.argsort(np.argsort(obs.residual.to_numpy(), kind="mergesort"), kind="mergesort")
     q = stats.norm.ppf((order + 1 - 0.375) / (n + 0.25))  # Blom (1958) plotting positions
     table = pd.DataFrame({
         "fitted": obs.fitted.to_numpy(), "residual": obs.residual.to_numpy(),
         "run": obs["run"].to_numpy() if "run" in obs else np.arange(1, n + 1),
-        "block": obs["block"].astype(str).to_numpy() if "block" in obs else ["1"] * n,
-        "normal_quantile": q,
-        "bath": obs["bath"].to_numpy() if "bath" in obs else [str(i + 1) for i in range(n)]})
+        "block": block,
+        "bath": obs["bath"].astype(str).to_numpy() if "bath" in obs
+        else np.array([str(i + 1) for i in range(n)]),
+        "normal_x": obs.residual.to_numpy(), "normal_quantile": q,
+        "flagged": np.zeros(n, bool)})
     return ResidualView(fit.response, unit, table)
 
 

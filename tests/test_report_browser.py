@@ -1,0 +1,133 @@
+"""The report in a real browser: headless Chromium (Debian package ``chromium``).
+
+For each invented and example trial the report is opened; a copy with a small checking
+script appended reports, through ``--dump-dom``, whether every image loaded
+(``naturalWidth > 0``) and which sections are present; console messages are read from
+Chromium's log on stderr; a screenshot goes to ``test-artifacts/``.  A negative control
+(a page with a broken image and a console error) proves the checks can fail.
+
+In CI (``CI`` set) a missing Chromium is a failure, not a skip.
+"""
+
+from __future__ import annotations
+
+import html
+import json
+import os
+import re
+import shutil
+import struct
+import subprocess
+from pathlib import Path
+
+import pytest
+import report_trials as rt
+
+from trialkit.report.build import SECTION_TITLES
+
+ARTIFACTS = Path(__file__).resolve().parents[1] / "test-artifacts"
+CHECK = """
+<pre id="tk-check-result"></pre>
+<script>
+window.addEventListener("load", function () {
+  var imgs = Array.prototype.slice.call(document.images);
+  var out = {
+    images: imgs.length,
+    broken: imgs.filter(function (i) { return !i.complete || i.naturalWidth === 0; })
+                .map(function (i) { return i.alt; }),
+    widths: imgs.map(function (i) { return i.naturalWidth; }),
+    sections: Array.prototype.map.call(document.querySelectorAll("section[id]"),
+                                       function (s) { return s.id; }),
+    title: document.querySelector("h1") ? document.querySelector("h1").textContent : ""
+  };
+  document.getElementById("tk-check-result").textContent = JSON.stringify(out);
+});
+</script>
+"""
+#: Chromium's log line of a console message, e.g. ``...:INFO:CONSOLE:1] "boom", source: ...``
+#: (older builds write ``CONSOLE(1)``); every level counts.
+CONSOLE = re.compile(r":([A-Z]+\d*):CONSOLE(?::\d+|\(\d+\))\] \"(.*)\", source: ")
+
+
+def chromium() -> str:
+    for name in ("chromium", "chromium-browser"):
+        path = shutil.which(name)
+        if path:
+            return path
+    if Path("/usr/bin/chromium").exists():
+        return "/usr/bin/chromium"
+    if os.environ.get("CI"):
+        pytest.fail("Chromium is not installed but CI is set: the browser check must run in "
+                    "CI (.ci/run installs the Debian package 'chromium')")
+    pytest.skip("Chromium not installed (install the Debian package 'chromium')")
+
+
+def _run(args: list[str], profile: Path, timeout: float = 120) -> subprocess.CompletedProcess:
+    base = [chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+            "--no-first-run", "--disable-background-networking", "--disable-component-update",
+            "--disable-sync", f"--user-data-dir={profile}"]
+    return subprocess.run(base + args, capture_output=True, text=True, timeout=timeout)
+
+
+def check_page(page: Path, tmp_path: Path) -> tuple[dict, list[str]]:
+    """(results of the checking script, console messages) for ``page``."""
+    probe = tmp_path / f"{page.stem}-probe.html"
+    text = page.read_text(encoding="utf-8")
+    probe.write_text(text.replace("</body>", CHECK + "</body>"), encoding="utf-8")
+    res = _run(["--enable-logging=stderr", "--v=0", "--virtual-time-budget=10000",
+                "--dump-dom", probe.as_uri()], tmp_path / "profile-check")
+    m = re.search(r'<pre id="tk-check-result">(.*?)</pre>', res.stdout, re.S)
+    assert m and m.group(1), f"the checking script did not run:\n{res.stderr[-2000:]}"
+    console = [msg for _, msg in CONSOLE.findall(res.stderr)]
+    return json.loads(html.unescape(m.group(1))), console
+
+
+def png_size(path: Path) -> tuple[int, int]:
+    head = path.read_bytes()[:24]
+    assert head[:8] == b"\x89PNG\r\n\x1a\n"
+    return struct.unpack(">II", head[16:24])
+
+
+def test_the_checks_can_fail(tmp_path):
+    page = tmp_path / "bad.html"
+    page.write_text("<!DOCTYPE html><html><body><h1>x</h1><img alt='gone' "
+                    "src='data:image/png;base64,AAAA'><script>console.error('boom')</script>"
+                    "</body></html>", encoding="utf-8")
+    result, console = check_page(page, tmp_path)
+    assert result["broken"] == ["gone"]
+    assert any("boom" in c for c in console)
+
+
+@pytest.mark.parametrize("kind", rt.ALL_KINDS)
+def test_report_in_chromium(kind, tmp_path):
+    chromium()
+    report = rt.report_of(kind)
+    page = report.write(tmp_path / f"report-{kind.replace(':', '-')}.html")
+    result, console = check_page(page, tmp_path)
+    n_fig = sum(b.kind == "figure" for s in report.sections for b in s.blocks)
+    assert result["images"] == n_fig > 0
+    assert result["broken"] == []
+    assert min(result["widths"]) > 100
+    assert result["sections"] == list(SECTION_TITLES)
+    assert result["title"] == report.title
+    assert console == [], console
+    ARTIFACTS.mkdir(exist_ok=True)
+    shot = ARTIFACTS / f"{page.stem}.png"
+    if shot.exists():
+        shot.unlink()
+    res = _run([f"--screenshot={shot}", "--window-size=1280,4000", page.as_uri()],
+               tmp_path / "profile-shot")
+    assert shot.exists(), res.stderr[-2000:]
+    assert png_size(shot) == (1280, 4000)
+
+
+def test_script_in_title_stays_text_in_the_browser(tmp_path):
+    chromium()
+    title = "Bath <script>document.title='pwned';console.error('ran')</script> trial"
+    folder = rt.write_trial(tmp_path / "x", rt.SCREENING, title=title)
+    from trialkit.report.build import build_report
+
+    page = build_report(folder).write(tmp_path / "x.html")
+    result, console = check_page(page, tmp_path)
+    assert result["title"] == title  # shown literally, as text
+    assert console == []

@@ -1,0 +1,223 @@
+"""The report builder: sections, graceful gaps, escaping, record-log data quality, recipe.
+
+Data: invented (tests/report_trials.py, seeded) and the bundled example trials (invented
+readings).  The cautions checked are the trade's usual ones (common practice), taken from
+trialkit.chemistry.cautions.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+
+import numpy as np
+import pytest
+import report_trials as rt
+
+from trialkit.commands._output import _clean
+from trialkit.report.build import SECTION_TITLES, build_report
+from trialkit.report.document import ReportError
+
+KEYS = list(SECTION_TITLES)
+
+
+@pytest.mark.parametrize("kind", rt.ALL_KINDS)
+def test_every_section_present_and_filled(kind):
+    report = rt.report_of(kind)
+    assert [s.key for s in report.sections] == KEYS
+    for key in ("brief", "matters", "models", "recipe", "confirm", "safety", "reproduce"):
+        assert report.section(key).available, (key, report.data["notes"])
+    html = report.to_html()
+    for key, title in SECTION_TITLES.items():
+        assert f'<section id="{key}"' in html and title in html
+    assert report.findings and all(f["text"] for f in report.findings)
+    rec = report.data["recommendation"]
+    for name, value in rec["settings"].items():
+        f = next(x for x in report_trial(kind).factors if x.name == name)
+        if f.is_continuous:
+            assert f.low - 1e-9 <= value <= f.high + 1e-9
+        else:
+            assert value in f.levels
+    json.dumps(_clean(report.to_dict()), allow_nan=False)
+
+
+def report_trial(kind):
+    return rt.analysed(kind)[0].trial
+
+
+def test_surface_recommendation_is_the_desirability_optimum():
+    data, _ = rt.analysed("surface")
+    report = rt.report_of("surface")
+    rec = report.data["recommendation"]
+    assert rec["settings"] == pytest.approx(data.desirability.settings)
+    assert "Derringer" in rec["source"]
+    pred = {r["response"]: r for r in rec["predictions"]}
+    fit = data.fits["removal"]
+    p = fit.predict(data.desirability.settings).iloc[0]
+    assert pred["removal"]["predicted"] == pytest.approx(p.predicted)
+    assert pred["removal"]["pi_low"] < pred["removal"]["ci_low"] < p.predicted
+
+
+def test_sweep_recommends_the_practical_sweet_spot():
+    data, _ = rt.analysed("sweep")
+    rec = rt.report_of("sweep").data["recommendation"]
+    assert rec["settings"] == {"chelator": pytest.approx(data.sweeps["removal"].sweet_spot)}
+    text = " ".join(f["text"] for f in rt.report_of("sweep").findings)
+    assert f"{data.sweeps['removal'].sweet_spot:.3g} % w/v" in text
+
+
+@pytest.mark.parametrize("kind", rt.ALL_KINDS)
+def test_safety_cautions(kind):
+    sec = rt.report_of(kind).section("safety")
+    text = " ".join(i for b in sec.blocks for i in (b.items or [b.text])).lower()
+    for words in ("eye protection", "gloves", "alkaline", "acid", "hydrogen",
+                  "closed container", "ventilation", "dispose", "local regulations",
+                  "safety data sheet", "not a substitute"):
+        assert words in text, words
+
+
+def test_confirmation_baths_checked_against_prediction_intervals():
+    from trialkit.analysis.confirm import confirm
+
+    report = rt.report_of("example:surface-follow-up")
+    data, _ = rt.analysed("example:surface-follow-up")
+    conf = report.data["confirmation"]
+    assert "removal" in conf
+    c = conf["removal"]
+    # the same check straight from the analysis package
+    obs = [b["observed"] for b in c["baths"]]
+    ref = confirm(data.fits["removal"], c["settings"], obs)
+    assert c["mean"]["pi_low"] == pytest.approx(ref.mean["pi_low"])
+    assert c["all_inside"] == ref.all_inside
+    text = " ".join(b.text for b in report.section("confirm").blocks if b.kind == "text")
+    assert "Confirmation baths were run at chelator = 5, ph = 6.1." in text
+
+
+def test_reproducibility_lists_files_with_sha256():
+    import hashlib
+
+    report = rt.report_of("surface")
+    data, _ = rt.analysed("surface")
+    table = next(b.table for b in report.section("reproduce").blocks if b.kind == "table")
+    row = table[table.file == "trial.toml"].iloc[0]
+    assert row.sha256 == hashlib.sha256((data.folder / "trial.toml").read_bytes()).hexdigest()
+    pairs = dict(next(b.items for b in report.section("reproduce").blocks
+                      if b.kind == "pairs" and b.text == "Versions"))
+    assert pairs["numpy"] == np.__version__
+    assert data.plan.fingerprint in report.to_html()
+
+
+def test_folder_without_readings_says_so(tmp_path):
+    rt.write_trial(tmp_path / "empty", rt.SCREENING)
+    report = build_report(tmp_path / "empty")
+    assert [s.key for s in report.sections] == KEYS
+    assert report.section("brief").available
+    for key in ("readings", "matters", "models", "recipe", "confirm"):
+        assert not report.section(key).available, key
+    html = report.to_html()
+    assert "no readings recorded yet" in html
+    assert html.count("Not available:") >= 5
+    assert report.section("safety").available  # cautions are always there
+
+
+def test_user_text_is_shown_as_text(tmp_path):
+    title = "Bath <script>alert('x')</script> & <b>bold</b>"
+    folder = rt.write_trial(tmp_path / "x", rt.SCREENING, title=title,
+                            notes="<img src=x onerror=alert(1)>")
+    report = build_report(folder)
+    html = report.to_html()
+    assert "<script" not in html.lower()
+    assert "<img src=x" not in html
+    assert "Bath &lt;script&gt;alert(&#39;x&#39;)&lt;/script&gt; &amp; &lt;b&gt;bold&lt;/b&gt;" \
+        in html
+    assert "&lt;img src=x onerror=alert(1)&gt;" in html
+    md = report.to_markdown()
+    assert md.splitlines()[0] == r"# Bath \<script\>alert('x')\</script\> & \<b\>bold\</b\>"
+
+
+def test_markdown_export_matches_sections(tmp_path):
+    report = rt.report_of("surface")
+    path = report.write(tmp_path / "r.html", markdown=tmp_path / "notes" / "r.md")
+    assert path.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
+    md = (tmp_path / "notes" / "r.md").read_text(encoding="utf-8")
+    assert [ln[3:] for ln in md.splitlines() if ln.startswith("## ")] == \
+        list(SECTION_TITLES.values())
+    n_fig = sum(b.kind == "figure" for s in report.sections for b in s.blocks)
+    links = re.findall(r"!\[[^\]]*\]\((r_figures/figure-\d\d\.png)\)", md)
+    assert len(links) == n_fig > 5
+    for link in links:
+        assert (tmp_path / "notes" / link).read_bytes()[:4] == b"\x89PNG"
+    assert report.findings[0]["text"].split(" (")[0] in md.replace("\\", "")
+
+
+def test_jupyter_repr_is_a_fragment():
+    frag = rt.report_of("screening")._repr_html_()
+    assert "<html" not in frag and 'class="trialkit-report"' in frag
+    assert "<style>" in frag
+    with pytest.raises(ReportError, match=r"\.html or \.md"):
+        rt.report_of("screening").write("report.pdf")
+
+
+# -- the record log path: readings, revisions, missing values, flagged values ----------
+LOGGED = rt.SCREENING \
+    .replace('goal = "maximize"\n', 'goal = "maximize"\nmeasure = "removal_pct"\n') \
+    .replace('goal = "minimize"\n', 'goal = "minimize"\nmeasure = "corrosion_rate_mm_per_y"\n') \
+    + '\n[coupons]\nshape = "plate"\nlength = 50\nwidth = 25\nthickness = 2\n'
+BAD = "B03-R1"  # coverage after 130 % of the area: impossible, must be flagged
+
+
+def _readings(plan, rng):
+    """Invented readings (self-consistency only): removal rises with chelator."""
+    out = []
+    table = plan.table
+    for r in table.itertuples():
+        base = [("immersion_start", "2026-11-02T09:00:00"),
+                ("immersion_end", "2026-11-02T17:00:00"), ("mass_initial_g", 20.0)]
+        x = 0.0 if np.isnan(r.chelator) else (r.chelator - 6.0) / 4.0
+        if r.coupon_kind == "rusted":
+            removal = 55 + 15 * x + rng.normal(0, 1.5)
+            out += base + [("coverage_before_pct", 60.0),
+                           ("coverage_after_pct", round(60 * (1 - removal / 100), 1)),
+                           ("mass_final_g", round(20.0 - 0.30 - 0.002 * removal, 4))]
+        else:
+            out += base + [("mass_final_g", round(20.0 - 0.004 - 0.001 * (1 + x), 5))]
+        yield r.coupon, out
+        out = []
+
+
+def test_report_from_the_record_log(tmp_path):
+    from trialkit.plan import make_plan
+    from trialkit.store import RecordLog
+    from trialkit.trialfile import load_trial
+
+    folder = rt.write_trial(tmp_path / "logged", LOGGED)
+    plan = make_plan(load_trial(folder / "trial.toml"))
+    rng = np.random.default_rng(4)
+    rows = [(c, 0, f, v) for c, vals in _readings(plan, rng) for f, v in vals]
+    skipped = "B01-R2"  # one coupon's final mass never recorded
+    rows = [r for r in rows if not (r[0] == skipped and r[2] == "mass_final_g")]
+    rows = [(c, i, f, 130.0 if (c, f) == (BAD, "coverage_after_pct") else v)
+            for c, i, f, v in rows]
+    log = RecordLog.for_folder(folder)
+    log.add_readings(rows, source="sheet-day1.csv", sha256="a" * 64, fingerprint=plan.fingerprint)
+    log.add_readings([("B02-R1", 0, "coverage_after_pct", 12.5)], source="sheet-fix.csv",
+                     sha256="b" * 64, fingerprint=plan.fingerprint)
+    report = build_report(folder)
+    sec = report.section("readings")
+    pairs = dict(next(b.items for b in sec.blocks if b.kind == "pairs"))
+    assert pairs["Corrections since first entry"] == "1"
+    assert pairs["Values in the record log"] == f"{len(rows) + 1} from 2 sheet(s)"
+    missing = next(b.table for b in sec.blocks if b.kind == "table"
+                   and b.text == "Readings still missing")
+    row = missing[missing.reading == "mass_final_g"].iloc[0]
+    assert row["coupons missing it"] == 1 and row["first few"] == skipped
+    revised = next(b.table for b in sec.blocks if b.kind == "table" and "corrected" in b.text)
+    assert list(revised.revision) == [1, 2] and list(revised.value)[-1] == 12.5
+    flagged = next(b.table for b in sec.blocks if b.kind == "table" and "Flagged" in b.text)
+    assert len(flagged) == 1 and BAD in flagged.iloc[0]["where"] + flagged.iloc[0]["problem"]
+    assert flagged.iloc[0]["reading"] == "coverage_after_pct"
+    # the responses were computed from the log and analysed
+    assert report.section("matters").available
+    chel = next(f for f in report.findings if f["term"] == "chelator"
+                and f["response"] == "removal")
+    assert chel["kind"] == "effect" and chel["numbers"]["effect"] > 20
