@@ -44,42 +44,6 @@ CAUTION = ("**Safety.** Tetrasodium EDTA solutions are alkaline and citric acid 
            "regulations require. The safety data sheets of the ingredients, local codes "
            "and licensed practice take precedence over anything here.")
 
-BATH_SWEEP = '''\
-[bath]
-adjust_with = "citric acid"      # pH adjuster from the catalogue
-target_ph = 6.5
-temperature = "20 degC"
-volume_per_area = "20 mL/cm2"    # bath volume per coupon area (ASTM G31 minimum)
-containers = ["0.5 L", "1 L", "2 L"]
-
-[[bath.ingredient]]
-name = "tetrasodium EDTA"
-factor = "chelator"              # the factor's value (% w/v) is the amount
-
-[bath.reference]
-ingredients = [{ name = "citric acid", amount = "10 % w/v" }]
-'''
-
-BATH_SURFACE = '''\
-[bath]
-adjust_with = "citric acid"
-temperature = "25 degC"
-volume_per_area = "20 mL/cm2"
-set_by = { target_ph = "ph" }    # the factor ph sets each bath's target pH
-
-[[bath.ingredient]]
-name = "tetrasodium EDTA"
-factor = "chelator"
-
-[[bath.ingredient]]
-name = "non-ionic surfactant"
-amount = "1 mL/L"
-
-[bath.reference]
-ingredients = [{ name = "citric acid", amount = "10 % w/v" }]
-'''
-
-
 def md(text: str):
     return new_markdown_cell(text.strip("\n"))
 
@@ -193,13 +157,14 @@ adds a `[bath]` section to the trial file and prints the mixing sheet.
 
 """ + INVENTED + "\n\n" + CAUTION),
         code(SETUP.format(nn="02")),
-        md("The bath section names the ingredients and which factor sets which amount."),
-        code(f'''\
-BATH_SECTION = """
-{BATH_SWEEP}"""
-text = (EXAMPLES / "chelator-sweep" / "trial.toml").read_text(encoding="utf-8")
-(WORK / "trial.toml").write_text(text + BATH_SECTION, encoding="utf-8")
-print(BATH_SECTION)'''),
+        md("""
+The trial file's `[bath]` section names the ingredients, which factor sets which amount,
+the pH adjuster, the volume rule and the reference bath.
+"""),
+        code('''\
+shutil.copy(EXAMPLES / "chelator-sweep" / "trial.toml", WORK / "trial.toml")
+text = (WORK / "trial.toml").read_text(encoding="utf-8")
+print(text[text.index("[bath]"):text.index("[sheet]")])'''),
         code('''\
 from trialkit import load_plan
 from trialkit.chemistry.mixing_sheet import recipes_for_plan
@@ -459,22 +424,19 @@ demo = run_demo(WORK, trials=["surface-follow-up"], until="responses")
 folder = demo.trials[0].folder
 print(demo)'''),
         md("""
-The cost of each bath comes from its recipe, so the trial file gets a `[bath]` section
-(it does not change the plan: same fingerprint).
+The cost of each bath comes from its recipe (the trial file's `[bath]` section says how
+each bath is mixed; prices come from the ingredient catalogue).
 """),
-        code(f'''\
+        code('''\
 from trialkit import load_plan, load_responses
 from trialkit.chemistry.mixing_sheet import recipes_for_plan
 
-trial_file = folder / "trial.toml"
-if "adjust_with" not in trial_file.read_text(encoding="utf-8"):  # add it once
-    trial_file.write_text(trial_file.read_text(encoding="utf-8") + """
-{BATH_SURFACE}""", encoding="utf-8")
 plan = load_plan(folder)
 print("plan fingerprint", plan.fingerprint)
 sheet = recipes_for_plan(plan)
 recipe_of = sheet.to_dict()["bath_recipe"]
-cost_of = {{b: sheet.recipes[k - 1].to_dict()["cost_per_l"] for b, k in recipe_of.items()}}'''),
+cost_of = {b: sheet.recipes[k - 1].to_dict()["cost_per_l"] for b, k in recipe_of.items()}
+print(sheet)'''),
         code('''\
 responses = load_responses(folder)
 baths = plan.baths.copy()
