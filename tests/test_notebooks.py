@@ -21,6 +21,8 @@ from nbclient import NotebookClient
 from nbformat.v4 import new_code_cell
 
 from trialkit.readings import COUPON_FIELDS
+from trialkit.sheets import sheet_config
+from trialkit.trialfile import load_trial
 from trialkit.truth_models import EXAMPLES
 
 REPO = Path(__file__).resolve().parents[1]
@@ -117,9 +119,14 @@ def test_02_mixing_sheet_amounts_costs_and_cautions(tmp_path):
 def test_03_mistakes_are_refused_then_the_clean_sheet_and_a_correction_go_in(tmp_path):
     r = run_notebook(NAMES[2], tmp_path)
     assert r["refused"] is True
-    assert r["problems"] == 4
-    assert set(r["checks"]) == {"wrong_type", "coverage_out_of_range", "mass_gain",
-                                "unknown_coupon"}
+    # one check per deliberate mistake; the unreadable initial mass also leaves a
+    # required field empty when the trial's [sheet] requires it
+    want = {"wrong_type", "coverage_out_of_range", "mass_gain", "unknown_coupon"}
+    trial = load_trial(REPO / "example_trials" / "five-factor-screen")
+    if "mass_initial_g" in sheet_config(trial).required:
+        want.add("missing_required")
+    assert set(r["checks"]) == want
+    assert r["problems"] == len(want)
     readings = pd.read_csv(REPO / "example_trials" / "five-factor-screen" / "readings"
                            / "coupons.csv")
     entry = [f.name for f in COUPON_FIELDS if f.name in readings.columns]
