@@ -92,6 +92,17 @@ def test_record_log_holds_the_invented_readings(cli_run):
                                            want[col].astype(float), check_names=False)
 
 
+def test_baths_with_a_bath_section_get_a_mixing_sheet(cli_run):
+    # a trial file with [bath] must get its mixing sheet; one without says why not
+    proc, out = cli_run
+    for name in bundled_trials():
+        has_bath = re.search(r"^\[bath\]", (EXAMPLES / name / "trial.toml").read_text(
+            encoding="utf-8"), re.M) is not None
+        assert (out / name / "mixing_sheet.html").is_file() == has_bath, name
+        line = re.search(rf"^\[{re.escape(name)}\] recipes: (.*)$", proc.stderr, re.M)
+        assert line.group(1).startswith("done" if has_bath else "skipped: ")
+
+
 def test_demo_figures_are_png_files(cli_run):
     _, out = cli_run
     for name in bundled_trials():

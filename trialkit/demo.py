@@ -382,7 +382,8 @@ class _Runner:
         self.t.paths["filled_sheet"] = res.path
         self.t.numbers["values_filled"] = res.values
         return (f"{res.values} invented values in {res.rows_filled} rows"
-                + (f"; {len(res.missing)} rows left empty (no reading for them)"
+                + (f"; {len(res.missing)} rows left empty: the readings have none for "
+                   "them (witness coupons are weighed, not inspected)"
                    if res.missing else ""))
 
     def _ingest(self) -> str:
@@ -579,5 +580,6 @@ def run_demo(out_dir: str | Path | None = None, *, trials: Sequence[str | Path] 
     sources = _resolve_trials(trials)
     out = Path(out_dir) if out_dir is not None else default_out_dir()
     out.mkdir(parents=True, exist_ok=True)
+    out = out.resolve()  # absolute paths in the result, wherever it is read from
     done = [_Runner(src, out, progress, until).run() for src in sources]
-    return DemoResult(out.resolve(), done)
+    return DemoResult(out, done)
