@@ -103,6 +103,19 @@ def test_baths_with_a_bath_section_get_a_mixing_sheet(cli_run):
         assert line.group(1).startswith("done" if has_bath else "skipped: ")
 
 
+def test_demo_analysis_json_agrees_with_the_invented_truth(cli_run):
+    from trialkit.truth_models import EXAMPLES as TRUTHS
+
+    _, out = cli_run
+    screen = json.loads((out / "five-factor-screen" / "analysis.json").read_text())
+    real = TRUTHS["five-factor-screen"].truth.real_effects(
+        list(screen["removal"]["p_values"]))["removal"]
+    assert sorted(screen["removal"]["active"]) == sorted(real)
+    sweep = json.loads((out / "chelator-sweep" / "analysis.json").read_text())
+    lo, hi = sweep["time_to_clean"]["interval"]
+    assert lo < TRUTHS["chelator-sweep"].truth.chelator_optimum < hi
+
+
 def test_demo_figures_are_png_files(cli_run):
     _, out = cli_run
     for name in bundled_trials():

@@ -14,25 +14,25 @@ pass ``progress`` to hear about each stage.
 
 Examples
 --------
->>> DemoStage("plan", "done", "24 baths").to_dict()
-{'name': 'plan', 'status': 'done', 'detail': '24 baths'}
+>>> STAGES[0], STAGES[-1]
+('copy', 'report')
 """
 
 from __future__ import annotations
 
 import datetime as dt
-import html
 import json
-import math
 import shutil
 import warnings
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
 import pandas as pd
 
+from trialkit.demo_findings import analyse_demo_trial
+from trialkit.demo_result import DemoResult, DemoStage, DemoTrial, plain_data, settings_text
 from trialkit.exceptions import TrialkitError
 
 #: Stages in the order they run.
@@ -42,9 +42,6 @@ STAGES = ("copy", "plan", "recipes", "sheets", "fill", "ingest", "responses", "a
 COPIED = ("trial.toml", "README.md", "readings")
 SHEETS_FOLDER = "sheets"
 FIGURES_FOLDER = "figures"
-TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
-#: Alpha of the demo's significance statements.
-ALPHA = 0.05
 
 ProgressCallback = Callable[[str, str, str], None]
 
@@ -75,142 +72,6 @@ def example_trials_folder() -> Path:
 def bundled_trials() -> list[str]:
     """Names of the bundled example trials, sorted."""
     return sorted(p.parent.name for p in example_trials_folder().glob("*/trial.toml"))
-
-
-@dataclass(frozen=True)
-class DemoStage:
-    """One stage of one trial: ``status`` is ``"done"``, ``"skipped: ..."`` or ``"failed"``."""
-
-    name: str
-    status: str
-    detail: str = ""
-
-    @property
-    def done(self) -> bool:
-        return self.status == "done"
-
-    def to_dict(self) -> dict:
-        return {"name": self.name, "status": self.status, "detail": self.detail}
-
-
-@dataclass
-class DemoTrial:
-    """What the demo did with one example trial.
-
-    Attributes
-    ----------
-    name : str
-        Folder name of the example (``chelator-sweep`` ...).
-    folder : Path
-        Its copy under the demo's output folder.
-    title : str
-    stages : list of DemoStage
-    paths : dict
-        Files written, by role (``plan``, ``mixing_sheet``, ``sheet_xlsx``, ``sheet_csv``,
-        ``filled_sheet``, ``record_log``, ``responses``, ``analysis``, ``report``,
-        ``figures``).
-    numbers : dict
-        Key numbers: plan fingerprint, baths, coupons, values stored, findings per
-        response, the recommended settings.
-    """
-
-    name: str
-    folder: Path
-    title: str = ""
-    stages: list[DemoStage] = field(default_factory=list)
-    paths: dict = field(default_factory=dict)
-    numbers: dict = field(default_factory=dict)
-
-    def stage(self, name: str) -> DemoStage:
-        """The stage called ``name`` (KeyError if it did not run)."""
-        for s in self.stages:
-            if s.name == name:
-                return s
-        raise KeyError(f"no stage {name!r}; ran: {[s.name for s in self.stages]}")
-
-    @property
-    def report(self) -> Path | None:
-        p = self.paths.get("report")
-        return Path(p) if p else None
-
-    def to_dict(self) -> dict:
-        return {"name": self.name, "folder": str(self.folder), "title": self.title,
-                "stages": [s.to_dict() for s in self.stages],
-                "paths": {k: (list(map(str, v)) if isinstance(v, list) else str(v))
-                          for k, v in self.paths.items()},
-                "numbers": _plain(self.numbers)}
-
-
-@dataclass
-class DemoResult:
-    """The outcome of :func:`run_demo`: one :class:`DemoTrial` per example trial."""
-
-    out_dir: Path
-    trials: list[DemoTrial]
-
-    def trial(self, name: str) -> DemoTrial:
-        for t in self.trials:
-            if t.name == name:
-                return t
-        raise KeyError(f"no trial {name!r}; the demo ran {[t.name for t in self.trials]}")
-
-    @property
-    def reports(self) -> list[Path]:
-        """Paths of the reports written."""
-        return [t.report for t in self.trials if t.report is not None]
-
-    @property
-    def summary(self) -> pd.DataFrame:
-        """One row per trial: trial, baths, values_stored, stages_done, skipped, report."""
-        rows = []
-        for t in self.trials:
-            rows.append({"trial": t.name, "baths": t.numbers.get("baths"),
-                         "values_stored": t.numbers.get("values_stored"),
-                         "stages_done": sum(s.done for s in t.stages),
-                         "skipped": "; ".join(f"{s.name} ({s.status})" for s in t.stages
-                                              if not s.done),
-                         "recommended": _settings_text(t.numbers.get("recommended")),
-                         "report": str(t.report) if t.report else ""})
-        return pd.DataFrame(rows)
-
-    def to_dict(self) -> dict:
-        return {"out_dir": str(self.out_dir), "trials": [t.to_dict() for t in self.trials]}
-
-    def __repr__(self) -> str:
-        lines = [f"DemoResult({self.out_dir}: {len(self.trials)} trials, invented data)"]
-        for t in self.trials:
-            done = sum(s.done for s in t.stages)
-            lines.append(f"  {t.name}: {done}/{len(t.stages)} stages done"
-                         + (f", report {t.report}" if t.report else ", no report"))
-            lines += [f"    {s.name}: {s.status}" for s in t.stages if not s.done]
-        return "\n".join(lines)
-
-    def _repr_html_(self) -> str:
-        head = (f"<p><b>trialkit demo</b> in <code>{html.escape(str(self.out_dir))}</code> "
-                "(invented example trials and readings)</p>")
-        return head + self.summary.to_html(index=False, escape=True)
-
-
-def _settings_text(settings: Any) -> str:
-    if not settings:
-        return ""
-    return ", ".join(f"{k} {v:.3g}" if isinstance(v, (int, float)) else f"{k} {v}"
-                     for k, v in settings.items())
-
-
-def _plain(obj: Any) -> Any:
-    """JSON-ready copy: NaN -> None, numpy scalars -> Python."""
-    if isinstance(obj, dict):
-        return {str(k): _plain(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_plain(v) for v in obj]
-    if hasattr(obj, "item") and not isinstance(obj, (str, bytes)):
-        obj = obj.item()
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    if isinstance(obj, Path):
-        return str(obj)
-    return obj
 
 
 def _message(exc: BaseException) -> str:
@@ -420,7 +281,7 @@ class _Runner:
         findings = analyse_demo_trial(self.plan, self.responses)
         self.t.numbers["findings"] = findings
         path = self.t.folder / "analysis.json"
-        path.write_text(json.dumps(_plain(findings), indent=1, sort_keys=True) + "\n",
+        path.write_text(json.dumps(plain_data(findings), indent=1, sort_keys=True) + "\n",
                         encoding="utf-8")
         self.t.paths["analysis"] = path
         bits = []
@@ -432,7 +293,7 @@ class _Runner:
             elif "best" in f:
                 bits.append(f"{name}: best at {f['best']:.3g}")
             elif "optimum" in f:
-                bits.append(f"{name}: best at {_settings_text(f['optimum'])}")
+                bits.append(f"{name}: best at {settings_text(f['optimum'])}")
         return "; ".join(bits[:3]) or "no response could be analysed"
 
     def _report(self) -> str:
@@ -474,77 +335,6 @@ def _write_figures(report: Any, folder: Path) -> list[Path]:
             path = folder / f"{k:02d}-{slug or 'figure'}.png"
             path.write_bytes(base64.b64decode(block.png_base64))
             out.append(path)
-    return out
-
-
-# -- analysis of one demo trial ---------------------------------------------------------
-def _bath_table(plan: Any, responses: Any) -> pd.DataFrame:
-    table = plan.baths.copy()
-    table["bath"] = table["bath"].astype(str)
-    for spec in plan.trial.responses:
-        try:
-            values = responses.bath_values(spec.measure or spec.name)
-        except TrialkitError:
-            continue
-        table[spec.name] = table["bath"].map(values.to_dict())
-    return table[~table["point"].isin(["control", "reference"])].reset_index(drop=True)
-
-
-def analyse_demo_trial(plan: Any, responses: Any, *, alpha: float = ALPHA,
-                       n_boot: int = 400) -> dict:
-    """Key findings per response of a demo trial (plain data).
-
-    Sweeps: the best level and its Fieller interval; two-level designs: the factors whose
-    main effect is significant at ``alpha`` (main-effects model); surfaces: the best point
-    of the quadratic surface and its bootstrap interval.  A response that cannot be
-    analysed gets ``{"error": sentence}``.
-    """
-    from trialkit.analysis.model import fit_model
-    from trialkit.analysis.pipeline import analyze_table
-
-    trial = plan.trial
-    table = _bath_table(plan, responses)
-    kind = trial.design.kind
-    cont = [f for f in trial.factors if f.is_continuous]
-    out: dict = {}
-    for spec in trial.responses:
-        if spec.goal not in ("maximize", "minimize") or spec.name not in table:
-            continue
-        if table[spec.name].notna().sum() < 3:
-            out[spec.name] = {"error": "fewer than three baths have a value"}
-            continue
-        try:
-            if kind == "sweep":
-                res = analyze_table(table, spec.name, trial.factors, sweep=cont[0].name,
-                                    goal=spec.goal, alpha=alpha, n_boot=0,
-                                    seed=int(trial.seed or 0))
-                sw = res.sweep
-                out[spec.name] = {"factor": sw.factor.name, "best": float(sw.best),
-                                  "interval": [float(sw.fieller_low), float(sw.fieller_high)],
-                                  "sweet_spot": float(sw.sweet_spot)}
-            elif kind in TWO_LEVEL_KINDS:
-                fit = fit_model(table, spec.name, trial.factors, "main", alpha=alpha)
-                p = fit.anova(2).summary.set_index("term")["p"]
-                p = p[[f.name for f in trial.factors if f.name in p.index]]
-                out[spec.name] = {"p_values": {k: float(v) for k, v in p.items()},
-                                  "active": [k for k, v in p.items() if v < alpha]}
-            else:
-                res = analyze_table(table, spec.name, trial.factors, model="quadratic",
-                                    goal=spec.goal, alpha=alpha, n_boot=n_boot,
-                                    seed=int(trial.seed or 0))
-                if res.surface is None:
-                    out[spec.name] = {"error": "no second-order surface could be fitted"}
-                    continue
-                s = res.surface
-                boot = s.bootstrap
-                out[spec.name] = {
-                    "optimum": {k: float(v) for k, v in s.optimum["settings"].items()},
-                    "kind": s.kind,
-                    "interval": ({} if boot is None else
-                                 {r.factor: [float(r.low), float(r.high)]
-                                  for r in boot.itertuples()})}
-        except TrialkitError as exc:
-            out[spec.name] = {"error": _message(exc)}
     return out
 
 
