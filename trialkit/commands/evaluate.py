@@ -1,0 +1,90 @@
+"""``trialkit evaluate TRIAL.toml``: power per model term, efficiency and aliasing of a plan.
+
+Settings not given on the command line come from the trial file's ``[evaluation]``
+section, then from the defaults (model ``main``, sd 1, effects of two SDs, alpha 0.05).
+"""
+
+from __future__ import annotations
+
+import argparse
+
+
+def add_evaluation_options(parser: argparse.ArgumentParser) -> None:
+    """Options shared by ``evaluate`` and ``compare``."""
+    parser.add_argument("--model", metavar="SPEC",
+                        help="model: main, interactions, quadratic or terms joined by '+' "
+                             "(e.g. 'chelator + ph + chelator:ph')")
+    parser.add_argument("--sd", type=float, metavar="S",
+                        help="residual standard deviation between baths, response units")
+    parser.add_argument("--effect", action="append", default=[], metavar="TERM=SIZE",
+                        help="effect size that matters for a term (repeatable), or SIZE for "
+                             "every term; response units")
+    parser.add_argument("--alpha", type=float, metavar="A", help="significance level (0.05)")
+    parser.add_argument("--target-power", type=float, metavar="P",
+                        help="power the detectable effects and replicate count aim at (0.8)")
+    parser.add_argument("--json", action="store_true", help="print the result as JSON")
+
+
+def parse_effects(items: list[str]):
+    """``["chelator=2", "ph=1.5"]`` -> dict; ``["2"]`` -> 2.0; ``[]`` -> None."""
+    from trialkit.exceptions import PlanError
+
+    if not items:
+        return None
+    out: dict[str, float] = {}
+    single = None
+    for item in items:
+        term, sep, size = item.rpartition("=")
+        try:
+            value = float(size)
+        except ValueError:
+            raise PlanError(f"--effect {item!r}: the size must be a number, as in "
+                            "--effect chelator=2.5 or --effect 2.5") from None
+        if not value > 0:
+            raise PlanError(f"--effect {item!r}: the size must be positive")
+        if sep:
+            out[term.strip()] = value
+        else:
+            single = value
+    if single is not None and out:
+        raise PlanError("--effect: give either one SIZE for every term or TERM=SIZE pairs, "
+                        "not both")
+    return single if single is not None else out
+
+
+def evaluation_kwargs(args: argparse.Namespace) -> dict:
+    return {"model": args.model, "sd": args.sd, "effects": parse_effects(args.effect),
+            "alpha": args.alpha, "target_power": args.target_power}
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("trial", help="trial file (.toml) or trial folder")
+    add_evaluation_options(parser)
+
+
+def run(args: argparse.Namespace) -> int:
+    from trialkit.commands._output import print_json
+    from trialkit.evaluate import evaluate_plan
+    from trialkit.plan import load_plan
+
+    plan = load_plan(args.trial)
+    ev = evaluate_plan(plan, **evaluation_kwargs(args))
+    reps = ev.replicates_needed() if ev.estimable and ev.summary.effect.notna().any() \
+        else None
+    if args.json:
+        data = ev.to_dict()
+        data["trial"] = plan.trial.title
+        data["replicates_needed"] = reps
+        print_json(data)
+        return 0
+    print(plan.trial.title)
+    print(repr(ev))
+    if ev.estimable:
+        if reps is None:
+            print("  replicates  more than 50 copies of the plan would be needed to reach "
+                  f"power {ev.target_power:g} for every term")
+        else:
+            copies = "copy" if reps == 1 else "copies"
+            print(f"  replicates  {reps} {copies} of the plan needed for power "
+                  f"{ev.target_power:g} in every term with an effect size")
+    return 0
