@@ -63,6 +63,15 @@ _EXPORTS: dict[str, str] = {
     "SheetConfig": "trialkit.sheets",
     "sheet_config": "trialkit.sheets",
     "RecordLog": "trialkit.store",
+    # design evaluation and optimal designs
+    "evaluate_plan": "trialkit.evaluate",
+    "evaluate_design": "trialkit.evaluate",
+    "Evaluation": "trialkit.evaluate",
+    "compare_plans": "trialkit.comparison",
+    "Comparison": "trialkit.comparison",
+    "EvaluationSettings": "trialkit.evaluation_config",
+    "optimal_design": "trialkit.designs.optimal",
+    "OptimalResult": "trialkit.designs.optimal",
     # bath chemistry
     "BathSpec": "trialkit.chemistry",
     "BathRecipe": "trialkit.chemistry",
