@@ -18,6 +18,7 @@ matplotlib.use("Agg")
 
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+import pandas as pd  # noqa: E402
 import pytest  # noqa: E402
 import report_trials as rt  # noqa: E402
 from matplotlib.collections import PolyCollection  # noqa: E402
@@ -84,9 +85,10 @@ def test_interaction_draws_one_line_per_level(screening):
     assert len(model_lines) == 2
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
     assert labels == ["ph: pH 5.5", "ph: pH 7.5"]
-    # each line equals the model's prediction at that pH, surfactant at its first level
+    # each line equals the model's prediction at that pH, averaged over the surfactant
     x, y = _xy(model_lines[1])
-    pred = fit.predict({"chelator": x[-1], "ph": 7.5, "surfactant": "none"}).predicted[0]
+    pred = fit.predict(pd.DataFrame({"chelator": [x[-1]] * 2, "ph": [7.5] * 2,
+                                     "surfactant": ["none", "added"]})).predicted.mean()
     assert y[-1] == pytest.approx(pred)
     assert ax.get_xlabel() == "chelator (% w/v)" and ax.get_ylabel() == "removal (%)"
     assert "depend on ph" in ax.get_title()

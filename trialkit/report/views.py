@@ -130,11 +130,16 @@ def effect_lines(fit, *, unit: str = "", n: int = GRID) -> EffectLines:
     obs = observed(fit)
     panels = []
     for f in model_factors(fit):
-        xs = _axis_values(f, n)
-        settings = pd.DataFrame([{**ref, f.name: x} for x in xs])
-        pred = averaged_prediction(fit, settings, [c for c in cats if c != f.name])
-        line = pd.DataFrame({"x": list(xs), "predicted": pred.predicted,
-                             "ci_low": pred.ci_low, "ci_high": pred.ci_high})
+        if hasattr(fit, "profile"):  # the analysis package's own profile of the model
+            prof = fit.profile(f.name, n=n)
+            xs, pred = prof[f.name].tolist(), prof
+        else:
+            xs = _axis_values(f, n)
+            settings = pd.DataFrame([{**ref, f.name: x} for x in xs])
+            pred = averaged_prediction(fit, settings, [c for c in cats if c != f.name])
+        line = pd.DataFrame({"x": list(xs), "predicted": pred.predicted.to_numpy(),
+                             "ci_low": pred.ci_low.to_numpy(),
+                             "ci_high": pred.ci_high.to_numpy()})
         pts = pd.DataFrame({"x": obs[f.name].tolist(), "y": obs.y.tolist()})
         panels.append(LinePanel(f.name, f.unit, f.is_continuous, line, pts))
     held = {k: (v if k not in cats else "averaged over levels") for k, v in ref.items()}
@@ -147,6 +152,19 @@ def interaction_lines(fit, x: str, trace: str, *, unit: str = "", n: int = GRID)
     ref = reference_settings(fit)
     levels = [ft.low, ft.high] if ft.is_continuous else list(ft.levels)
     rows = []
+    if hasattr(fit, "profile"):
+        prof = fit.profile(x, by=trace, n=n)
+        if ft.is_continuous:
+            prof = prof[np.isclose(prof[trace].astype(float), ft.low)
+                        | np.isclose(prof[trace].astype(float), ft.high)]
+        out = pd.DataFrame({"x": prof[x].tolist(), "trace": prof[trace].tolist(),
+                            "predicted": prof.predicted.to_numpy(),
+                            "ci_low": prof.ci_low.to_numpy(), "ci_high": prof.ci_high.to_numpy()})
+        obs = observed(fit)
+        pts = pd.DataFrame({"x": obs[x].tolist(), "trace": obs[trace].tolist(),
+                            "y": obs.y.tolist()})
+        return LinePanel(x, fx.unit, fx.is_continuous, out, pts, trace=trace,
+                         trace_unit=ft.unit)
     for lev in levels:
         xs = _axis_values(fx, n)
         settings = pd.DataFrame([{**ref, x: v, trace: lev} for v in xs])
