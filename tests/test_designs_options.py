@@ -167,7 +167,8 @@ def test_valid_options_give_no_problem(tmp_path, kind, options):
 def test_every_kind_has_an_options_entry():
     assert set(DESIGN_OPTIONS) == set(DESIGN_KINDS)
     assert DESIGN_KINDS == ("full-factorial", "fractional-factorial", "plackett-burman",
-                            "central-composite", "box-behnken", "sweep", "latin-hypercube")
+                            "central-composite", "box-behnken", "sweep", "latin-hypercube",
+                            "optimal")
 
 
 def test_faulty_factors_do_not_crash_the_option_checks():

@@ -163,3 +163,26 @@ def test_plan_to_dict_has_the_cli_keys():
     for key in ("baths", "coupons", "blocks", "seed", "fingerprint", "design", "factors"):
         assert key in d
     json.dumps(d)  # plain data
+
+
+def test_optimal_design_from_a_trial_file_honours_its_constraint():
+    factors = """
+[[factor]]
+name = "chelator"
+unit = "% w/v"
+low = 2
+high = 10
+[[factor]]
+name = "ph"
+unit = "pH"
+low = 5
+high = 8
+"""
+    plan = plan_of(kind="optimal", factors=factors,
+                   extra_design='runs = 10\nmodel = "quadratic"\n'
+                                'constraints = ["ph >= 5.2 + 0.15*chelator"]')
+    assert plan.n_baths == 10
+    b = plan.baths
+    assert (b["point"] == "optimal").all()
+    # every bath satisfies the linear constraint (natural units); rounding to 6 digits
+    assert (b["ph"] >= 5.2 + 0.15 * b["chelator"] - 1e-4).all()

@@ -1,7 +1,7 @@
 """Tests of trialkit.simulate: invented readings drawn from a truth model.
 
 External relations checked: ASTM G1 corrosion rate CR = K W / (A T D) with K = 8.76e4
-for mm/y and carbon steel D = 7.86 g/cm³ (tests/reference/simulate/); first-order decay
+for mm/y and carbon steel D = 7.86 g/cm³ (tests/reference/corrosion/); first-order decay
 of coverage (the truth model's stated law); ASTM G1 repetitive cleaning (the cleaning
 line extrapolated to zero cycles gives the mass before cleaning).
 """
@@ -32,7 +32,7 @@ from trialkit.simulate import (
 from trialkit.trialfile import parse_trial_text
 from trialkit.truth_models import BathTruth, NoiseModel, SimulationError
 
-REF = Path(__file__).parent / "reference" / "simulate" / "astm_g1_corrosion_rate.json"
+REF = Path(__file__).parent / "reference" / "corrosion" / "astm_g1_corrosion_rate.json"
 
 TRIAL = """
 [trial]

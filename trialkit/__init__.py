@@ -63,6 +63,15 @@ _EXPORTS: dict[str, str] = {
     "SheetConfig": "trialkit.sheets",
     "sheet_config": "trialkit.sheets",
     "RecordLog": "trialkit.store",
+    # design evaluation and optimal designs
+    "evaluate_plan": "trialkit.evaluate",
+    "evaluate_design": "trialkit.evaluate",
+    "Evaluation": "trialkit.evaluate",
+    "compare_plans": "trialkit.comparison",
+    "Comparison": "trialkit.comparison",
+    "EvaluationSettings": "trialkit.evaluation_config",
+    "optimal_design": "trialkit.designs.optimal",
+    "OptimalResult": "trialkit.designs.optimal",
     # bath chemistry
     "BathSpec": "trialkit.chemistry",
     "BathRecipe": "trialkit.chemistry",
@@ -109,6 +118,14 @@ _EXPORTS: dict[str, str] = {
     "AnalysisResult": "trialkit.analysis",
     "factors_from_table": "trialkit.analysis",
     "AnalysisConfig": "trialkit.analysis",
+    # invented data for examples and self-consistency tests
+    "simulate_readings": "trialkit.simulate",
+    "SimulatedReadings": "trialkit.simulate",
+    "confirmation_plan": "trialkit.simulate",
+    "BathTruth": "trialkit.truth_models",
+    "NoiseModel": "trialkit.truth_models",
+    "ExampleScenario": "trialkit.truth_models",
+    "SimulationError": "trialkit.truth_models",
     # responses
     "coupon_area_cm2": "trialkit.geometry",
     "metal": "trialkit.materials",

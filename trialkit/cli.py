@@ -41,13 +41,22 @@ def _version() -> str:
         return "0+unknown"
 
 
+class _VersionAction(argparse.Action):
+    """``--version``: reads the installed version only when asked (keeps start-up fast)."""
+
+    def __call__(self, parser, namespace, values, option_string=None):
+        print(f"trialkit {_version()}")
+        parser.exit()
+
+
 def build_parser(command: str | None = None) -> argparse.ArgumentParser:
     """The argument parser; only ``command``'s options are loaded (all names are listed)."""
     parser = argparse.ArgumentParser(
         prog="trialkit",
         description="Plan, mix, record, analyse and report rust-removal bath trials.",
     )
-    parser.add_argument("--version", action="version", version=f"trialkit {_version()}")
+    parser.add_argument("--version", action=_VersionAction, nargs=0,
+                        help="show trialkit's version and exit")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     for name, (module_name, help_text) in COMMANDS.items():
         p = sub.add_parser(name, help=help_text, description=help_text)
@@ -86,6 +95,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 2
     except KeyboardInterrupt:  # pragma: no cover - interactive only
         return 130
+    except BrokenPipeError:  # output piped into e.g. `head`, which closed early
+        sys.stderr.close()
+        return 0
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -57,6 +57,7 @@ PLAN_META_FILE = "plan.json"
 LEADING_COLUMNS = ("run", "bath", "coupon", "coupon_kind", "block", "point")
 TRAILING_COLUMNS = ("replicate", "std_order")
 TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
+
 #: Units whose quantities cannot be negative (concentrations, shares).
 NON_NEGATIVE_UNITS = ("% w/v", "% w/w", "% v/v", "%", "g/L", "mol/L", "g/l", "mol/l",
                       "rpm", "min", "h", "s")
@@ -201,7 +202,7 @@ def make_plan(trial: Trial) -> Plan:
     from trialkit.designs import build_design, center_points, two_level_block_columns
 
     design = build_design(trial.factors, trial.design.kind, trial.design.options,
-                          seed=trial.seed)
+                          seed=trial.seed, folder=trial.folder)
     layout = trial.layout
     names = [f.name for f in trial.factors]
     notes: list[str] = []

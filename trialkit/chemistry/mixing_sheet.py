@@ -105,6 +105,26 @@ class MixingSheet:
         path.write_text(self.to_html(), encoding="utf-8")
         return path
 
+    def summary(self) -> str:
+        """A few lines per distinct recipe and the bill of materials, for the console."""
+        lines = [f"{self.title}" if self.title else "Mixing sheet",
+                 f"  {len(self.bath_recipe)} baths, {len(self.recipes)} distinct recipes, "
+                 f"plan {self.fingerprint or '?'}"]
+        for i, r in enumerate(self.recipes, start=1):
+            ph = f", pH {_fmt(r.target_ph)}" if r.target_ph is not None else ""
+            lines.append(f"  recipe {i} ({', '.join(r.baths or (r.bath,))}): "
+                         f"{_fmt(r.volume_l)} L at {_fmt(r.temperature_c)} °C{ph}")
+            for ln in r.lines:
+                ml = f" ({_fmt(ln.millilitres)} mL)" if ln.millilitres else ""
+                lines.append(f"      {_fmt(ln.grams, 4):>9} g{ml}  {ln.name}  [{ln.basis}]")
+        lines.append(f"  bill of materials (with {self.spare:.0%} spare):")
+        for rec in self.materials.to_dict("records"):
+            cost = (f"  {rec['cost']:.2f} {rec['currency']}"
+                    if rec.get("cost") == rec.get("cost") and rec.get("cost") is not None
+                    else "")
+            lines.append(f"      {_fmt(rec['grams'], 4):>9} g  {rec['ingredient']}{cost}")
+        return "\n".join(lines)
+
     def __repr__(self) -> str:
         return (f"MixingSheet({len(self.bath_recipe)} baths, {len(self.recipes)} distinct "
                 f"recipes, plan {self.fingerprint or '?'})")

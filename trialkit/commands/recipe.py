@@ -29,7 +29,9 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print_json(sheet.to_dict())
         return 0
-    print(f"{sheet}\nwrote {csv}\nwrote {page}")
+    print(sheet.summary())
+    print(f"wrote {csv}\nwrote {page}")
+    print("cautions:")
     for c in sheet.cautions:
         print(f"  - {c}")
     return 0

@@ -13,11 +13,13 @@ Examples
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
+from pathlib import Path
 
 from trialkit.designs._common import center_points
 from trialkit.designs.aliasing import AliasStructure, alias_structure
 from trialkit.designs.base import POINT_TYPES, Design
 from trialkit.designs.blocking import two_level_block_columns
+from trialkit.designs.optimal import build_optimal
 from trialkit.designs.options import DESIGN_KINDS, DESIGN_OPTIONS, check_design_options
 from trialkit.designs.space import build_latin_hypercube, build_sweep
 from trialkit.designs.surface import build_box_behnken, build_central_composite
@@ -38,7 +40,7 @@ __all__ = [
 
 
 def build_design(factors: Sequence[Factor], kind: str, options: Mapping | None = None, *,
-                 seed: int | None) -> Design:
+                 seed: int | None, folder: str | Path | None = None) -> Design:
     """Build the design points of ``kind`` for ``factors``.
 
     Parameters
@@ -50,7 +52,9 @@ def build_design(factors: Sequence[Factor], kind: str, options: Mapping | None =
     options : mapping
         Kind-specific options (see :data:`DESIGN_OPTIONS`).
     seed : int or None
-        The trial seed (used by random designs: Latin hypercube).
+        The trial seed (used by random designs: Latin hypercube, optimal starts).
+    folder : path, optional
+        The trial folder, against which an optimal design's ``augment`` path is read.
 
     Returns
     -------
@@ -83,4 +87,6 @@ def build_design(factors: Sequence[Factor], kind: str, options: Mapping | None =
         return build_box_behnken(factors, options)
     if kind == "sweep":
         return build_sweep(factors, options)
+    if kind == "optimal":
+        return build_optimal(factors, options, seed=seed, folder=folder)
     return build_latin_hypercube(factors, options, seed)

@@ -52,6 +52,8 @@ from collections.abc import Mapping, Sequence
 
 from trialkit.designs.aliasing import alias_structure, roman
 from trialkit.designs.generators import check_generator_set
+from trialkit.designs.optimal import OPTION_DESCRIPTIONS as OPTIMAL_OPTIONS
+from trialkit.designs.optimal import check_optimal_options
 from trialkit.designs.space import LHS_CRITERIA
 from trialkit.designs.twolevel import fraction_matrix
 from trialkit.exceptions import DesignError
@@ -59,7 +61,7 @@ from trialkit.factors import FACTOR_LETTERS, Factor
 from trialkit.problems import ProblemReport, did_you_mean
 
 DESIGN_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman",
-                "central-composite", "box-behnken", "sweep", "latin-hypercube")
+                "central-composite", "box-behnken", "sweep", "latin-hypercube", "optimal")
 
 #: kind -> option key -> description.
 DESIGN_OPTIONS: dict[str, dict[str, str]] = {
@@ -90,6 +92,7 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
         "criterion": "\"center\", \"maximin\", \"centermaximin\" or \"correlation\"",
         "iterations": "whole number >= 1 of tries for the criterion (default 5)",
     },
+    "optimal": OPTIMAL_OPTIONS,
 }
 
 MAX_FULL_FACTORIAL_RUNS = 4096
@@ -351,4 +354,6 @@ _CHECKERS = {
     "box-behnken": _check_bbd,
     "sweep": _check_sweep,
     "latin-hypercube": _check_lhs,
+    "optimal": lambda factors, cont, cats, opts, problems, where:
+        check_optimal_options(factors, opts, problems, where),
 }
