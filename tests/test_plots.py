@@ -18,13 +18,14 @@ matplotlib.use("Agg")
 
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+import pandas as pd  # noqa: E402
 import pytest  # noqa: E402
 import report_trials as rt  # noqa: E402
 from matplotlib.collections import PolyCollection  # noqa: E402
 from scipy import stats  # noqa: E402
 
 from trialkit import plots  # noqa: E402
-from trialkit.report import views  # noqa: E402
+from trialkit.report import surfaces, views  # noqa: E402
 
 
 @pytest.fixture(autouse=True)
@@ -84,9 +85,10 @@ def test_interaction_draws_one_line_per_level(screening):
     assert len(model_lines) == 2
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
     assert labels == ["ph: pH 5.5", "ph: pH 7.5"]
-    # each line equals the model's prediction at that pH, surfactant at its first level
+    # each line equals the model's prediction at that pH, averaged over the surfactant
     x, y = _xy(model_lines[1])
-    pred = fit.predict({"chelator": x[-1], "ph": 7.5, "surfactant": "none"}).predicted[0]
+    pred = fit.predict(pd.DataFrame({"chelator": [x[-1]] * 2, "ph": [7.5] * 2,
+                                     "surfactant": ["none", "added"]})).predicted.mean()
     assert y[-1] == pytest.approx(pred)
     assert ax.get_xlabel() == "chelator (% w/v)" and ax.get_ylabel() == "removal (%)"
     assert "depend on ph" in ax.get_title()
@@ -167,7 +169,7 @@ def test_contour_marks_design_points_and_optimum(surface):
 
 def test_surface3d_axes_and_optimum(surface):
     res = surface.surfaces["removal"]
-    ax = plots.surface3d(views.from_surface(res, unit="%"))
+    ax = plots.surface3d(surfaces.from_surface(res, unit="%"))
     assert ax.get_zlabel() == "predicted removal (%)"
     assert ax.name == "3d"
     offsets = ax.collections[-1]._offsets3d
@@ -253,7 +255,7 @@ def test_every_figure_on_each_trial(kind):
             fig = plots.residual_panels(fit, unit=unit)
             assert len(fig.axes) == 3 and len(fig.axes[0].lines[0].get_xdata()) == fit.n
         if name in data.sweeps:
-            ax = plots.sweep(views.from_sweep(data.sweeps[name], unit=unit))
+            ax = plots.sweep(surfaces.from_sweep(data.sweeps[name], unit=unit))
             assert len(ax.lines[1].get_xdata()) == data.sweeps[name].fit.natural[
                 data.sweeps[name].factor.name].nunique()
             continue
@@ -267,7 +269,7 @@ def test_every_figure_on_each_trial(kind):
             ax = plots.half_normal(data.effects[name], unit=unit)
             assert len(ax.lines) == 3
         if name in data.surfaces and len(data.surfaces[name].factors) >= 2:
-            ax = plots.contour(views.from_surface(data.surfaces[name], unit=unit))
+            ax = plots.contour(surfaces.from_surface(data.surfaces[name], unit=unit))
             assert ax.lines[1].get_marker() == "*"
         plt.close("all")
     if data.kinetics:

@@ -131,3 +131,22 @@ def test_script_in_title_stays_text_in_the_browser(tmp_path):
     result, console = check_page(page, tmp_path)
     assert result["title"] == title  # shown literally, as text
     assert console == []
+
+
+def test_report_prints_to_pdf(tmp_path):
+    chromium()
+    report = rt.report_of("surface")
+    page = report.write(tmp_path / "print.html")
+    ARTIFACTS.mkdir(exist_ok=True)
+    pdf = ARTIFACTS / "report-surface.pdf"
+    if pdf.exists():
+        pdf.unlink()
+    res = _run([f"--print-to-pdf={pdf}", "--no-pdf-header-footer", page.as_uri()],
+               tmp_path / "profile-pdf")
+    assert pdf.exists(), res.stderr[-2000:]
+    data = pdf.read_bytes()
+    assert data[:5] == b"%PDF-"
+    pages = len(re.findall(rb"/Type\s*/Page(?!s)", data))
+    n_fig = sum(b.kind == "figure" for s in report.sections for b in s.blocks)
+    # A4 pages with figures kept whole: at least one page per two figures
+    assert pages >= n_fig // 2 >= 3

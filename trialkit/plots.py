@@ -282,7 +282,7 @@ def residual_panels(result, diagnostics=None, *, unit: str = "",
 # -- surfaces -------------------------------------------------------------------------
 def _surface(view, x=None, y=None, unit: str = ""):
     if not hasattr(view, "grid_x"):
-        from trialkit.report.views import as_surface_view
+        from trialkit.report.surfaces import as_surface_view
 
         view = as_surface_view(view, x, y, **({"unit": unit} if unit else {}))
     _need(view, ("grid_x", "grid_y", "z", "points", "x", "y"), "contour")
@@ -295,7 +295,7 @@ def contour(view, x: str | None = None, y: str | None = None, *, unit: str = "",
 
     ``view``: a ``SurfaceResult`` or ``DesirabilityResult`` of :mod:`trialkit.analysis`
     (``x``, ``y`` choose the factors; ``unit`` is the response's) or a
-    :class:`trialkit.report.views.SurfaceView`.
+    :class:`trialkit.report.surfaces.SurfaceView`.
     """
     v = _surface(view, x, y, unit)
     ax = _ax(ax, (6.0, 4.6))
@@ -358,7 +358,7 @@ def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
     ``view``: a :class:`trialkit.analysis.sweep.SweepResult` or a SweepView.
     """
     if not hasattr(view, "curve"):
-        from trialkit.report.views import as_sweep_view
+        from trialkit.report.surfaces import as_sweep_view
 
         view = as_sweep_view(view, unit=unit)
     _need(view, ("curve", "observed", "best", "sweet_spot", "factor"), "sweep")

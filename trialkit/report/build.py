@@ -8,11 +8,7 @@ plainly what is not available and why.
 
 from __future__ import annotations
 
-import datetime as dt
-import hashlib
 import math
-import platform
-from importlib import metadata
 from pathlib import Path
 
 import pandas as pd
@@ -20,7 +16,10 @@ import pandas as pd
 from trialkit.report import figures as figs
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import effects_findings, model_findings, pretty_unit
-from trialkit.report.gather import TrialData, analyse, check_confirmation, load_inputs
+from trialkit.report.gather import TrialData, analyse, load_inputs
+from trialkit.report.quality import readings_blocks
+from trialkit.report.recommend import check_confirmation
+from trialkit.report.reproduce import reproduce_blocks
 
 SECTION_TITLES = {
     "brief": "The trial in brief",
@@ -32,10 +31,6 @@ SECTION_TITLES = {
     "safety": "Safety cautions",
     "reproduce": "How to reproduce this report",
 }
-PACKAGES = ("numpy", "scipy", "pandas", "statsmodels", "matplotlib", "seaborn", "jinja2",
-            "pyDOE3", "phreeqc", "pint", "molmass", "openpyxl")
-ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")
-ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")
 NOT_THE_LAST_WORD = ("This recommendation summarises a bench trial. It is not a substitute "
                      "for the safety data sheets of the ingredients, local regulations and "
                      "licensed practice, which take precedence.")
@@ -74,13 +69,13 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
     findings = _findings(data)
     sections = [
         Section("brief", SECTION_TITLES["brief"], _brief(data)),
-        Section("readings", SECTION_TITLES["readings"], _readings(data)),
+        Section("readings", SECTION_TITLES["readings"], readings_blocks(data)),
         Section("matters", SECTION_TITLES["matters"], _matters(data, findings)),
         Section("models", SECTION_TITLES["models"], _models(data)),
         Section("recipe", SECTION_TITLES["recipe"], _recipe(data)),
         Section("confirm", SECTION_TITLES["confirm"], _confirm(data)),
         Section("safety", SECTION_TITLES["safety"], _safety(data)),
-        Section("reproduce", SECTION_TITLES["reproduce"], _reproduce(data)),
+        Section("reproduce", SECTION_TITLES["reproduce"], reproduce_blocks(data)),
     ]
     trial = data.trial
     sub = f"Trial report · plan {data.plan.fingerprint} · seed {trial.seed}"
@@ -139,58 +134,6 @@ def _brief(data: TrialData) -> list[Block]:
                               "computed as": r.measure or r.name} for r in t.responses])
         blocks.append(Block.frame(rtab, "Responses"))
     return blocks + _notes(data, "plan")
-
-
-def _readings(data: TrialData) -> list[Block]:
-    blocks: list[Block] = []
-    if data.log is None:
-        if data.baths is not None and data.responses is None:
-            return [Block.note("the readings were given as a table of bath results, not "
-                               "through the record log, so missing readings and revisions "
-                               "cannot be checked")]
-        return blocks + _notes(data, "readings")
-    hist, cur = data.history, data.current
-    n_rev = int((hist.revision > 1).sum()) if len(hist) else 0
-    blocks.append(Block.pairs([
-        ("Values in the record log", f"{len(hist)} from {hist.source.nunique()} sheet(s)"),
-        ("Coupons in the plan", f"{len(cur)}"),
-        ("Corrections since first entry", f"{n_rev}")]))
-    table = cur[~cur.get("point", pd.Series("", index=cur.index)).isin(["control"])] \
-        if "point" in cur else cur
-    rows = []
-    for fname in ENTRY_ALL + ENTRY_RUSTED:
-        sub = table if fname in ENTRY_ALL or "coupon_kind" not in table else \
-            table[table.coupon_kind == "rusted"]
-        if fname not in sub:
-            missing = list(sub.coupon)
-        else:
-            missing = list(sub.coupon[sub[fname].isna()])
-        if missing:
-            rows.append({"reading": fname, "coupons missing it": len(missing),
-                         "first few": ", ".join(map(str, missing[:6]))
-                         + (" ..." if len(missing) > 6 else "")})
-    if rows:
-        blocks.append(Block.frame(pd.DataFrame(rows), "Readings still missing"))
-    else:
-        blocks.append(Block.para("Every planned coupon has its masses, coverages and "
-                                 "immersion times recorded."))
-    if n_rev:
-        rev = hist[hist.coupon.isin(hist[hist.revision > 1].coupon)]
-        rev = rev[rev.set_index(["coupon", "inspection", "field"]).index.isin(
-            hist[hist.revision > 1].set_index(["coupon", "inspection", "field"]).index)]
-        blocks.append(Block.frame(rev[["coupon", "field", "value", "revision", "source"]]
-                                  .head(40).reset_index(drop=True),
-                                  "Values corrected after first entry (every revision kept)"))
-    probs = list(getattr(data.responses, "problems", []) or [])
-    if probs:
-        blocks.append(Block.frame(pd.DataFrame([{"where": p.where, "reading": p.column,
-                                                 "value": p.value, "problem": p.message}
-                                                for p in probs][:40]),
-                                  "Flagged values (left out of the results)"))
-    warns = list(getattr(data.responses, "warnings", []) or [])
-    if warns:
-        blocks.append(Block.bullets(warns, "Worth a look"))
-    return blocks + _notes(data, "readings", "responses")
 
 
 def _findings(data: TrialData) -> list:
@@ -399,43 +342,3 @@ def _safety(data: TrialData) -> list[Block]:
         if c not in items:
             items.append(c)
     return [Block.bullets(items), Block.para(NOT_THE_LAST_WORD)]
-
-
-def _sha256(path: Path) -> str:
-    h = hashlib.sha256()
-    with path.open("rb") as fh:
-        for chunk in iter(lambda: fh.read(1 << 16), b""):
-            h.update(chunk)
-    return h.hexdigest()
-
-
-def _version(name: str) -> str:
-    try:
-        return metadata.version(name)
-    except metadata.PackageNotFoundError:
-        return "not installed"
-
-
-def _reproduce(data: TrialData) -> list[Block]:
-    import trialkit
-
-    tk = _version("trialkit")
-    if tk == "not installed":
-        tk = f"source tree at {Path(trialkit.__file__).resolve().parent.parent}"
-    pairs = [("trialkit", tk), ("Python", platform.python_version())]
-    pairs += [(p, _version(p)) for p in PACKAGES]
-    files = []
-    for path in sorted(data.folder.rglob("*")):
-        if path.is_file() and path.suffix.lower() in (".toml", ".csv", ".xlsx", ".json",
-                                                      ".sqlite", ".py"):
-            files.append({"file": str(path.relative_to(data.folder)),
-                          "bytes": path.stat().st_size, "sha256": _sha256(path)})
-    blocks = [Block.pairs([("Seed", data.trial.seed),
-                           ("Plan fingerprint", data.plan.fingerprint),
-                           ("Written", dt.datetime.now(dt.UTC).strftime("%Y-%m-%d"))]),
-              Block.pairs(pairs, "Versions"),
-              Block.frame(pd.DataFrame(files), "Source files and their SHA-256")]
-    models = [f"{n}: {m}" for n, m in data.models.items()]
-    if models:
-        blocks.append(Block.bullets(models, "Models fitted"))
-    return blocks

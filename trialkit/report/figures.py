@@ -42,12 +42,12 @@ def _best_interaction(fit):
 def effect_figures(data, name: str) -> list[Block]:
     """Figures of what matters for one response."""
     from trialkit import plots
-    from trialkit.report import views
+    from trialkit.report import surfaces
 
     fit, unit = data.fits[name], data.unit(name)
     out = []
     if name in data.sweeps:
-        sw = views.from_sweep(data.sweeps[name], unit=unit)
+        sw = surfaces.from_sweep(data.sweeps[name], unit=unit)
         out.append(embed(lambda: plots.sweep(sw),
                          f"{name} across the {sw.factor} sweep: fitted curve with 95 % band, "
                          "bath means, best level and practical sweet spot"))
@@ -67,7 +67,7 @@ def effect_figures(data, name: str) -> list[Block]:
         out.append(embed(lambda: plots.half_normal(eff, unit=unit),
                          f"Half-normal plot of the effects on {name}"))
     if name in data.surfaces and len(data.surfaces[name].factors) >= 2:
-        sv = views.from_surface(data.surfaces[name], unit=unit)
+        sv = surfaces.from_surface(data.surfaces[name], unit=unit)
         out.append(embed(lambda: plots.contour(sv),
                          f"Contours of the fitted {name} with the baths and the best point"))
     return out
@@ -76,7 +76,7 @@ def effect_figures(data, name: str) -> list[Block]:
 def model_figures(data, name: str) -> list[Block]:
     """Diagnostic figures of one response's model."""
     from trialkit import plots
-    from trialkit.report import views
+    from trialkit.report import surfaces
 
     fit, unit = data.fits[name], data.unit(name)
     diag = getattr(data.results.get(name), "diagnostics", None)
@@ -84,7 +84,7 @@ def model_figures(data, name: str) -> list[Block]:
                  f"Model checks for {name}: residuals against fitted values, run order and "
                  "the normal distribution")]
     if name in data.surfaces and len(data.surfaces[name].factors) >= 2:
-        sv = views.from_surface(data.surfaces[name], unit=unit)
+        sv = surfaces.from_surface(data.surfaces[name], unit=unit)
         out.append(embed(lambda: plots.surface3d(sv), f"The fitted surface of {name}"))
     return out
 
@@ -103,7 +103,7 @@ def kinetics_figure(data) -> list[Block]:
 
 def desirability_figure(data) -> list[Block]:
     from trialkit import plots
-    from trialkit.report import views
+    from trialkit.report import surfaces
 
     res = data.desirability
     if res is None:
@@ -112,7 +112,7 @@ def desirability_figure(data) -> list[Block]:
     cont = [f.name for f in fit0.spec.used_factors if f.is_continuous]
     if len(cont) < 2:
         return []
-    dv = views.from_desirability(res, cont[0], cont[1])
+    dv = surfaces.from_desirability(res, cont[0], cont[1])
     return [embed(lambda: plots.desirability_contour(dv),
                   f"Overall desirability over {cont[0]} and {cont[1]} with the best "
                   "compromise")]

@@ -1,0 +1,67 @@
+"""Data quality of a trial's readings: what the record log holds, what is still missing,
+which values were corrected after first entry and which were flagged.
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from trialkit.report.document import Block
+from trialkit.report.gather import TrialData
+
+ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")
+ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")
+
+
+def readings_blocks(data: TrialData) -> list[Block]:
+    """How complete the readings are: counts, missing readings, revisions, flags."""
+    blocks: list[Block] = []
+    if data.log is None:
+        if data.baths is not None and data.responses is None:
+            return [Block.note("the readings were given as a table of bath results, not "
+                               "through the record log, so missing readings and revisions "
+                               "cannot be checked")]
+        return blocks + [Block.note(t) for t in data.notes.get("readings", [])]
+    hist, cur = data.history, data.current
+    n_rev = int((hist.revision > 1).sum()) if len(hist) else 0
+    blocks.append(Block.pairs([
+        ("Values in the record log", f"{len(hist)} from {hist.source.nunique()} sheet(s)"),
+        ("Coupons in the plan", f"{len(cur)}"),
+        ("Corrections since first entry", f"{n_rev}")]))
+    table = cur[~cur.get("point", pd.Series("", index=cur.index)).isin(["control"])] \
+        if "point" in cur else cur
+    rows = []
+    for fname in ENTRY_ALL + ENTRY_RUSTED:
+        sub = table if fname in ENTRY_ALL or "coupon_kind" not in table else \
+            table[table.coupon_kind == "rusted"]
+        if fname not in sub:
+            missing = list(sub.coupon)
+        else:
+            missing = list(sub.coupon[sub[fname].isna()])
+        if missing:
+            rows.append({"reading": fname, "coupons missing it": len(missing),
+                         "first few": ", ".join(map(str, missing[:6]))
+                         + (" ..." if len(missing) > 6 else "")})
+    if rows:
+        blocks.append(Block.frame(pd.DataFrame(rows), "Readings still missing"))
+    else:
+        blocks.append(Block.para("Every planned coupon has its masses, coverages and "
+                                 "immersion times recorded."))
+    if n_rev:
+        rev = hist[hist.coupon.isin(hist[hist.revision > 1].coupon)]
+        rev = rev[rev.set_index(["coupon", "inspection", "field"]).index.isin(
+            hist[hist.revision > 1].set_index(["coupon", "inspection", "field"]).index)]
+        blocks.append(Block.frame(rev[["coupon", "field", "value", "revision", "source"]]
+                                  .head(40).reset_index(drop=True),
+                                  "Values corrected after first entry (every revision kept)"))
+    probs = list(getattr(data.responses, "problems", []) or [])
+    if probs:
+        blocks.append(Block.frame(pd.DataFrame([{"where": p.where, "reading": p.column,
+                                                 "value": p.value, "problem": p.message}
+                                                for p in probs][:40]),
+                                  "Flagged values (left out of the results)"))
+    warns = list(getattr(data.responses, "warnings", []) or [])
+    if warns:
+        blocks.append(Block.bullets(warns, "Worth a look"))
+    notes = [t for k in ("readings", "responses") for t in data.notes.get(k, [])]
+    return blocks + [Block.note(t) for t in notes]
