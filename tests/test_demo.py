@@ -22,6 +22,7 @@ from trialkit.demo import STAGES, DemoError, DemoResult, bundled_trials, run_dem
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLES = REPO / "example_trials"
+pytestmark = pytest.mark.slow  # the whole loop / a kernel per notebook
 
 
 @pytest.fixture(scope="module")

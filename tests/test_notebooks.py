@@ -29,6 +29,7 @@ REPO = Path(__file__).resolve().parents[1]
 NOTEBOOKS = REPO / "notebooks"
 NAMES = sorted(p.name for p in NOTEBOOKS.glob("[0-9][0-9]_*.ipynb"))
 ALPHA = 0.05
+pytestmark = pytest.mark.slow  # the whole loop / a kernel per notebook
 
 
 def _kernel_name() -> str:
