@@ -221,3 +221,13 @@ def test_report_from_the_record_log(tmp_path):
     chel = next(f for f in report.findings if f["term"] == "chelator"
                 and f["response"] == "removal")
     assert chel["kind"] == "effect" and chel["numbers"]["effect"] > 20
+
+
+def test_screening_report_also_judges_effects_by_lenth():
+    from trialkit.report.findings import effects_findings
+
+    data, _ = rt.analysed("screening")
+    sec = rt.report_of("screening").section("matters")
+    block = next(b for b in sec.blocks if b.kind == "list" and b.text.startswith("removal: "))
+    assert "Lenth" in block.text
+    assert block.items == [f.text for f in effects_findings(data.effects["removal"], unit="%")]

@@ -126,6 +126,10 @@ _EXPORTS: dict[str, str] = {
     "NoiseModel": "trialkit.truth_models",
     "ExampleScenario": "trialkit.truth_models",
     "SimulationError": "trialkit.truth_models",
+    # report
+    "build_report": "trialkit.report",
+    "write_report": "trialkit.report",
+    "Report": "trialkit.report",
     # responses
     "coupon_area_cm2": "trialkit.geometry",
     "metal": "trialkit.materials",

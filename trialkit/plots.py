@@ -53,9 +53,14 @@ class PlotError(TrialkitError):
     """A figure was asked of an object it cannot draw."""
 
 
+def pretty(unit: str | None) -> str:
+    """A unit as a reader writes it: ``g/m**2`` -> ``g/m²``, ``degC`` -> ``°C``."""
+    return str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C")
+
+
 def label(name: str, unit: str | None) -> str:
     """Axis label with its unit: ``"removal (%)"``; ``"(no unit)"`` when there is none."""
-    unit = (str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C"))
+    unit = pretty(unit)
     return f"{name} ({unit})" if unit else f"{name} (no unit)"
 
 
@@ -99,10 +104,15 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
         result = effect_lines(result, unit=unit)
     _need(result, ("panels", "response"), "main_effects")
     k = len(result.panels)
+    cols = k if k <= 3 else 3
+    rows = -(-k // cols)
     if fig is None:
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(max(3.2 * k, 4.5), 3.6))
-    axes = fig.subplots(1, k, sharey=True, squeeze=False)[0]
+            fig = plt.figure(figsize=(max(3.4 * cols, 4.5), 3.3 * rows + 0.5))
+    grid = fig.subplots(rows, cols, sharey=True, squeeze=False)
+    axes = list(grid.ravel()[:k])
+    for extra in grid.ravel()[k:]:
+        extra.remove()
     unit = unit or getattr(result, "unit", "")
     for ax, p in zip(axes, result.panels, strict=True):
         _style(ax)
@@ -124,7 +134,8 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
             ax.set_xticks(xi, list(pos))
         ax.set_xlabel(label(p.factor, p.unit) if p.continuous else f"{p.factor} (level)")
         ax.set_title(f"Effect of {p.factor}")
-    axes[0].set_ylabel(label(result.response, unit))
+    for r in range(rows):
+        grid[r, 0].set_ylabel(label(result.response, unit))
     axes[0].legend(fontsize=8, loc="best")
     fig.suptitle(f"Main effects on {result.response} (other factors at their middle "
                  "or averaged over their levels)")
@@ -155,7 +166,7 @@ def interaction(result, x: str | None = None, trace: str | None = None, *, unit:
         c, m = PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)]
         if isinstance(lev, float):
             lev_text = f"pH {lev:g}" if result.trace_unit == "pH" else \
-                f"{lev:g} {result.trace_unit}".strip()
+                f"{lev:g} {pretty(result.trace_unit)}".strip()
         else:
             lev_text = lev
         if result.continuous:

@@ -186,9 +186,15 @@ def _matters(data: TrialData, findings) -> list[Block]:
     blocks = []
     for name in data.fits:
         said = [f.text for f in findings if f.response == name]
+        unit = pretty_unit(data.unit(name)) or "no unit"
         if said:
-            unit = pretty_unit(data.unit(name)) or "no unit"
             blocks.append(Block.bullets(said, f"{name} ({unit})"))
+        if name in data.effects and data.fits[name].df_resid > 0:
+            lenth = effects_findings(data.effects[name], unit=data.unit(name))
+            blocks.append(Block.bullets(
+                [f.text for f in lenth], f"{name}: the two-level effects judged by Lenth's "
+                "method (no model needed; useful when the model has few residual degrees "
+                "of freedom)"))
         blocks += figs.effect_figures(data, name)
     other = [f.text for f in findings if f.response not in data.fits]
     if other:
