@@ -154,9 +154,10 @@ def _findings(data: TrialData) -> list:
             text = (f"{name.capitalize()} is best at {f.name} {sw.best:.3g} {f.unit} "
                     f"({interval}); the practical sweet spot, the lowest level within "
                     f"{_size(sw.tolerance, unit)} of the best, is {sw.sweet_spot:.3g} {f.unit}."
-                    + (f" Above the best level {name} falls off, by "
-                       f"{_size(sw.drop_at_high, unit)} at the top of the range."
-                       if sw.falls_off else ""))
+                    + (f" Above the best level {name} gets worse again, by "
+                       f"{_size(sw.drop_at_high, unit)} at the top of the range"
+                       f" ({'higher' if sw.goal == 'minimize' else 'lower'}"
+                       f" {name})." if sw.falls_off else ""))
             out.append(Finding(text, name, f.name, "sweep",
                                {"best": sw.best, "sweet_spot": sw.sweet_spot,
                                 "fieller_low": sw.fieller_low,

@@ -149,6 +149,11 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
             continue
         p = pvals.get(name, math.nan)
         row = _effect_row(fit, name)
+        if row is not None and term.order == 1 and term.power == 1 and \
+                math.isfinite(float(row.p)):
+            # quote the p-value of the same coefficient as the interval beside it (its
+            # t-test); a type 2 F that ignores the square term could contradict the interval
+            p = float(row.p)
         sig = math.isfinite(p) and p < alpha
         nums = {"p": p}
         if row is not None:

@@ -75,7 +75,8 @@ def recommend(data: TrialData) -> None:
         data.note("recipe", "no response has a goal (maximize, minimize or target), so "
                             "there is nothing to recommend")
         return
-    primary = wanted[0]
+    # the response the trial cares most about: highest importance, first among equals
+    primary = max(wanted, key=lambda n: (data.specs[n].importance, -wanted.index(n)))
     spec = data.specs[primary]
     if data.desirability is not None:
         settings = dict(data.desirability.settings)
