@@ -175,9 +175,14 @@ def test_trial_folder_compromise(trial_folder, capsys):
     assert 0 < d["overall_desirability"] <= 1
     for r in d["responses"]:
         assert r["pi_low"] < r["predicted"] < r["pi_high"]
-    # overall = geometric mean of the individual desirabilities (equal importance)
-    ds = [r["desirability"] for r in d["responses"]]
-    assert d["overall_desirability"] == pytest.approx(np.sqrt(ds[0] * ds[1]), rel=1e-9)
+    # overall = geometric mean of the individual desirabilities weighted by importance
+    # (Derringer & Suich 1980); the starter file gives removal importance 2, attack 1
+    trial = load_trial(trial_folder)
+    weight = {f"{r.measure}_mean": r.importance for r in trial.responses}
+    assert weight == {"removal_pct_mean": 2.0, "corrosion_rate_mm_per_y_mean": 1.0}
+    num = sum(weight[r["response"]] * np.log(r["desirability"]) for r in d["responses"])
+    expected = np.exp(num / sum(weight[r["response"]] for r in d["responses"]))
+    assert d["overall_desirability"] == pytest.approx(expected, rel=1e-9)
     assert d["settings"]["surfactant"] in ("none", "added")
 
 
