@@ -130,6 +130,11 @@ _EXPORTS: dict[str, str] = {
     "build_report": "trialkit.report",
     "write_report": "trialkit.report",
     "Report": "trialkit.report",
+    # the end-to-end demo
+    "run_demo": "trialkit.demo",
+    "DemoError": "trialkit.demo",
+    "DemoResult": "trialkit.demo_result",
+    "fill_sheet": "trialkit.fill",
     # responses
     "coupon_area_cm2": "trialkit.geometry",
     "metal": "trialkit.materials",
