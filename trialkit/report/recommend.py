@@ -101,6 +101,11 @@ def recommend(data: TrialData) -> None:
                     for kk, v in settings.items()}
         source = (f"best of the low, middle and high settings for {primary} by the fitted "
                   "model (a screening model: confirm before relying on it)")
+        quiet = _undetected_factors(data.fits[primary], settings)
+        if quiet:
+            source += ("; " + ", ".join(quiet) + " had no detectable effect on "
+                       f"{primary}, so either setting will do there (the one shown is the "
+                       "fitted best, within noise)")
     rows = []
     for name, fit in data.fits.items():
         p1 = fit.predict(settings, n_new=1).iloc[0]
@@ -113,6 +118,17 @@ def recommend(data: TrialData) -> None:
     data.recommendation = {"settings": settings, "source": source,
                            "predictions": pd.DataFrame(rows)}
     _recipe(data)
+
+
+def _undetected_factors(fit, settings: dict) -> list[str]:
+    """Factors of ``settings`` with no term significant in ``fit`` (type 2 ANOVA)."""
+    table = fit.anova(2).summary
+    significant = {str(t) for t, p in zip(table.term, table.p, strict=True)
+                   if p == p and p < fit.alpha}
+    terms = {f.name: [t.name for t in fit.spec.terms if f.name in t.factors]
+             for f in fit.spec.used_factors}
+    return [name for name in settings
+            if terms.get(name) and not any(t in significant for t in terms[name])]
 
 
 def _recipe(data: TrialData) -> None:
