@@ -74,15 +74,15 @@ def _run_pydoe(method, runs, shuffle, timeout):
     return queue.get()
 
 
-def bench_optimal(sizes, methods, timeout, starts):
+def bench_optimal(sizes, methods, timeout, tries):
     factors = tuple(Factor.continuous(n, -1, 1) for n in "abcde")
     dm = pw.DesignModel.from_spec("quadratic", factors)
     for runs in sizes:
         t, c = time.perf_counter(), time.process_time()
-        res = optimal_design(factors, runs, model="quadratic", starts=starts, grid=5, seed=1)
+        res = optimal_design(factors, runs, model="quadratic", tries=tries, grid=5, seed=1)
         ours_t, ours_c = time.perf_counter() - t, time.process_time() - c
         ours_d = res.d_efficiency
-        line(f"optimal 5f quadratic {runs} runs: trialkit ({starts} starts)",
+        line(f"optimal 5f quadratic {runs} runs: trialkit ({tries} tries)",
              f"D {ours_d:6.2f} %  {ours_t:6.2f} s", f"(CPU {ours_c:.2f} s)")
         best = None
         for shuffle in (False, True):
@@ -216,7 +216,7 @@ def main(argv=None) -> int:
     ap.add_argument("--quick", action="store_true", help="27 runs, two pyDOE3 methods")
     ap.add_argument("--timeout", type=float, default=120.0,
                     help="seconds allowed to each pyDOE3 call (default 120)")
-    ap.add_argument("--starts", type=int, default=10, help="trialkit random starts")
+    ap.add_argument("--tries", type=int, default=10, help="trialkit random starting designs")
     ap.add_argument("--only", choices=("optimal", "power", "startup", "demo"),
                     action="append", help="run only these benchmarks (repeatable)")
     args = ap.parse_args(argv)
@@ -225,7 +225,7 @@ def main(argv=None) -> int:
     methods = ("sequential", "fedorov") if args.quick else PYDOE_METHODS
     print(f"{'benchmark':<58} {'figure':<28} ratio against the baseline")
     if "optimal" in only:
-        bench_optimal(sizes, methods, args.timeout, args.starts)
+        bench_optimal(sizes, methods, args.timeout, args.tries)
     if "power" in only:
         bench_power()
     if "startup" in only:

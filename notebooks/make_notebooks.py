@@ -127,13 +127,13 @@ baths[["bath", "point", "chelator", "time_to_clean"]].head(8)'''),
         code('''\
 sweep_baths = baths[baths["point"] == "sweep"]
 res = analyze_table(sweep_baths, "time_to_clean", trial.factors, sweep="chelator",
-                    goal="minimize", n_boot=0)
+                    aim="lower", n_boot=0)
 sw = res.sweep
 print(f"fastest at {sw.best:.2f} % w/v; 95 % interval {sw.fieller_low:.2f} to "
       f"{sw.fieller_high:.2f} % w/v")
-print(f"practical sweet spot (within tolerance of the best): {sw.sweet_spot:.2f} % w/v")'''),
+print(f"practical lean level (within tolerance of the best): {sw.lean_level:.2f} % w/v")'''),
         md("""
-More chelator than the sweet spot buys nothing but cost: removal slows again at high
+More chelator than the lean level buys nothing but cost: removal slows again at high
 levels. The next step is a response surface around this level (notebook 5).
 """),
         code('''\
@@ -458,27 +458,27 @@ fits = {name: fit_model(surface_baths, name, factors, "quadratic")
         for name in ("removal", "attack", "cost")}
 fits["removal"].anova(2).summary'''),
         code('''\
-best_removal = fit_surface(fits["removal"], goal="maximize", n_boot=400, seed=plan.seed)
+best_removal = fit_surface(fits["removal"], aim="higher", n_boot=400, seed=plan.seed)
 print(best_removal.kind, best_removal.optimum["settings"])
 best_removal.bootstrap'''),
         md("""
 Removal alone would push pH to the acidic edge, where the witness coupons show the
 steel being eaten. The compromise: removal between 50 % (useless) and 90 % (enough),
 attack between 0.05 mm/y (none) and 0.30 mm/y (too much for finished parts), cost as
-low as the range allows with half the importance, as the trial file says.
+low as the range allows with half the priority, as the trial file says.
 """),
         code('''\
-from trialkit.analysis.desirability import Goal, optimize_desirability
+from trialkit.analysis.desirability import Aim, optimize_desirability
 
 specs = {s.name: s for s in plan.trial.responses}
-goals = [Goal("removal", "maximize", lower=50.0, upper=90.0),
-         Goal("attack", "minimize", lower=0.05, upper=0.30),
-         Goal("cost", "minimize", lower=float(surface_baths["cost"].min()),
-              upper=float(surface_baths["cost"].max()),
-              weight=specs["cost"].weight, importance=specs["cost"].importance)]
-two = optimize_desirability({k: fits[k] for k in ("removal", "attack")}, goals[:2],
-                            seed=plan.seed, n_starts=4)
-three = optimize_desirability(fits, goals, seed=plan.seed, n_starts=4)
+aims = [Aim("removal", "higher", unacceptable=50.0, satisfactory=90.0),
+        Aim("attack", "lower", unacceptable=0.30, satisfactory=0.05),
+        Aim("cost", "lower", unacceptable=float(surface_baths["cost"].max()),
+            satisfactory=float(surface_baths["cost"].min()),
+            shape=specs["cost"].shape, priority=specs["cost"].priority)]
+two = optimize_desirability({k: fits[k] for k in ("removal", "attack")}, aims[:2],
+                            seed=plan.seed, n_tries=4)
+three = optimize_desirability(fits, aims, seed=plan.seed, n_tries=4)
 print("removal and attack:       ", {k: round(v, 2) for k, v in two.settings.items()},
       f"D = {two.overall:.2f}")
 print("removal, attack and cost: ", {k: round(v, 2) for k, v in three.settings.items()},

@@ -54,12 +54,12 @@ witness_coupons = 1
 [[response]]
 name = "removal"
 unit = "%"
-goal = "maximize"
+aim = "higher"
 
 [[response]]
 name = "attack"
 unit = "mm/yr"
-goal = "minimize"
+aim = "lower"
 """
 
 SURFACE = """
@@ -94,16 +94,16 @@ witness_coupons = 1
 [[response]]
 name = "removal"
 unit = "%"
-goal = "maximize"
-lower = 30
-upper = 90
+aim = "higher"
+unacceptable = 30
+satisfactory = 90
 
 [[response]]
 name = "attack"
 unit = "mm/yr"
-goal = "minimize"
-lower = 0.0
-upper = 0.6
+aim = "lower"
+satisfactory = 0.0
+unacceptable = 0.6
 """
 
 SWEEP = """
@@ -132,7 +132,7 @@ witness_coupons = 1
 [[response]]
 name = "removal"
 unit = "%"
-goal = "maximize"
+aim = "higher"
 """
 
 

@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from trialkit.analysis.desirability import Goal, optimize_desirability
+from trialkit.analysis.desirability import Aim, optimize_desirability
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
 from trialkit.factors import Factor
@@ -30,13 +30,14 @@ def test_desirability_tire_tread_published_optimum():
     c1 = fits["y1"].coded_coefficients.set_index("term").estimate
     assert c1["x1:x3"] == pytest.approx(ref["published_fits"]["y1"]["coefficients"]["x1:x3"],
                                         abs=0.005)
-    goals = []
+    aims = []
     for r in ref["responses"]:
-        if r["goal"] == "maximize":
-            goals.append(Goal(r["name"], "maximize", r["lower"], r["upper_target"]))
+        if r["aim"] == "higher":
+            aims.append(Aim(r["name"], "higher", r["unacceptable"], r["satisfactory"]))
         else:
-            goals.append(Goal(r["name"], "target", r["lower"], r["upper"], target=r["target"]))
-    res = optimize_desirability(fits, goals, seed=1, n_starts=8)
+            aims.append(Aim(r["name"], "on-target", tuple(r["unacceptable"]),
+                            ideal=r["ideal"]))
+    res = optimize_desirability(fits, aims, seed=1, n_tries=8)
     pub = ref["published_optimum"]
     for i, n in enumerate(("x1", "x2", "x3")):
         assert res.settings[n] == pytest.approx(pub["x"][i], abs=0.01)
@@ -51,17 +52,20 @@ def test_desirability_tire_tread_published_optimum():
 
 
 @pytest.mark.parametrize("kwargs, fragment", [
-    ({"goal": "maximise", "lower": 0, "upper": 1}, "must be one of"),
-    ({"goal": "maximize", "lower": 2, "upper": 1}, "must be below"),
-    ({"goal": "target", "lower": 0, "upper": 1}, "target goal needs"),
-    ({"goal": "minimize", "lower": 0, "upper": 1, "importance": 0}, "must be > 0"),
+    ({"aim": "maximise", "unacceptable": 0, "satisfactory": 1}, "must be one of"),
+    ({"aim": "higher", "unacceptable": 2, "satisfactory": 1}, "must lie below"),
+    ({"aim": "lower", "unacceptable": 1, "satisfactory": 2}, "must lie above"),
+    ({"aim": "on-target", "unacceptable": (0, 1)}, "on-target aim needs"),
+    ({"aim": "on-target", "unacceptable": (0, 1), "ideal": 2}, "on-target aim needs"),
+    ({"aim": "higher", "unacceptable": 0}, "one unacceptable and one satisfactory"),
+    ({"aim": "lower", "unacceptable": 1, "satisfactory": 0, "priority": 0}, "must be > 0"),
 ])
-def test_bad_goals(kwargs, fragment):
+def test_bad_aims(kwargs, fragment):
     with pytest.raises(AnalysisError, match=fragment):
-        Goal("y", **kwargs)
+        Aim("y", **kwargs)
 
 
-def test_target_desirability_shape_and_importance():
-    g = Goal("y", "target", 400, 600, target=500, weight=2, weight_upper=0.5)
+def test_on_target_desirability_shape_and_priority():
+    g = Aim("y", "on-target", (400, 600), ideal=500, shape=2, shape_above=0.5)
     np.testing.assert_allclose(g.desirability([400, 450, 500, 550, 600, 700]),
                                [0, 0.25, 1, np.sqrt(0.5), 0, 0])

@@ -51,9 +51,10 @@ def trial_folder(tmp_path):
     folder = tmp_path / "trial"
     folder.mkdir()
     text = STARTER.read_text(encoding="utf-8").replace(
-        'measure = "removal_pct"', 'measure = "removal_pct"\nlower = 40\nupper = 95').replace(
+        'measure = "removal_pct"',
+        'measure = "removal_pct"\nunacceptable = 40\nsatisfactory = 95').replace(
         'measure = "corrosion_rate_mm_per_y"',
-        'measure = "corrosion_rate_mm_per_y"\nlower = 0.0\nupper = 1.0') + (
+        'measure = "corrosion_rate_mm_per_y"\nsatisfactory = 0.0\nunacceptable = 1.0') + (
         '\n[analysis]\nmodel = "chelator + ph + surfactant"\nanova_type = 3\n')
     (folder / "trial.toml").write_text(text, encoding="utf-8")
     trial = load_trial(folder)
@@ -134,7 +135,7 @@ def test_result_objects_have_summary_html_and_json():
     import itertools
 
     from trialkit.analysis.confirm import confirm
-    from trialkit.analysis.desirability import Goal, optimize_desirability
+    from trialkit.analysis.desirability import Aim, optimize_desirability
     from trialkit.analysis.effects import two_level_effects
     from trialkit.analysis.model import fit_model
     from trialkit.analysis.reduction import reduce_model
@@ -152,9 +153,9 @@ def test_result_objects_have_summary_html_and_json():
     objects = [res, res.fit, res.fit.anova(1), res.surface, res.diagnostics,
                reduce_model(res.fit),
                fit_sweep(df[df.ph == 6.5], "removal", fs[0], n_boot=50),
-               optimize_desirability(fits, [Goal("removal", "maximize", 60, 80),
-                                            Goal("attack", "minimize", 0.1, 0.4)],
-                                     n_starts=2),
+               optimize_desirability(fits, [Aim("removal", "higher", 60, 80),
+                                            Aim("attack", "lower", 0.4, 0.1)],
+                                     n_tries=2),
                confirm(res.fit, res.optimum["settings"], [79.0, 80.5]),
                two_level_effects(corners, "removal", fs)]
     for obj in objects:
@@ -175,10 +176,10 @@ def test_trial_folder_compromise(trial_folder, capsys):
     assert 0 < d["overall_desirability"] <= 1
     for r in d["responses"]:
         assert r["pi_low"] < r["predicted"] < r["pi_high"]
-    # overall = geometric mean of the individual desirabilities weighted by importance
-    # (Derringer & Suich 1980); the starter file gives removal importance 2, attack 1
+    # overall = geometric mean of the individual desirabilities weighted by priority
+    # (Derringer & Suich 1980); the starter file gives removal priority 2, attack 1
     trial = load_trial(trial_folder)
-    weight = {f"{r.measure}_mean": r.importance for r in trial.responses}
+    weight = {f"{r.measure}_mean": r.priority for r in trial.responses}
     assert weight == {"removal_pct_mean": 2.0, "corrosion_rate_mm_per_y_mean": 1.0}
     num = sum(weight[r["response"]] * np.log(r["desirability"]) for r in d["responses"])
     expected = np.exp(num / sum(weight[r["response"]] for r in d["responses"]))

@@ -54,7 +54,7 @@ def test_best_point_on_boundary_when_stationary_point_outside():
     assert s.optimum["settings"]["chelator"] == pytest.approx(10.0)
     assert s.optimum["on_boundary"] == ["chelator"]
     assert s.kind == "ridge"  # chelator^2 coefficient is zero
-    low = fit_surface(fit_model(d, "y", FS, "quadratic", block=None), goal="minimize")
+    low = fit_surface(fit_model(d, "y", FS, "quadratic", block=None), aim="lower")
     assert low.optimum["settings"]["chelator"] == pytest.approx(2.0)
 
 
@@ -72,7 +72,7 @@ def test_optimum_region_covers_truth_in_200_simulations():
     covered = int((stat <= crit).sum())
     assert covered >= 180, f"covered {covered}/200"
     # the batched statistic equals the one-fit method for the first simulation
-    s = fit_surface(fit, n_starts=0)
+    s = fit_surface(fit, n_tries=0)
     assert s.region_statistic(TRUE_OPT)[0] == pytest.approx(stat[0], rel=1e-10)
     assert s.region_contains(TRUE_OPT) == bool(stat[0] <= crit)
 

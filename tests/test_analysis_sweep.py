@@ -73,13 +73,13 @@ def test_sweet_spot_falloff_and_bootstrap():
     df = _table(seed=9, sd=0.5)
     s = fit_sweep(df, "removal", CHELATOR, tolerance=3.0, n_boot=2000, seed=5)
     # predicted within 3 of the best from about 5 - sqrt(3/0.25) = 1.54 -> the range start
-    assert s.sweet_spot == pytest.approx(2.0, abs=0.05)
+    assert s.lean_level == pytest.approx(2.0, abs=0.05)
     assert s.falls_off and s.drop_at_high > 3.0
     assert s.boot_low < s.best < s.boot_high
     assert s.boot_high - s.boot_low < s.fieller_high - s.fieller_low + 1.0
     tight = fit_sweep(df, "removal", CHELATOR, tolerance=0.5, n_boot=0)
-    assert 2.0 < tight.sweet_spot < tight.best  # lowest level within 0.5 of the best
-    pred = tight.fit.predict(pd.DataFrame({"chelator": [tight.sweet_spot]})).predicted[0]
+    assert 2.0 < tight.lean_level < tight.best  # lowest level within 0.5 of the best
+    pred = tight.fit.predict(pd.DataFrame({"chelator": [tight.lean_level]})).predicted[0]
     assert pred >= tight.optimum["predicted"] - 0.5 - 1e-6
     curve = s.grid(n=21)
     assert len(curve) == 21 and (curve.pi_low < curve.ci_low).all()

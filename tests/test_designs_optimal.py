@@ -26,12 +26,12 @@ def _cont(k):
 
 
 # -- known optimal designs -----------------------------------------------------------
-@pytest.mark.parametrize("k, runs, starts", [(3, 8, 3), (4, 12, 5), (5, 16, 5), (7, 12, 5)])
-def test_first_order_d_optimal_is_orthogonal_two_level(k, runs, starts):
+@pytest.mark.parametrize("k, runs, tries", [(3, 8, 3), (4, 12, 5), (5, 16, 5), (7, 12, 5)])
+def test_first_order_d_optimal_is_orthogonal_two_level(k, runs, tries):
     # from memory (e.g. Atkinson, Donev & Tobias, Optimum Experimental Designs, ch. 11):
     # for a first-order model on the cube with n a multiple of 4, an orthogonal two-level
     # design (a Hadamard/Plackett-Burman matrix) is D-optimal, X'X = n I, D-eff 100 %
-    res = optimal_design(_cont(k), runs, model="main", starts=starts, seed=1)
+    res = optimal_design(_cont(k), runs, model="main", tries=tries, seed=1)
     assert res.d_efficiency == pytest.approx(100.0, abs=1e-9)
     assert set(np.unique(res.coded.to_numpy())) == {-1.0, 1.0}
     X = pw.DesignModel.from_spec("main", _cont(k)).expand(res.coded.to_numpy())
@@ -81,7 +81,7 @@ def test_same_seed_same_design_and_replicates_allowed():
 
 def test_never_singular_where_grid_order_greedy_starts_fail():
     # 5 factors, full quadratic (21 coefficients), 27 runs: a non-singular design
-    res = optimal_design(_cont(5), 27, model="quadratic", starts=2, seed=1)
+    res = optimal_design(_cont(5), 27, model="quadratic", tries=2, seed=1)
     X = pw.DesignModel.from_spec("quadratic", _cont(5)).expand(res.coded.to_numpy())
     assert np.linalg.matrix_rank(X) == 21
     assert res.d_efficiency > 40.0
@@ -90,13 +90,14 @@ def test_never_singular_where_grid_order_greedy_starts_fail():
 # -- constraints, disallowed combinations, fixed runs, augmentation --------------------
 @settings(max_examples=10, deadline=None, derandomize=True,
           suppress_health_check=[HealthCheck.too_slow])
-@given(intercept=st.floats(4.5, 6.5), slope=st.floats(-0.3, 0.3),
-       upper=st.floats(7.0, 12.0))
+@given(intercept=st.floats(4.5, 5.5), slope=st.floats(-0.3, 0.1),
+       upper=st.floats(9.5, 12.0))
 def test_every_run_meets_the_constraints(intercept, slope, upper):
     # the centre (chelator 6, ph 6.5) meets both constraints for all drawn values
+    # (6.5 >= 5.5 + 0.1*6 and 6 + 0.5*6.5 <= 9.5), so the region holds a design
     cons = [f"ph >= {intercept!r} + {slope!r}*chelator", f"chelator + 0.5*ph <= {upper!r}"]
     res = optimal_design((CHELATOR, PH), 6, model="interactions", constraints=cons,
-                         starts=1, seed=0)
+                         tries=1, seed=0)
     nat = pd.DataFrame({"chelator": CHELATOR.to_natural(res.coded.chelator.to_numpy()),
                         "ph": PH.to_natural(res.coded.ph.to_numpy())})
     tol = 1e-7
@@ -126,7 +127,7 @@ def test_infeasible_constraints_give_a_clear_error():
 
 def test_disallowed_combinations_never_appear():
     res = optimal_design((TEMP, SURF), 10, model="interactions",
-                         disallow=[{"surfactant": "added", "temperature": [40, 50]}], seed=1)
+                         cannot_mix=[{"surfactant": "added", "temperature": [40, 50]}], seed=1)
     temp = TEMP.to_natural(res.coded.temperature.to_numpy())
     bad = (res.coded.surfactant == "added") & (temp >= 40 - 1e-9)
     assert not bad.any()
@@ -137,8 +138,8 @@ def test_fixed_runs_stay_and_augmentation_beats_the_three_level_factorial():
     # factorial is one such augmentation, so the optimum is at least as good
     corners = pd.DataFrame(list(itertools.product([-1.0, 1.0], repeat=2)),
                            columns=["chelator", "ph"])
-    res = optimal_design((CHELATOR, PH), 5, model="quadratic", existing=corners,
-                         starts=10, seed=3)
+    res = optimal_design((CHELATOR, PH), 5, model="quadratic", runs_done=corners,
+                         tries=10, seed=3)
     pd.testing.assert_frame_equal(res.coded.iloc[:4].reset_index(drop=True), corners)
     assert res.new.tolist() == [False] * 4 + [True] * 5
     dm = pw.DesignModel.from_spec("quadratic", (CHELATOR, PH))
@@ -165,9 +166,9 @@ def test_build_optimal_from_trial_file_options(tmp_path):
 runs = 10
 model = "quadratic"
 criterion = "D"
-starts = 4
+tries = 4
 constraints = ["ph >= 5 + 0.2*chelator"]
-fixed = [{chelator = 6, ph = 7, surfactant = "none"}]
+keep_runs = [{chelator = 6, ph = 7, surfactant = "none"}]
 """)
     d = build_optimal((CHELATOR, PH, SURF), opts, seed=8)
     assert d.kind == "optimal" and len(d.coded) == 11 and set(d.point) == {"optimal"}
@@ -175,7 +176,7 @@ fixed = [{chelator = 6, ph = 7, surfactant = "none"}]
     nat_c, nat_p = CHELATOR.to_natural(d.coded.chelator.to_numpy()), \
         PH.to_natural(d.coded.ph.to_numpy())
     assert np.all(nat_p >= 5 + 0.2 * nat_c - 1e-9)
-    assert any("fixed in advance" in n for n in d.notes)
+    assert any("to keep are included" in n for n in d.notes)
 
 
 def test_build_optimal_augments_an_earlier_plan_csv(tmp_path):
@@ -185,7 +186,7 @@ def test_build_optimal_augments_an_earlier_plan_csv(tmp_path):
                             "ph": [5, 5, 8, 8, np.nan]})
     (tmp_path / "first").mkdir()
     earlier.to_csv(tmp_path / "first" / "plan.csv", index=False)
-    opts = _design_options(tmp_path, 'runs = 5\naugment = "first/plan.csv"\n')
+    opts = _design_options(tmp_path, 'runs = 5\nruns_done = "first/plan.csv"\n')
     d = build_optimal((CHELATOR, PH), opts, seed=1, folder=tmp_path)
     assert len(d.coded) == 5                       # only the new runs
     assert any("earlier plan" in n for n in d.notes)
@@ -198,13 +199,13 @@ criterion = "A"
 grid = 1
 model = "chelator + acid"
 constraints = ["ph >= chelator*chelator", "ph > 4 +"]
-disallow = [{colour = "red"}]
+cannot_mix = [{colour = "red"}]
 """)
     report = ProblemReport("trial.toml")
     check_optimal_options((CHELATOR, PH), opts, report, "design")
     checks = report.checks()
     for code in ("unknown_option", "missing_runs", "bad_criterion", "bad_integer",
-                 "bad_model", "bad_constraints", "bad_disallow"):
+                 "bad_model", "bad_constraints", "bad_cannot_mix"):
         assert code in checks, code
     assert checks.count("bad_constraints") == 2
     with pytest.raises(DesignError) as err:
@@ -217,5 +218,5 @@ def test_categorical_and_ordinal_factors_saturated_model_uses_every_cell():
     # 9 runs can only estimate them if every cell is run once (design algebra)
     fs = (Factor.categorical("metal", ["mild", "cast", "wrought"]),
           Factor.ordinal("agitation", ["still", "slow", "fast"]))
-    res = optimal_design(fs, 9, model="interactions", starts=3, seed=1)
+    res = optimal_design(fs, 9, model="interactions", tries=3, seed=1)
     assert len(res.coded.drop_duplicates()) == 9

@@ -91,7 +91,7 @@ CASES = [
         "temperature", f"t{i}") for i in range(4)),
      'kind = "fractional-factorial"\nresolution = 4', "no_tabulated_design"),
     ("lhs_runs", HEAD, 'kind = "latin-hypercube"\nruns = 1', "runs_invalid"),
-    ("lhs_crit", HEAD, 'kind = "latin-hypercube"\ncriterion = "maxmin"', "criterion_invalid"),
+    ("lhs_spread", HEAD, 'kind = "latin-hypercube"\nspread = "widest"', "spread_invalid"),
 ]
 
 
@@ -154,7 +154,7 @@ def test_all_problems_collected_at_once(tmp_path):
     ("central-composite", {"alpha": "inscribed"}),
     ("box-behnken", {}),
     ("sweep", {"factor": "ph", "count": 5, "spacing": "geometric"}),
-    ("latin-hypercube", {"runs": 12, "criterion": "maximin", "iterations": 3}),
+    ("latin-hypercube", {"runs": 12, "spread": "widest-gaps", "iterations": 3}),
 ])
 def test_valid_options_give_no_problem(tmp_path, kind, options):
     factors = _factors(tomllib.loads(HEAD))

@@ -56,12 +56,13 @@ def test_lhs_seeded_and_reproducible():
 
 @settings(max_examples=40, deadline=None, derandomize=True)
 @given(k=st.integers(1, 4), runs=st.integers(2, 30), seed=st.integers(0, 2 ** 31),
-       criterion=st.sampled_from([None, "center", "maximin", "correlation"]))
-def test_property_lhs_one_point_per_stratum(k, runs, seed, criterion):
+       spread=st.sampled_from([None, "cell-centres", "widest-gaps", "centred-gaps",
+                               "least-correlated"]))
+def test_property_lhs_one_point_per_stratum(k, runs, seed, spread):
     # McKay, Beckman & Conover (1979): each of the runs equal strata of every factor
     # holds exactly one point
     fs = [Factor.continuous(f"x{i}", -3.0, 7.0) for i in range(k)]
-    opts = {"runs": runs} | ({"criterion": criterion} if criterion else {})
+    opts = {"runs": runs} | ({"spread": spread} if spread else {})
     d = build_design(fs, "latin-hypercube", opts, seed=seed)
     nat = d.natural().to_numpy()
     assert nat.min() >= -3.0 and nat.max() <= 7.0
@@ -83,12 +84,12 @@ def test_pydoe3_fault_correlation_criterion_one_factor():
     # pyDOE3 1.6.2 lhs(criterion="correlation") fails with one factor (no correlations)
     with pytest.raises(ValueError):
         lhs(1, samples=3, criterion="correlation", seed=1)
-    d = build_design([CHEL], "latin-hypercube", {"runs": 3, "criterion": "correlation"},
+    d = build_design([CHEL], "latin-hypercube", {"runs": 3, "spread": "least-correlated"},
                      seed=1)
     assert d.n_points == 3
 
 
-def test_correlation_criterion_lowers_correlation():
+def test_least_correlated_spread_lowers_correlation():
     fs = [Factor.continuous(f"x{i}", 0, 1) for i in range(3)]
 
     def worst(d):
@@ -97,6 +98,6 @@ def test_correlation_criterion_lowers_correlation():
 
     plain = build_design(fs, "latin-hypercube", {"runs": 10}, seed=11)
     best = build_design(fs, "latin-hypercube",
-                        {"runs": 10, "criterion": "correlation", "iterations": 50}, seed=11)
+                        {"runs": 10, "spread": "least-correlated", "iterations": 50}, seed=11)
     # the first candidate of the search is the plain design drawn from the same seed
     assert worst(best) <= worst(plain)

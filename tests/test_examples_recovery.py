@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from trialkit.analysis.desirability import Goal, optimize_desirability
+from trialkit.analysis.desirability import Aim, optimize_desirability
 from trialkit.analysis.model import fit_model
 from trialkit.analysis.pipeline import analyze_table
 from trialkit.analysis.surface import fit_surface
@@ -62,7 +62,7 @@ def test_sweep_time_to_clean_interval_covers_true_chelator_optimum():
     plan, table = bath_table("chelator-sweep")
     chel = plan.trial.factors[0]
     res = analyze_table(table, "time_to_clean", plan.trial.factors, sweep=chel.name,
-                        goal="minimize", alpha=ALPHA, n_boot=0)
+                        aim="lower", alpha=ALPHA, n_boot=0)
     sw = res.sweep
     assert sw.fieller_bounded
     assert sw.fieller_low < sc.truth.chelator_optimum < sw.fieller_high
@@ -113,7 +113,7 @@ def test_surface_removal_optimum_interval_covers_true_optimum(surface):
     true = truth.best_on_grid(bounds, lambda t, x: t.removal_pct(x, 8.0),
                               points=121)["conditions"]
     fit = fit_model(table, "removal", plan.trial.factors, "quadratic", alpha=ALPHA)
-    res = fit_surface(fit, goal="maximize", n_boot=400, seed=plan.trial.seed)
+    res = fit_surface(fit, aim="higher", n_boot=400, seed=plan.trial.seed)
     boot = res.bootstrap.set_index("factor")
     for name, value in true.items():
         lo, hi = boot.loc[name, "low"], boot.loc[name, "high"]
@@ -140,8 +140,8 @@ def test_surface_desirability_compromise_is_nearly_as_good_as_the_truth(surface)
     best = truth.best_on_grid(bounds, surface_desirability, points=121)
     fits = {r: fit_model(table, r, plan.trial.factors, "quadratic") for r in ("removal",
                                                                               "attack")}
-    goals = [Goal("removal", "maximize", lower=50.0, upper=90.0),
-             Goal("attack", "minimize", lower=0.05, upper=0.30)]
-    res = optimize_desirability(fits, goals, seed=plan.trial.seed, n_starts=4)
+    aims = [Aim("removal", "higher", unacceptable=50.0, satisfactory=90.0),
+            Aim("attack", "lower", unacceptable=0.30, satisfactory=0.05)]
+    res = optimize_desirability(fits, aims, seed=plan.trial.seed, n_tries=4)
     assert surface_desirability(truth, res.settings) >= 0.95 * best["score"]
     assert abs(res.settings["ph"] - best["conditions"]["ph"]) <= 0.25

@@ -152,7 +152,7 @@ def test_05_surface_optimum_interval_covers_the_truth_and_cost_pulls_cheaper(tmp
     for name, value in true.items():
         lo, hi = r["removal_interval"][name]
         assert lo - 1e-9 <= value <= hi + 1e-9, (name, value, lo, hi)
-    # adding cost as a goal moves the compromise to less chelator and a cheaper bath
+    # adding cost as a aim moves the compromise to less chelator and a cheaper bath
     assert r["compromise_three"]["chelator"] < r["compromise_two"]["chelator"]
     assert r["cost_at_three"] < r["cost_at_two"]
     page = (tmp_path / r["report"]).read_text(encoding="utf-8")

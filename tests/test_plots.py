@@ -94,17 +94,24 @@ def test_interaction_draws_one_line_per_level(screening):
     assert "depend on ph" in ax.get_title()
 
 
-def test_pareto_bars_and_margin_line(screening):
+def test_effect_margins_dots_in_alias_order_with_both_margins(screening):
     eff = screening.effects["removal"]
-    ax = plots.pareto(eff)
-    widths = [p.get_width() for p in ax.patches]
-    assert widths == pytest.approx(sorted(eff.summary.standardized.abs()))
-    assert len(widths) == 7  # 2^3 full factorial: 7 effects
-    vline = [ln for ln in ax.lines if ln.get_linestyle() == "--"][0]
-    assert vline.get_xdata()[0] == pytest.approx(eff.lenth.me / eff.lenth.pse)
-    top = [t.get_text() for t in ax.get_yticklabels()][-1]
-    assert top == "chelator"  # largest effect of the invented truth (30 points)
-    assert "no unit" in ax.get_xlabel()
+    ax = plots.effect_margins(eff, unit="%")
+    dots = [ln for ln in ax.lines if ln.get_marker() in ("o", "D")]
+    xs = np.concatenate([ln.get_xdata() for ln in dots])
+    assert sorted(xs) == pytest.approx(sorted(eff.summary.effect))  # signed, every effect
+    assert len(xs) == 7  # 2^3 full factorial: 7 effects
+    labels = [t.get_text() for t in ax.get_yticklabels()]
+    assert labels == list(eff.summary.sort_values("alias_order").term)
+    assert labels[:3] == ["chelator", "ph", "surfactant"]  # main effects first, on top
+    dashed = sorted(abs(ln.get_xdata()[0]) for ln in ax.lines if ln.get_linestyle() == "--")
+    dotted = sorted(abs(ln.get_xdata()[0]) for ln in ax.lines if ln.get_linestyle() == ":")
+    assert dashed == pytest.approx([eff.lenth.me] * 2)
+    assert dotted == pytest.approx([eff.lenth.sme] * 2)
+    clear = [ln for ln in dots if ln.get_marker() == "D"][0]
+    assert set(np.abs(clear.get_xdata())) == set(
+        eff.summary.abs_effect[eff.summary.significant_simultaneous])
+    assert ax.get_xlabel() == "effect on removal (high minus low) (%)"
 
 
 def test_half_normal_points_and_lenth_margin(screening):
@@ -188,7 +195,7 @@ def test_sweep_curve_band_means_best_and_sweet_spot(sweep):
     best = [ln for ln in ax.lines if ln.get_linestyle() == "--"][0]
     spot = [ln for ln in ax.lines if ln.get_linestyle() == ":"][0]
     assert best.get_xdata()[0] == pytest.approx(res.best)
-    assert spot.get_xdata()[0] == pytest.approx(res.sweet_spot)
+    assert spot.get_xdata()[0] == pytest.approx(res.lean_level)
     assert spot.get_xdata()[0] <= best.get_xdata()[0]
     assert ax.get_ylabel() == "removal (%)" and ax.get_xlabel() == "chelator (% w/v)"
     assert any(isinstance(c, PolyCollection) for c in ax.collections)
@@ -221,11 +228,11 @@ def test_desirability_contour_marks_best_compromise(surface):
     assert star.get_xdata()[0] == pytest.approx(res.settings["chelator"])
     assert star.get_ydata()[0] == pytest.approx(res.settings["ph"])
     assert ax.figure.axes[-1].get_ylabel() == "desirability (0 to 1)"
-    assert "every goal" in ax.get_title()
+    assert "every aim" in ax.get_title()
 
 
 def test_save_png_and_svg(tmp_path, screening):
-    ax = plots.pareto(screening.effects["removal"])
+    ax = plots.effect_margins(screening.effects["removal"])
     png = plots.save(ax, tmp_path / "p.png").read_bytes()
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
     svg = plots.save(ax, tmp_path / "p.svg").read_text()
@@ -235,8 +242,8 @@ def test_save_png_and_svg(tmp_path, screening):
 
 
 def test_wrong_object_is_a_clear_error():
-    with pytest.raises(plots.PlotError, match="pareto needs an object with"):
-        plots.pareto(object())
+    with pytest.raises(plots.PlotError, match="effect_margins needs an object with"):
+        plots.effect_margins(object())
 
 
 def test_palette_is_okabe_ito():
@@ -264,8 +271,9 @@ def test_every_figure_on_each_trial(kind):
         for ax in fig.axes:
             assert "(" in ax.get_xlabel()
         if name in data.effects:
-            ax = plots.pareto(data.effects[name])
-            assert len(ax.patches) == len(data.effects[name].summary)
+            ax = plots.effect_margins(data.effects[name])
+            n_dots = sum(len(ln.get_xdata()) for ln in ax.lines if ln.get_marker() in "oD")
+            assert n_dots == len(data.effects[name].summary)
             ax = plots.half_normal(data.effects[name], unit=unit)
             assert len(ax.lines) == 3
         if name in data.surfaces and len(data.surfaces[name].factors) >= 2:

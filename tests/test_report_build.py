@@ -61,9 +61,9 @@ def test_surface_recommendation_is_the_desirability_optimum():
 def test_sweep_recommends_the_practical_sweet_spot():
     data, _ = rt.analysed("sweep")
     rec = rt.report_of("sweep").data["recommendation"]
-    assert rec["settings"] == {"chelator": pytest.approx(data.sweeps["removal"].sweet_spot)}
+    assert rec["settings"] == {"chelator": pytest.approx(data.sweeps["removal"].lean_level)}
     text = " ".join(f["text"] for f in rt.report_of("sweep").findings)
-    assert f"{data.sweeps['removal'].sweet_spot:.3g} % w/v" in text
+    assert f"{data.sweeps['removal'].lean_level:.3g} % w/v" in text
 
 
 @pytest.mark.parametrize("kind", rt.ALL_KINDS)
@@ -160,8 +160,8 @@ def test_jupyter_repr_is_a_fragment():
 
 # -- the record log path: readings, revisions, missing values, flagged values ----------
 LOGGED = rt.SCREENING \
-    .replace('goal = "maximize"\n', 'goal = "maximize"\nmeasure = "removal_pct"\n') \
-    .replace('goal = "minimize"\n', 'goal = "minimize"\nmeasure = "corrosion_rate_mm_per_y"\n') \
+    .replace('aim = "higher"\n', 'aim = "higher"\nmeasure = "removal_pct"\n') \
+    .replace('aim = "lower"\n', 'aim = "lower"\nmeasure = "corrosion_rate_mm_per_y"\n') \
     + '\n[coupons]\nshape = "plate"\nlength = 50\nwidth = 25\nthickness = 2\n'
 BAD = "B03-R1"  # coverage after 130 % of the area: impossible, must be flagged
 

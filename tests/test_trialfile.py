@@ -34,7 +34,7 @@ witness_coupons = 1
 [[response]]
 name = "removal"
 unit = "%"
-goal = "maximize"
+aim = "higher"
 """
 
 
@@ -56,7 +56,7 @@ def test_good_file_loads(tmp_path):
     assert trial.factors[0].unit == "% w/v"
     assert trial.factors[1].kind == "categorical"
     assert trial.layout.replicates == 2 and trial.layout.witness_coupons == 1
-    assert trial.responses[0].goal == "maximize"
+    assert trial.responses[0].aim == "higher"
     # a trial folder works as well as the file
     assert load_trial(tmp_path).title == "Sweep"
 
@@ -71,7 +71,7 @@ CASES = [
     ("bad-design-kind", ('kind = "full-factorial"', 'kind = "full-factorail"'),
      "bad_design_kind", "full-factorial"),
     ("missing-seed", ("seed = 3", ""), "missing_seed", "seed"),
-    ("bad-goal", ('goal = "maximize"', 'goal = "maximise"'), "bad_goal", "maximize"),
+    ("bad-aim", ('aim = "higher"', 'aim = "maximise"'), "bad_aim", "higher"),
     ("bad-control", ("witness_coupons = 1", 'controls = ["water"]'), "bad_control", "untreated"),
     ("one-level", ('levels = ["none", "added"]', 'levels = ["none"]'), "too_few_levels", "two"),
     ("text-number", ("high = 10.0", 'high = "10"'), "not_number", "number"),
@@ -91,11 +91,49 @@ def test_each_mistake_is_reported(tmp_path, case):
     assert str(tmp_path / "trial.toml") in text  # names the file
 
 
+# Issue 12: a trial file written with the retired multi-response words is refused with a
+# one-line hint naming the new key or value (never silently accepted).
+RETIRED = [
+    ('aim = "higher"', 'goal = "maximize"', "retired_key", "aim ="),
+    ('aim = "higher"', 'aim = "maximize"', "bad_aim", '"higher"'),
+    ('aim = "higher"', 'aim = "higher"\nlower = 50', "retired_key", "unacceptable ="),
+    ('aim = "higher"', 'aim = "higher"\nupper = 90', "retired_key", "satisfactory ="),
+    ('aim = "higher"', 'aim = "higher"\nimportance = 2', "retired_key", "priority ="),
+    ('aim = "higher"', 'aim = "higher"\nweight = 2', "retired_key", "shape ="),
+    ('aim = "higher"', 'aim = "on-target"\ntarget = 5', "retired_key", "ideal ="),
+]
+
+
+@pytest.mark.parametrize("old, new, check, hint", RETIRED, ids=[r[1] for r in RETIRED])
+def test_retired_response_words_name_the_new_ones(tmp_path, old, new, check, hint):
+    report = problems_of(write(tmp_path, GOOD.replace(old, new, 1)))
+    assert check in report.checks()
+    assert hint in str(report) and "renamed" in str(report)
+
+
+def test_aim_limits_are_read_and_checked(tmp_path):
+    good = GOOD.replace('aim = "higher"', 'aim = "higher"\nunacceptable = 40\n'
+                        'satisfactory = 90\nshape = 2\npriority = 3')
+    spec = load_trial(write(tmp_path, good)).responses[0]
+    assert (spec.unacceptable, spec.satisfactory, spec.shape, spec.priority) == (40, 90, 2, 3)
+    assert spec.is_wanted and spec.has_limits
+    reversed_limits = good.replace("unacceptable = 40", "unacceptable = 95")
+    assert "limits_reversed" in problems_of(write(tmp_path, reversed_limits)).checks()
+    on_target = GOOD.replace('aim = "higher"', 'aim = "on-target"\nideal = 6.5\n'
+                             'unacceptable = [5.5, 7.5]')
+    spec = load_trial(write(tmp_path, on_target)).responses[0]
+    assert spec.unacceptable == (5.5, 7.5) and spec.ideal == 6.5
+    outside = on_target.replace("ideal = 6.5", "ideal = 8")
+    assert "ideal_outside_limits" in problems_of(write(tmp_path, outside)).checks()
+    one_limit = on_target.replace("[5.5, 7.5]", "5.5")
+    assert "bad_unacceptable" in problems_of(write(tmp_path, one_limit)).checks()
+
+
 def test_all_problems_at_once(tmp_path):
     bad = (GOOD.replace("low = 2.0", "low = 12.0").replace("replicates = 2", "replicats = 2")
-           .replace('goal = "maximize"', 'goal = "most"'))
+           .replace('aim = "higher"', 'aim = "most"'))
     report = problems_of(write(tmp_path, bad))
-    assert {"low_not_below_high", "unknown_key", "bad_goal"} <= set(report.checks())
+    assert {"low_not_below_high", "unknown_key", "bad_aim"} <= set(report.checks())
     table = report.table()
     assert list(table.columns[:4]) == ["source", "where", "row", "column"]
     assert "layout.replicats" in table["where"].tolist()

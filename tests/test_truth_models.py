@@ -97,10 +97,10 @@ def test_bad_conditions_are_refused(values, match):
 
 def test_one_sided_desirability_is_the_linear_ramp():
     # Derringer & Suich (1980), exponent 1: d = (y - L)/(U - L) for maximise, clipped to 0..1
-    assert one_sided_desirability(70, 50, 90, "maximize") == pytest.approx(0.5)
-    assert one_sided_desirability(40, 50, 90, "maximize") == 0.0
-    assert one_sided_desirability(0.10, 0.05, 0.30, "minimize") == pytest.approx(0.8)
-    assert one_sided_desirability(0.5, 0.05, 0.30, "minimize") == 0.0
+    assert one_sided_desirability(70, 50, 90, "higher") == pytest.approx(0.5)
+    assert one_sided_desirability(40, 50, 90, "higher") == 0.0
+    assert one_sided_desirability(0.10, 0.05, 0.30, "lower") == pytest.approx(0.8)
+    assert one_sided_desirability(0.5, 0.05, 0.30, "lower") == 0.0
     with pytest.raises(SimulationError):
         one_sided_desirability(1, 0, 2, "target")
 

@@ -109,7 +109,7 @@ _EXPORTS: dict[str, str] = {
     "SurfaceResult": "trialkit.analysis",
     "fit_sweep": "trialkit.analysis",
     "SweepResult": "trialkit.analysis",
-    "Goal": "trialkit.analysis",
+    "Aim": "trialkit.analysis",
     "optimize_desirability": "trialkit.analysis",
     "DesirabilityResult": "trialkit.analysis",
     "ConfirmationResult": "trialkit.analysis",

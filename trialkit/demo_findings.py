@@ -52,7 +52,7 @@ def analyse_demo_trial(plan: Any, responses: Any, *, alpha: float = ALPHA,
     cont = [f for f in trial.factors if f.is_continuous]
     out: dict = {}
     for spec in trial.responses:
-        if spec.goal not in ("maximize", "minimize") or spec.name not in table:
+        if spec.aim not in ("higher", "lower") or spec.name not in table:
             continue
         if table[spec.name].notna().sum() < 3:
             out[spec.name] = {"error": "fewer than three baths have a value"}
@@ -60,12 +60,12 @@ def analyse_demo_trial(plan: Any, responses: Any, *, alpha: float = ALPHA,
         try:
             if kind == "sweep":
                 res = analyze_table(table, spec.name, trial.factors, sweep=cont[0].name,
-                                    goal=spec.goal, alpha=alpha, n_boot=0,
+                                    aim=spec.aim, alpha=alpha, n_boot=0,
                                     seed=int(trial.seed or 0))
                 sw = res.sweep
                 out[spec.name] = {"factor": sw.factor.name, "best": float(sw.best),
                                   "interval": [float(sw.fieller_low), float(sw.fieller_high)],
-                                  "sweet_spot": float(sw.sweet_spot)}
+                                  "lean_level": float(sw.lean_level)}
             elif kind in TWO_LEVEL_KINDS:
                 fit = fit_model(table, spec.name, trial.factors, "main", alpha=alpha)
                 p = fit.anova(2).summary.set_index("term")["p"]
@@ -74,7 +74,7 @@ def analyse_demo_trial(plan: Any, responses: Any, *, alpha: float = ALPHA,
                                   "active": [k for k, v in p.items() if v < alpha]}
             else:
                 res = analyze_table(table, spec.name, trial.factors, model="quadratic",
-                                    goal=spec.goal, alpha=alpha, n_boot=n_boot,
+                                    aim=spec.aim, alpha=alpha, n_boot=n_boot,
                                     seed=int(trial.seed or 0))
                 if res.surface is None:
                     out[spec.name] = {"error": "no second-order surface could be fitted"}

@@ -49,7 +49,7 @@ Examples
 ...                      "surfactant": ["none", "added", "none"]})
 >>> mm = model_matrix(parse_model("chelator + surfactant", fs), data)
 >>> mm.columns
-('intercept', 'chelator', 'surfactant[none]')
+('intercept', 'chelator', 'surfactant = none')
 >>> mm.X[:, 2].tolist()
 [1.0, -1.0, 1.0]
 """
@@ -73,6 +73,8 @@ KEYWORDS = {"main": "main", "linear": "main", "interactions": "interactions",
 CODINGS = ("sum", "treatment")
 INTERCEPT = "intercept"
 
+#: Between a categorical factor and its level in a model column name.
+LEVEL_SEPARATOR = " = "
 _NAME = re.compile(r"[A-Za-z_][A-Za-z0-9_.]*")
 
 
@@ -184,7 +186,7 @@ class ModelMatrix:
     X : ndarray, shape (n_rows, n_columns)
         Intercept column first.
     columns : tuple of str
-        Column names (``"intercept"``, ``"chelator"``, ``"surfactant[none]"`` ...).
+        Column names (``"intercept"``, ``"chelator"``, ``"surfactant = none"`` ...).
     term_columns : dict
         Term name (and ``"intercept"``) -> slice of columns of ``X``.
     spec : ModelSpec
@@ -410,13 +412,22 @@ def _factor_block(factor: Factor, column: pd.Series, coding: str,
         for j in range(k - 1):
             block[:, j] = (idx == j).astype(float)
         block[idx == k - 1, :] = -1.0
-        names = [f"{factor.name}[{lv}]" for lv in levels[:-1]]
+        names = [level_label(factor.name, lv) for lv in levels[:-1]]
     else:
         block = np.zeros((len(labels), k - 1))
         for j in range(1, k):
             block[:, j - 1] = (idx == j).astype(float)
-        names = [f"{factor.name}[{lv}]" for lv in levels[1:]]
+        names = [level_label(factor.name, lv) for lv in levels[1:]]
     return block, names
+
+
+def level_label(factor: str, level: object) -> str:
+    """Name of the model column of one level of a categorical factor.
+
+    >>> level_label("surfactant", "none")
+    'surfactant = none'
+    """
+    return f"{factor}{LEVEL_SEPARATOR}{level}"
 
 
 def model_matrix(spec: ModelSpec, data: pd.DataFrame, *, coding: str = "sum",

@@ -187,26 +187,48 @@ def interaction(result, x: str | None = None, trace: str | None = None, *, unit:
 
 
 # -- effects of two-level designs -----------------------------------------------------
-def pareto(effects, *, ax: Axes | None = None) -> Axes:
-    """Standardized effects (effect / Lenth's PSE), largest on top, with the margin line.
+def effect_margins(effects, *, unit: str = "", ax: Axes | None = None) -> Axes:
+    """Signed effects as dots, in the order of the alias table, against Lenth's margins.
+
+    Lenth (1989) frames an unreplicated screen by two margins around zero: the margin of
+    error ME (for one effect at a time) and the simultaneous margin of error SME (for all
+    effects together).  Both are drawn as bands; an effect's marker says which it passes:
+    open circle (neither), filled circle (ME only), filled diamond (both).
 
     ``effects``: :class:`trialkit.analysis.effects.EffectsResult`.
     """
-    _need(effects, ("summary", "lenth", "pareto_line"), "pareto")
-    df = effects.summary.sort_values("abs_effect", kind="mergesort")
-    ax = _ax(ax, (6.0, max(2.5, 0.32 * len(df) + 1.2)))
+    _need(effects, ("summary", "lenth"), "effect_margins")
+    df = effects.summary.sort_values("alias_order", kind="mergesort")
+    lr = effects.lenth
+    ax = _ax(ax, (6.0, max(2.5, 0.32 * len(df) + 1.4)))
     _style(ax)
-    colours = [VERMILION if s else SKY for s in df.significant]
-    y = np.arange(len(df))
-    ax.barh(y, df.standardized.abs(), color=colours, edgecolor=BLACK, lw=0.5)
+    y = -np.arange(len(df), dtype=float)  # first alias-table entry on top
+    ax.axvspan(-lr.sme, lr.sme, color=SKY, alpha=0.12, lw=0)
+    ax.axvspan(-lr.me, lr.me, color=SKY, alpha=0.25, lw=0)
+    for edge, ls, what in ((lr.me, "--", "margin of error ME"),
+                           (lr.sme, ":", "simultaneous margin SME")):
+        ax.axvline(-edge, color=BLACK, ls=ls, lw=1.0)
+        ax.axvline(edge, color=BLACK, ls=ls, lw=1.0,
+                   label=f"± {what}: {edge:.3g}{' ' + pretty(unit) if unit else ''}")
+    ax.axvline(0.0, color=BLACK, lw=0.6)
+    eff = df.effect.to_numpy(float)
+    me_only = df.significant.to_numpy(bool) & ~df.significant_simultaneous.to_numpy(bool)
+    both = df.significant_simultaneous.to_numpy(bool)
+    neither = ~(me_only | both)
+    ax.plot(eff[neither], y[neither], ls="none", marker="o", mfc="white", mec=BLACK,
+            label="within ME (not shown to matter)")
+    ax.plot(eff[me_only], y[me_only], ls="none", marker="o", color=ORANGE, mec=BLACK,
+            label="beyond ME only (likely)")
+    ax.plot(eff[both], y[both], ls="none", marker="D", color=VERMILION, mec=BLACK,
+            label="beyond SME too (clear)")
     ax.set_yticks(y, list(df.term))
-    line = effects.pareto_line
-    ax.axvline(line, color=BLACK, ls="--", lw=1.2,
-               label=f"margin of error ({1 - effects.lenth.alpha:.0%}): {line:.2f}")
-    ax.set_xlabel("|effect| / Lenth's pseudo standard error (no unit)")
-    ax.set_ylabel("effect (alias chain)")
-    ax.set_title(f"Which effects on {effects.response} stand out from the noise")
-    ax.legend(fontsize=8, loc="lower right")
+    reach = max(float(np.abs(eff).max()), lr.sme) * 1.15
+    ax.set_xlim(-reach, reach)
+    ax.set_ylim(y[-1] - 0.8, 0.8)
+    ax.set_xlabel(label(f"effect on {effects.response} (high minus low)", unit))
+    ax.set_title(f"Which effects on {effects.response} stand out from the noise "
+                 f"(Lenth, {1 - lr.alpha:.0%})")
+    ax.legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     return ax
 
 
@@ -358,13 +380,13 @@ def desirability_contour(view, x: str | None = None, y: str | None = None, *,
     ``view``: a ``DesirabilityResult`` (``x``, ``y`` choose the factors) or a SurfaceView.
     """
     v = _surface(view, x, y)
-    return contour(v, ax=ax, title=f"How well each setting meets every goal at once "
+    return contour(v, ax=ax, title=f"How well each setting meets every aim at once "
                                    f"(desirability over {v.x} and {v.y})")
 
 
 # -- sweeps and kinetics --------------------------------------------------------------
 def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
-    """Fitted sweep curve with its 95 % band, bath means, best level and sweet spot.
+    """Fitted sweep curve with its 95 % band, bath means, best level and lean level.
 
     ``view``: a :class:`trialkit.analysis.sweep.SweepResult` or a SweepView.
     """
@@ -372,7 +394,7 @@ def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
         from trialkit.report.surfaces import as_sweep_view
 
         view = as_sweep_view(view, unit=unit)
-    _need(view, ("curve", "observed", "best", "sweet_spot", "factor"), "sweep")
+    _need(view, ("curve", "observed", "best", "lean_level", "factor"), "sweep")
     ax = _ax(ax)
     _style(ax)
     c = view.curve
@@ -383,9 +405,9 @@ def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
             label="bath means")
     ax.axvline(view.best, color=VERMILION, ls="--",
                label=f"best: {view.best:.3g} {view.factor_unit}".rstrip())
-    if view.sweet_spot is not None:
-        ax.axvline(view.sweet_spot, color=GREEN, ls=":", lw=2,
-                   label=f"sweet spot: {view.sweet_spot:.3g} {view.factor_unit}".rstrip())
+    if view.lean_level is not None:
+        ax.axvline(view.lean_level, color=GREEN, ls=":", lw=2,
+                   label=f"lean level: {view.lean_level:.3g} {view.factor_unit}".rstrip())
     ax.set_xlabel(label(view.factor, view.factor_unit))
     ax.set_ylabel(label(view.response, view.unit))
     ax.set_title(f"{view.response.capitalize()} across the {view.factor} sweep")

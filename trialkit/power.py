@@ -99,6 +99,8 @@ class DesignModel:
     """
 
     def __init__(self, factors: Sequence[Factor], terms: Sequence[Term]):
+        from trialkit.modelspec import level_label
+
         self.factors = tuple(factors)
         self.terms = tuple(terms)
         k = len(self.factors)
@@ -130,7 +132,7 @@ class DesignModel:
                     row[i] = j
                     f = self.factors[i]
                     if lev is not None:
-                        label.append(f"{f.name}[{lev}]")
+                        label.append(level_label(f.name, lev))
                     else:
                         label.append(f.name + (f"^{j}" if j > 1 else ""))
                 idx_rows.append(row)

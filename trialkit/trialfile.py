@@ -35,6 +35,7 @@ from typing import Any
 from trialkit.exceptions import TrialFileError
 from trialkit.factors import CATEGORICAL, CONTINUOUS, FACTOR_KINDS, Factor
 from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.retired_names import retired_key_hint, retired_value_hint
 from trialkit.trialspec import CouponSpec, DesignSpec, Layout, ResponseSpec, Trial
 from trialkit.units import UnitError, check_unit, to_unit
 
@@ -57,13 +58,13 @@ TRIAL_KEYS = ("title", "seed", "question", "notes", "operator")
 FACTOR_KEYS = ("name", "kind", "unit", "low", "high", "levels", "description")
 LAYOUT_KEYS = ("replicates", "blocks", "block_label", "center_points", "controls",
                "coupons_per_bath", "witness_coupons")
-RESPONSE_KEYS = ("name", "unit", "goal", "target", "lower", "upper", "weight", "importance",
-                 "measure", "description")
+RESPONSE_KEYS = ("name", "unit", "aim", "unacceptable", "satisfactory", "ideal", "shape",
+                 "priority", "measure", "description")
 COUPON_KEYS = ("shape", "length", "width", "thickness", "diameter", "holes", "area", "metal",
                "cleaning_cycles", "description")
 COUPON_SHAPES = ("plate", "disc", "cylinder", "bar", "given")
 CONTROL_KINDS = ("untreated", "reference")
-GOALS = ("maximize", "minimize", "target", "none")
+AIMS = ("higher", "lower", "on-target", "record-only")
 NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
 
 
@@ -117,11 +118,15 @@ def parse_trial_text(text: str, source: str | Path = "<text>") -> Trial:
 
 
 # -- checks ------------------------------------------------------------------------------
-def _unknown_keys(table: dict, allowed: tuple[str, ...], where: str, p: ProblemReport) -> None:
+def _unknown_keys(table: dict, allowed: tuple[str, ...], where: str, p: ProblemReport,
+                  section: str = "") -> None:
     for key in table:
         if key not in allowed:
-            p.add(f"{where}.{key}" if where else key, f"unknown key {key!r}", value=key,
-                  fix=did_you_mean(key, list(allowed)), check="unknown_key")
+            hint = retired_key_hint(section, key)
+            p.add(f"{where}.{key}" if where else key,
+                  f"retired key {key!r}" if hint else f"unknown key {key!r}", value=key,
+                  fix=hint or did_you_mean(key, list(allowed)),
+                  check="retired_key" if hint else "unknown_key")
 
 
 def _int(table: dict, key: str, where: str, p: ProblemReport, default: int, minimum: int) -> int:
@@ -207,7 +212,7 @@ def _named_tables(raw: Any, section: str, allowed: tuple[str, ...], example: str
         if not isinstance(table, dict):
             p.add(where, f"each {section} must be a [[{section}]] table", check="not_table")
             continue
-        _unknown_keys(table, allowed, where, p)
+        _unknown_keys(table, allowed, where, p, section)
         name = table.get("name")
         if not isinstance(name, str) or not NAME_PATTERN.match(name):
             p.add(f"{where}.name", f"a {section} name must start with a letter and use only "
@@ -381,34 +386,74 @@ def _check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
             except UnitError as exc:
                 p.add(f"{where}.unit", str(exc), value=unit, check="unknown_unit",
                       fix="use a unit pint knows, e.g. 'g/m**2', 'mm/yr', 'h', or '%'")
-        goal = table.get("goal", "maximize")
-        if goal not in GOALS:
-            p.add(f"{where}.goal", f"unknown goal {goal!r}", value=goal, check="bad_goal",
-                  fix=did_you_mean(str(goal), list(GOALS)))
-            goal = "none"
+        aim = table.get("aim", "higher")
+        if aim not in AIMS:
+            p.add(f"{where}.aim", f"unknown aim {aim!r}", value=aim, check="bad_aim",
+                  fix=(retired_value_hint("response.aim", aim)
+                       or did_you_mean(str(aim), list(AIMS))))
+            aim = "record-only"
         nums: dict[str, float | None] = {}
-        for key in ("target", "lower", "upper", "weight", "importance"):
+        for key in ("satisfactory", "ideal", "shape", "priority"):
             nums[key] = (_number(table[key], f"{where}.{key}", p, key)
                          if key in table else None)
-        if goal == "target" and nums["target"] is None:
-            p.add(f"{where}.target", 'goal = "target" needs a target value',
-                  check="missing_target", fix="add target = <value>")
-        if (nums["lower"] is not None and nums["upper"] is not None
-                and nums["lower"] >= nums["upper"]):
-            p.add(f"{where}.lower", "lower must be below upper",
-                  value=f"lower = {nums['lower']:g}, upper = {nums['upper']:g}",
-                  check="lower_not_below_upper", fix="swap lower and upper")
-        for key in ("weight", "importance"):
+        unacceptable = _unacceptable(table, aim, where, p)
+        if aim == "on-target" and nums["ideal"] is None:
+            p.add(f"{where}.ideal", 'aim = "on-target" needs the ideal value',
+                  check="missing_ideal", fix="add ideal = <value>")
+        if aim == "on-target" and "satisfactory" in table:
+            p.add(f"{where}.satisfactory", "an on-target aim is fully satisfied only at its "
+                  "ideal", value=table["satisfactory"], check="satisfactory_on_target",
+                  fix="remove satisfactory; give ideal and unacceptable = [below, above]")
+        _check_aim_limits(aim, unacceptable, nums, where, p)
+        for key in ("shape", "priority"):
             if nums[key] is not None and nums[key] <= 0:
                 p.add(f"{where}.{key}", f"{key} must be positive", value=nums[key],
                       check="not_positive", fix=f"use e.g. {key} = 1")
                 nums[key] = None
         out.append(ResponseSpec(
-            name=name, unit=unit, goal=goal, target=nums["target"], lower=nums["lower"],
-            upper=nums["upper"], weight=nums["weight"] or 1.0,
-            importance=nums["importance"] or 1.0, measure=str(table.get("measure", name)),
+            name=name, unit=unit, aim=aim, unacceptable=unacceptable,
+            satisfactory=nums["satisfactory"], ideal=nums["ideal"],
+            shape=nums["shape"] or 1.0, priority=nums["priority"] or 1.0,
+            measure=str(table.get("measure", name)),
             description=str(table.get("description", ""))))
     return out
+
+
+def _unacceptable(table: dict, aim: str, where: str,
+                  p: ProblemReport) -> float | tuple[float, float] | None:
+    """The ``unacceptable`` limit: one number, or [below, above] for an on-target aim."""
+    if "unacceptable" not in table:
+        return None
+    value = table["unacceptable"]
+    if aim == "on-target":
+        if not isinstance(value, list) or len(value) != 2:
+            p.add(f"{where}.unacceptable", "an on-target aim needs two unacceptable values, "
+                  "one below and one above the ideal", value=value, check="bad_unacceptable",
+                  fix="write unacceptable = [<below>, <above>]")
+            return None
+        pair = [_number(v, f"{where}.unacceptable", p, "unacceptable") for v in value]
+        return None if None in pair else (pair[0], pair[1])
+    return _number(value, f"{where}.unacceptable", p, "unacceptable")
+
+
+def _check_aim_limits(aim: str, unacceptable, nums: dict, where: str,
+                      p: ProblemReport) -> None:
+    """The unacceptable value must lie on the far side of the satisfactory one."""
+    good, ideal = nums["satisfactory"], nums["ideal"]
+    if aim == "on-target" and isinstance(unacceptable, tuple) and ideal is not None:
+        if not unacceptable[0] < ideal < unacceptable[1]:
+            p.add(f"{where}.unacceptable", "the ideal must lie between the two unacceptable "
+                  "values", value=f"unacceptable = {list(unacceptable)}, ideal = {ideal:g}",
+                  check="ideal_outside_limits", fix="write unacceptable = [<below>, <above>]")
+    if aim not in ("higher", "lower") or unacceptable is None or good is None:
+        return
+    if (aim == "higher" and not unacceptable < good) or (aim == "lower"
+                                                         and not unacceptable > good):
+        side = "below" if aim == "higher" else "above"
+        p.add(f"{where}.unacceptable", f"for aim {aim!r} the unacceptable value must lie "
+              f"{side} the satisfactory one",
+              value=f"unacceptable = {unacceptable:g}, satisfactory = {good:g}",
+              check="limits_reversed", fix="swap unacceptable and satisfactory")
 
 
 def _length_mm(value: Any, where: str, p: ProblemReport) -> float | None:

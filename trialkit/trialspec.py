@@ -36,16 +36,35 @@ class Layout:
 
 @dataclass(frozen=True)
 class ResponseSpec:
-    """One ``[[response]]``: what is measured and what the trial wants of it."""
+    """One ``[[response]]``: what is measured and what the trial wants of it.
+
+    ``aim`` is ``"higher"``, ``"lower"``, ``"on-target"`` (then ``ideal`` is the value
+    wanted and ``unacceptable`` the pair of values below and above it that are of no use)
+    or ``"record-only"``.  ``unacceptable`` and ``satisfactory`` are the limits of the
+    Derringer–Suich desirability scale, ``shape`` its exponent and ``priority`` the
+    response's relative weight in a compromise.
+    """
+
+    @property
+    def is_wanted(self) -> bool:
+        """True when the trial wants something of this response (not record-only)."""
+        return self.aim in ("higher", "lower", "on-target")
+
+    @property
+    def has_limits(self) -> bool:
+        """True when the trial file gives both ends of the desirability scale."""
+        if self.aim == "on-target":
+            return self.unacceptable is not None and self.ideal is not None
+        return self.unacceptable is not None and self.satisfactory is not None
 
     name: str
     unit: str = ""
-    goal: str = "maximize"
-    target: float | None = None
-    lower: float | None = None
-    upper: float | None = None
-    weight: float = 1.0
-    importance: float = 1.0
+    aim: str = "higher"
+    unacceptable: float | tuple[float, float] | None = None
+    satisfactory: float | None = None
+    ideal: float | None = None
+    shape: float = 1.0
+    priority: float = 1.0
     measure: str = ""
     description: str = ""
 

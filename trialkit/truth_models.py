@@ -285,14 +285,14 @@ class BathTruth:
         return asdict(self)
 
 
-def one_sided_desirability(value: float, lower: float, upper: float, goal: str) -> float:
+def one_sided_desirability(value: float, lower: float, upper: float, aim: str) -> float:
     """Derringer & Suich (1980) one-sided desirability with weight 1 (linear ramp)."""
-    if goal == "maximize":
+    if aim == "higher":
         d = (value - lower) / (upper - lower)
-    elif goal == "minimize":
+    elif aim == "lower":
         d = (upper - value) / (upper - lower)
     else:
-        raise SimulationError(f"goal must be maximize or minimize; got {goal!r}")
+        raise SimulationError(f"aim must be higher or lower; got {aim!r}")
     return float(min(1.0, max(0.0, d)))
 
 
@@ -347,13 +347,13 @@ EXAMPLES: dict[str, ExampleScenario] = {
 
 
 def surface_desirability(truth: BathTruth, x: Mapping, *, hours: float = 8.0) -> float:
-    """Overall desirability of the surface example's removal and attack goals (no cost).
+    """Overall desirability of the surface example's removal and attack aims (no cost).
 
     Geometric mean of the one-sided desirabilities of removal after ``hours`` (maximise,
     50..90 %) and corrosion rate (minimise, 0.05..0.30 mm/y), as in its trial file.
     """
-    d1 = one_sided_desirability(truth.removal_pct(x, hours), 50.0, 90.0, "maximize")
-    d2 = one_sided_desirability(truth.corrosion_mm_per_y(x), 0.05, 0.30, "minimize")
+    d1 = one_sided_desirability(truth.removal_pct(x, hours), 50.0, 90.0, "higher")
+    d2 = one_sided_desirability(truth.corrosion_mm_per_y(x), 0.05, 0.30, "lower")
     return math.sqrt(d1 * d2)
 
 

@@ -33,7 +33,7 @@ _EXPORTS: dict[str, str] = {
     "SurfaceResult": "trialkit.analysis.surface",
     "fit_sweep": "trialkit.analysis.sweep",
     "SweepResult": "trialkit.analysis.sweep",
-    "Goal": "trialkit.analysis.desirability",
+    "Aim": "trialkit.analysis.desirability",
     "optimize_desirability": "trialkit.analysis.desirability",
     "DesirabilityResult": "trialkit.analysis.desirability",
     "ConfirmationResult": "trialkit.analysis.confirm",

@@ -1,24 +1,26 @@
 """Several responses at once: Derringer–Suich (1980) desirability.
 
-Each response gets an individual desirability ``d`` in [0, 1]:
+Each response gets an individual desirability ``d`` in [0, 1] from its aim:
 
-* maximize: 0 below ``lower``, ``((y - lower) / (upper - lower)) ** weight`` between,
-  1 above ``upper``;
-* minimize: 1 below ``lower``, ``((upper - y) / (upper - lower)) ** weight`` between,
-  0 above ``upper``;
-* target: rises from ``lower`` to ``target`` with exponent ``weight``, falls to
-  ``upper`` with exponent ``weight_upper``; 0 outside.
+* ``"higher"``: 0 at or below the ``unacceptable`` value, 1 at or above the
+  ``satisfactory`` one, ``((y - unacceptable) / (satisfactory - unacceptable)) ** shape``
+  between;
+* ``"lower"``: the mirror image (1 at or below ``satisfactory``, 0 at or above
+  ``unacceptable``);
+* ``"on-target"``: 1 at the ``ideal`` value, falling to 0 at the two unacceptable values
+  below and above it, with exponent ``shape`` on the way up and ``shape_above`` on the
+  way down.
 
-The overall desirability is the importance-weighted geometric mean
+The overall desirability is the priority-weighted geometric mean
 ``D = (prod d_i ** r_i) ** (1 / sum r_i)``.  The best compromise is searched over the
 design region (coded units) from a grid and several seeded starts (Nelder–Mead).
 
 Examples
 --------
->>> g = Goal("removal", "maximize", lower=50, upper=90)
->>> float(g.desirability(70.0)), float(g.desirability(95.0))
+>>> a = Aim("removal", "higher", unacceptable=50, satisfactory=90)
+>>> float(a.desirability(70.0)), float(a.desirability(95.0))
 (0.5, 1.0)
->>> round(float(Goal("attack", "minimize", lower=0.1, upper=0.5).desirability(0.2)), 12)
+>>> round(float(Aim("attack", "lower", unacceptable=0.5, satisfactory=0.1).desirability(0.2)), 12)
 0.75
 """
 
@@ -35,63 +37,137 @@ from trialkit.analysis.data import finite
 from trialkit.analysis.surface import continuous_factors, quadratic_operators
 from trialkit.exceptions import AnalysisError
 
-DIRECTIONS = ("maximize", "minimize", "target")
+#: Aims a response can have in a compromise.
+AIM_KINDS = ("higher", "lower", "on-target")
 
 
 @dataclass(frozen=True)
-class Goal:
+class Aim:
     """What is wanted of one response.
 
     Attributes
     ----------
     response : str
-    goal : {"maximize", "minimize", "target"}
-    lower, upper : float
-        Limits in response units (for maximize: unacceptable below ``lower``, fully
-        satisfactory above ``upper``; reversed for minimize).
-    target : float, optional
-        Required for "target".
-    weight, weight_upper : float
-        Shape exponents (``s`` and, for target, ``t`` of Derringer–Suich).
-    importance : float
-        Relative importance ``r`` in the geometric mean.
+    aim : {"higher", "lower", "on-target"}
+    unacceptable : float or (float, float)
+        The value at which the response stops being of any use (d = 0); for "on-target",
+        the pair of unacceptable values below and above the ideal.
+    satisfactory : float, optional
+        The value from which the response is fully satisfactory (d = 1); not used by
+        "on-target", whose ideal is the fully satisfactory value.
+    ideal : float, optional
+        Required for "on-target".
+    shape, shape_above : float
+        Exponents of the curve (``s`` and, for on-target above the ideal, ``t`` of
+        Derringer–Suich): 1 is a straight line, above 1 demands more, below 1 less.
+    priority : float
+        Relative weight ``r`` in the geometric mean.
     """
 
     response: str
-    goal: str
-    lower: float
-    upper: float
-    target: float | None = None
-    weight: float = 1.0
-    weight_upper: float = 1.0
-    importance: float = 1.0
+    aim: str
+    unacceptable: float | tuple[float, float]
+    satisfactory: float | None = None
+    ideal: float | None = None
+    shape: float = 1.0
+    shape_above: float = 1.0
+    priority: float = 1.0
 
     def __post_init__(self):
-        if self.goal not in DIRECTIONS:
-            raise AnalysisError(f"goal of {self.response!r} must be one of {DIRECTIONS}, "
-                                f"got {self.goal!r}")
-        if not self.lower < self.upper:
-            raise AnalysisError(f"{self.response!r}: lower ({self.lower}) must be below "
-                                f"upper ({self.upper})")
-        if self.goal == "target" and (self.target is None
-                                      or not self.lower < self.target < self.upper):
-            raise AnalysisError(f"{self.response!r}: a target goal needs lower < target < "
-                                f"upper, got {self.lower}, {self.target}, {self.upper}")
-        if min(self.weight, self.weight_upper, self.importance) <= 0:
-            raise AnalysisError(f"{self.response!r}: weights and importance must be > 0")
+        if self.aim not in AIM_KINDS:
+            raise AnalysisError(f"aim of {self.response!r} must be one of {AIM_KINDS}, "
+                                f"got {self.aim!r}")
+        if self.aim == "on-target":
+            pair = np.atleast_1d(np.asarray(self.unacceptable, dtype=float))
+            if (pair.size != 2 or self.ideal is None
+                    or not pair[0] < float(self.ideal) < pair[1]):
+                raise AnalysisError(
+                    f"{self.response!r}: an on-target aim needs an ideal between two "
+                    f"unacceptable values, got ideal = {self.ideal}, unacceptable = "
+                    f"{self.unacceptable}")
+        else:
+            if self.satisfactory is None or np.ndim(self.unacceptable) != 0:
+                raise AnalysisError(f"{self.response!r}: give one unacceptable and one "
+                                    "satisfactory value")
+            lo, hi = self.span
+            if not lo < hi:
+                side = "below" if self.aim == "higher" else "above"
+                raise AnalysisError(
+                    f"{self.response!r}: for aim {self.aim!r} the unacceptable value "
+                    f"({self.unacceptable}) must lie {side} the satisfactory one "
+                    f"({self.satisfactory})")
+        if min(self.shape, self.shape_above, self.priority) <= 0:
+            raise AnalysisError(f"{self.response!r}: shape and priority must be > 0")
+
+    @property
+    def span(self) -> tuple[float, float]:
+        """(low end, high end) of the scale in response units."""
+        if self.aim == "on-target":
+            lo, hi = (float(v) for v in self.unacceptable)
+        elif self.aim == "higher":
+            lo, hi = float(self.unacceptable), float(self.satisfactory)
+        else:
+            lo, hi = float(self.satisfactory), float(self.unacceptable)
+        return lo, hi
 
     def desirability(self, y):
         """Individual desirability of value(s) ``y``."""
         y = np.asarray(y, dtype=float)
-        lo, hi = self.lower, self.upper
-        if self.goal == "maximize":
-            return np.clip((y - lo) / (hi - lo), 0, 1) ** self.weight
-        if self.goal == "minimize":
-            return np.clip((hi - y) / (hi - lo), 0, 1) ** self.weight
-        t = self.target
-        up = np.clip((y - lo) / (t - lo), 0, 1) ** self.weight
-        down = np.clip((hi - y) / (hi - t), 0, 1) ** self.weight_upper
+        lo, hi = self.span
+        if self.aim == "higher":
+            return np.clip((y - lo) / (hi - lo), 0, 1) ** self.shape
+        if self.aim == "lower":
+            return np.clip((hi - y) / (hi - lo), 0, 1) ** self.shape
+        t = float(self.ideal)
+        up = np.clip((y - lo) / (t - lo), 0, 1) ** self.shape
+        down = np.clip((hi - y) / (hi - t), 0, 1) ** self.shape_above
         return np.where(y <= t, up, down)
+
+
+def aim_from_spec(spec, response: str | None = None, observed=None) -> Aim:
+    """The :class:`Aim` of a trial file's response, limits missing from it taken from data.
+
+    Parameters
+    ----------
+    spec : ResponseSpec
+    response : str, optional
+        Name to give the aim (default ``spec.name``), e.g. the table column analysed.
+    observed : array-like, optional
+        Values of the response; a missing limit is the worst (unacceptable) or best
+        (satisfactory) value observed.
+
+    Examples
+    --------
+    >>> from trialkit.trialspec import ResponseSpec
+    >>> aim_from_spec(ResponseSpec("attack", aim="lower"), observed=[0.1, 0.4]).span
+    (0.1, 0.4)
+    """
+    name = response or spec.name
+    if spec.aim not in AIM_KINDS:
+        raise AnalysisError(f"{spec.name!r} is recorded only (aim {spec.aim!r}); it takes "
+                            "no part in a compromise")
+    vals = np.asarray([] if observed is None else observed, dtype=float)
+    vals = vals[np.isfinite(vals)]
+
+    def seen(which):
+        if vals.size == 0:
+            raise AnalysisError(f"{spec.name!r}: give the unacceptable and satisfactory "
+                                "values in the trial file, or readings to take them from")
+        return float(which(vals))
+
+    if spec.aim == "on-target":
+        pair = spec.unacceptable
+        if pair is None:
+            pair = (seen(np.min), seen(np.max))
+        return Aim(name, spec.aim, tuple(float(v) for v in pair), ideal=spec.ideal,
+                   shape=spec.shape, shape_above=spec.shape, priority=spec.priority)
+    worst, best = (np.min, np.max) if spec.aim == "higher" else (np.max, np.min)
+    bad = spec.unacceptable if spec.unacceptable is not None else seen(worst)
+    good = spec.satisfactory if spec.satisfactory is not None else seen(best)
+    if bad == good and (spec.unacceptable is None or spec.satisfactory is None):
+        good = bad + (1e-12 if spec.aim == "higher" else -1e-12) * max(1.0, abs(bad))
+    return Aim(name, spec.aim, float(bad), float(good), shape=spec.shape,
+               priority=spec.priority)
 
 
 @dataclass
@@ -106,16 +182,16 @@ class DesirabilityResult:
     overall : float
         Overall desirability D there.
     summary : DataFrame
-        response, goal, predicted, ci_low, ci_high, pi_low, pi_high, desirability,
-        importance.
-    goals : tuple of Goal
+        response, aim, predicted, ci_low, ci_high, pi_low, pi_high, desirability,
+        priority.
+    aims : tuple of Aim
     """
 
     settings: dict
     coded: np.ndarray
     overall: float
     summary: pd.DataFrame
-    goals: tuple
+    aims: tuple
     _fits: Mapping = None
     _region: np.ndarray = None
 
@@ -132,7 +208,7 @@ class DesirabilityResult:
         mx, my = np.meshgrid(ax, ay, indexing="ij")
         pts = np.repeat(self.coded[None, :], mx.size, axis=0)
         pts[:, ix], pts[:, iy] = mx.ravel(), my.ravel()
-        D = _overall(self._fits, self.goals, pts, self._fixed())
+        D = _overall(self._fits, self.aims, pts, self._fixed())
         fs = {f.name: f for f in continuous_factors(fit0)}
         return pd.DataFrame({x: fs[x].to_natural(pts[:, ix]), y: fs[y].to_natural(pts[:, iy]),
                              "desirability": D})
@@ -170,21 +246,21 @@ def _predict_coded(fit, pts, fixed):
     return c + pts @ b + np.einsum("gi,ij,gj->g", pts, B, pts)
 
 
-def _overall(fits, goals, pts, fixed) -> np.ndarray:
+def _overall(fits, aims, pts, fixed) -> np.ndarray:
     pts = np.atleast_2d(pts)
     logs = np.zeros(len(pts))
     total = 0.0
-    for g in goals:
-        d = g.desirability(_predict_coded(fits[g.response], pts, fixed))
+    for a in aims:
+        d = a.desirability(_predict_coded(fits[a.response], pts, fixed))
         with np.errstate(divide="ignore"):
-            logs = logs + g.importance * np.log(d)
-        total += g.importance
+            logs = logs + a.priority * np.log(d)
+        total += a.priority
     return np.exp(logs / total)
 
 
-def optimize_desirability(fits: Mapping[str, object], goals: Sequence[Goal], *,
+def optimize_desirability(fits: Mapping[str, object], aims: Sequence[Aim], *,
                           region: np.ndarray | None = None,
-                          fixed: Mapping[str, str] | None = None, n_starts: int = 20,
+                          fixed: Mapping[str, str] | None = None, n_tries: int = 20,
                           seed: int = 0) -> DesirabilityResult:
     """Find the settings of highest overall desirability.
 
@@ -192,36 +268,38 @@ def optimize_desirability(fits: Mapping[str, object], goals: Sequence[Goal], *,
     ----------
     fits : mapping response name -> ModelFit
         Every fit must use the same continuous factors (they may differ in terms).
-    goals : sequence of Goal
+    aims : sequence of Aim
     region : array (k, 2), optional
         Coded bounds (default: the cube [-1, 1] for each continuous factor).
     fixed : mapping, optional
         Levels of categorical factors.
+    n_tries : int
+        Random starting points of the search, besides the 8 best grid points.
     """
-    goals = tuple(goals)
-    missing = [g.response for g in goals if g.response not in fits]
+    aims = tuple(aims)
+    missing = [a.response for a in aims if a.response not in fits]
     if missing:
         raise AnalysisError(f"no fitted model for response(s) {missing}; fitted: "
                             f"{list(fits)}")
-    fit0 = fits[goals[0].response]
+    fit0 = fits[aims[0].response]
     names = [f.name for f in continuous_factors(fit0)]
-    for g in goals:
-        other = [f.name for f in continuous_factors(fits[g.response])]
+    for a in aims:
+        other = [f.name for f in continuous_factors(fits[a.response])]
         if other != names:
-            raise AnalysisError(f"model of {g.response!r} uses factors {other}, the first "
+            raise AnalysisError(f"model of {a.response!r} uses factors {other}, the first "
                                 f"uses {names}; fit every response on the same factors")
     k = len(names)
     region = np.tile([-1.0, 1.0], (k, 1)) if region is None else np.asarray(region, float)
     steps = 11 if k <= 3 else 5
     grid = np.stack(np.meshgrid(*[np.linspace(lo, hi, steps) for lo, hi in region],
                                 indexing="ij"), -1).reshape(-1, k)
-    Dg = _overall(fits, goals, grid, fixed)
+    Dg = _overall(fits, aims, grid, fixed)
     rng = np.random.default_rng(seed)
     starts = list(grid[np.argsort(-Dg)[:8]])
-    starts += list(rng.uniform(region[:, 0], region[:, 1], size=(n_starts, k)))
+    starts += list(rng.uniform(region[:, 0], region[:, 1], size=(n_tries, k)))
 
     def neg(x):
-        return -_overall(fits, goals, np.clip(x, region[:, 0], region[:, 1])[None, :],
+        return -_overall(fits, aims, np.clip(x, region[:, 0], region[:, 1])[None, :],
                          fixed)[0]
 
     best_x, best_v = grid[int(np.argmax(Dg))], float(Dg.max())
@@ -233,20 +311,20 @@ def optimize_desirability(fits: Mapping[str, object], goals: Sequence[Goal], *,
             best_x, best_v = x, -r.fun
     if best_v <= 0:
         raise AnalysisError("no setting in the region gives every response a desirability "
-                            "above zero; widen the limits or check the goals")
+                            "above zero; widen the limits or check the aims")
     settings = {n: float(f.to_natural(v)) for n, f, v in
                 zip(names, continuous_factors(fit0), best_x, strict=True)}
     settings.update(dict(fixed or {}))
     rows = []
-    for g in goals:
-        fit = fits[g.response]
+    for a in aims:
+        fit = fits[a.response]
         p = fit.predict(pd.DataFrame([settings])).iloc[0]
-        rows.append({"response": g.response, "goal": g.goal, "predicted": float(p.predicted),
+        rows.append({"response": a.response, "aim": a.aim, "predicted": float(p.predicted),
                      "ci_low": float(p.ci_low), "ci_high": float(p.ci_high),
                      "pi_low": float(p.pi_low), "pi_high": float(p.pi_high),
-                     "desirability": float(g.desirability(p.predicted)),
-                     "importance": g.importance})
-    return DesirabilityResult(settings, best_x, best_v, pd.DataFrame(rows), goals, fits,
+                     "desirability": float(a.desirability(p.predicted)),
+                     "priority": a.priority})
+    return DesirabilityResult(settings, best_x, best_v, pd.DataFrame(rows), aims, fits,
                               region)
 
 

@@ -77,7 +77,7 @@ class Diagnostics:
 
 
 def box_cox_profile(X: np.ndarray, y: np.ndarray, lambdas: np.ndarray) -> np.ndarray:
-    """Profile log-likelihood of the Box–Cox power for ``y ~ X`` (y > 0)."""
+    """Profile log-likelihood of the Box–Cox power for the regression of ``y`` on ``X`` (y > 0)."""
     n = len(y)
     logy = np.log(y)
     gm = np.exp(logy.mean())

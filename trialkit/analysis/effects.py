@@ -79,7 +79,9 @@ class EffectsResult:
     Attributes
     ----------
     summary : DataFrame
-        term (alias chain), effect, coefficient, abs_effect, standardized (effect / PSE),
+        alias_order (1, 2, ... in the order of the alias table: main effects, then
+        two-factor interactions, ...), term (alias chain), effect, coefficient, abs_effect,
+        standardized (effect / PSE, Lenth's t-like ratio),
         p (Lenth t with d = m/3), half_normal_quantile, significant (|effect| > ME),
         significant_simultaneous (|effect| > SME); sorted by abs_effect descending.
     lenth : LenthResult
@@ -92,11 +94,6 @@ class EffectsResult:
     lenth: LenthResult
     mean: float
     response: str
-
-    @property
-    def pareto_line(self) -> float:
-        """Standardized-effect threshold for the Pareto chart (ME / PSE)."""
-        return self.lenth.me / self.lenth.pse
 
     def to_dict(self) -> dict:
         rows = [{k: (finite(v) if isinstance(v, (float, np.floating)) else v)
@@ -179,7 +176,7 @@ def two_level_effects(table: pd.DataFrame, response: str, factors: Sequence[Fact
         head_sign = members[0][1]
         label = members[0][0] + "".join(
             (" = " if s == head_sign else " = -") + nm for nm, s in members[1:])
-        rows.append({"term": label, "effect": effect * head_sign,
+        rows.append({"alias_order": len(rows) + 1, "term": label, "effect": effect * head_sign,
                      "coefficient": effect * head_sign / 2, "n_aliases": len(members)})
     if len(rows) < 2:
         raise AnalysisError("fewer than two estimable effects; nothing to compare")

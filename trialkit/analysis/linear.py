@@ -87,7 +87,7 @@ def rank_problems(X: np.ndarray, columns: Sequence[str], tol: float = 1e-9) -> l
 
 def least_squares(X: np.ndarray, y: np.ndarray, columns: Sequence[str] | None = None
                   ) -> LeastSquares:
-    """Fit ``y ~ X`` by Householder QR (no normal equations).
+    """Fit ``y`` on ``X`` by Householder QR (no normal equations).
 
     Raises
     ------
@@ -126,7 +126,7 @@ def least_squares(X: np.ndarray, y: np.ndarray, columns: Sequence[str] | None = 
 
 
 def rss_of(X: np.ndarray, y: np.ndarray) -> float:
-    """Residual sum of squares of ``y ~ X`` (X may have zero columns)."""
+    """Residual sum of squares of ``y`` on ``X`` (X may have zero columns)."""
     if X.shape[1] == 0:
         return float(y @ y)
     coef, *_ = np.linalg.lstsq(X, y, rcond=None)

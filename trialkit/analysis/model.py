@@ -305,12 +305,34 @@ class ModelFit:
                     "coded_coefficients": rows(self.coded_coefficients)})
         return out
 
+    def equation(self, digits: int = 4) -> str:
+        """The fitted model written out in coded units, e.g. ``removal = 61.2 + 8.1 × chelator``.
+
+        Categorical levels appear as ``(surfactant = none)``, worth 1 for that level, -1 for
+        the last level and 0 otherwise (sum contrasts); continuous factors run from -1
+        (low) to +1 (high).
+        """
+        parts = []
+        for term, est in zip(self.coded_coefficients.term, self.coded_coefficients.estimate,
+                             strict=True):
+            if not np.isfinite(est):
+                continue
+            value = f"{abs(est):.{digits}g}"
+            if term == "intercept":
+                parts.append(("-" if est < 0 else "") + value)
+                continue
+            label = " × ".join(f"({p})" if "=" in p else p for p in str(term).split(":"))
+            sign = "−" if est < 0 else "+"
+            parts.append(f"{sign} {value} × {label}" if parts else
+                         f"{'-' if est < 0 else ''}{value} × {label}")
+        return f"{self.response} = " + " ".join(parts or ["0"])
+
     def __repr__(self) -> str:
-        return (f"ModelFit({self.response!r} ~ {self.spec.to_text()}, n={self.n}, "
+        return (f"ModelFit({self.response!r} modelled on {self.spec.to_text()}, n={self.n}, "
                 f"R²={self.r_squared:.4f}, df_resid={self.df_resid})")
 
     def _repr_html_(self) -> str:
-        return (f"<p><b>{self.response}</b> ~ {self.spec.to_text()} (n = {self.n}, "
+        return (f"<p><b>{self.response}</b> modelled on {self.spec.to_text()} (n = {self.n}, "
                 f"R² = {self.r_squared:.4f})</p>" + self.anova().summary.to_html(index=False)
                 + self.coded_coefficients.to_html(index=False))
 

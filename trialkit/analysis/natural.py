@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trialkit.modelspec import INTERCEPT, ModelMatrix
+from trialkit.modelspec import INTERCEPT, LEVEL_SEPARATOR, ModelMatrix, level_label
 
 Monomial = tuple[tuple[str, int], ...]  # ((factor or contrast column, power), ...)
 
@@ -29,7 +29,7 @@ def _column_parts(mm: ModelMatrix) -> list[list[tuple[str, str, int]]]:
             else:
                 levels = mm.levels[name]
                 shown = levels[:-1] if mm.coding == "sum" else levels[1:]
-                per_factor.append([(name, f"{name}[{lv}]", 1) for lv in shown])
+                per_factor.append([(name, level_label(name, lv), 1) for lv in shown])
         combos: list[list[tuple[str, str, int]]] = [[]]
         for options in per_factor:
             combos = [c + [o] for c in combos for o in options]
@@ -56,8 +56,8 @@ def natural_transform(mm: ModelMatrix) -> tuple[np.ndarray, list[str]]:
             new: dict[Monomial, float] = {}
             for m1, c1 in poly.items():
                 for m2, c2 in factor_poly.items():
-                    key = tuple(sorted(m1 + m2, key=lambda p: (order[p[0].split("[")[0]],
-                                                                p[0])))
+                    key = tuple(sorted(m1 + m2, key=lambda p: (
+                        order[p[0].split(LEVEL_SEPARATOR)[0]], p[0])))
                     new[key] = new.get(key, 0.0) + c1 * c2
             poly = new
         for m, c in poly.items():

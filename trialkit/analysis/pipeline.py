@@ -113,7 +113,7 @@ class AnalysisResult:
         if self.sweep is not None:
             s = self.sweep
             lines.append(f"sweep: best {s.best:.4g} (Fieller {s.fieller_low:.4g} to "
-                         f"{s.fieller_high:.4g}), sweet spot {s.sweet_spot:.4g}, falls off "
+                         f"{s.fieller_high:.4g}), lean level {s.lean_level:.4g}, falls off "
                          f"at high levels: {'yes' if s.falls_off else 'no'}")
         if self.optimum is not None:
             o = self.optimum
@@ -136,10 +136,10 @@ class AnalysisResult:
         return self.fit._repr_html_()
 
 
-def best_compromise(table: pd.DataFrame, factors: Sequence[Factor], goals: Sequence,
+def best_compromise(table: pd.DataFrame, factors: Sequence[Factor], aims: Sequence,
                     *, models: dict | None = None, block: str | None = "block",
-                    alpha: float = 0.05, seed: int = 0, n_starts: int = 12):
-    """Fit every response of ``goals`` and find the best Derringer–Suich compromise.
+                    alpha: float = 0.05, seed: int = 0, n_tries: int = 12):
+    """Fit every response of ``aims`` and find the best Derringer–Suich compromise.
 
     Each response gets ``models[name]`` or :func:`default_model`; the search covers the
     observed coded range of the continuous factors and every combination of categorical
@@ -149,22 +149,22 @@ def best_compromise(table: pd.DataFrame, factors: Sequence[Factor], goals: Seque
 
     from trialkit.analysis.desirability import optimize_desirability
 
-    goals = tuple(goals)
-    if len(goals) < 2:
+    aims = tuple(aims)
+    if len(aims) < 2:
         raise AnalysisError("a compromise needs at least two responses with limits (lower "
-                            f"and upper); got {len(goals)}")
+                            f"and upper); got {len(aims)}")
     fits = {}
-    for g in goals:
+    for g in aims:
         text = (models or {}).get(g.response) or default_model(table, g.response, factors)
         fits[g.response] = fit_model(table, g.response, factors, text, block=block,
                                      alpha=alpha)
-    first = fits[goals[0].response]
+    first = fits[aims[0].response]
     cont = [f.name for f in first.spec.used_factors if f.is_continuous]
-    for g in goals:
+    for g in aims:
         have = [f.name for f in fits[g.response].spec.used_factors if f.is_continuous]
         if have != cont:
             raise AnalysisError(f"the model of {g.response!r} uses {have}, the model of "
-                                f"{goals[0].response!r} uses {cont}; give models over the "
+                                f"{aims[0].response!r} uses {cont}; give models over the "
                                 "same continuous factors")
     xc = first.coded[cont].astype(float).to_numpy()
     region = np.column_stack([xc.min(axis=0), xc.max(axis=0)])
@@ -174,15 +174,15 @@ def best_compromise(table: pd.DataFrame, factors: Sequence[Factor], goals: Seque
     best = None
     for combo in combos[:64]:
         try:
-            res = optimize_desirability(fits, goals, region=region, fixed=combo or None,
-                                        n_starts=n_starts, seed=seed)
+            res = optimize_desirability(fits, aims, region=region, fixed=combo or None,
+                                        n_tries=n_tries, seed=seed)
         except AnalysisError:
             continue
         if best is None or res.overall > best.overall:
             best = res
     if best is None:
         raise AnalysisError("no setting gives every response a desirability above zero; "
-                            "widen the limits or check the goals")
+                            "widen the limits or check the aims")
     return best
 
 
@@ -212,7 +212,7 @@ def _two_level(fit: ModelFit) -> bool:
 def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor], *,
                   model: str | None = None, anova_type: int = 2, alpha: float = 0.05,
                   block: str | None = "block", sweep: str | None = None,
-                  goal: str = "maximize", reduce: str = "none", threshold: float = 0.05,
+                  aim: str = "higher", reduce: str = "none", threshold: float = 0.05,
                   n_boot: int = 2000, seed: int = 0, tolerance: float | None = None,
                   relative_tolerance: float = 0.05) -> AnalysisResult:
     """Analyse one response of a bath-level table (see the module docstring)."""
@@ -227,7 +227,7 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
         if fac is None:
             raise AnalysisError(f"sweep factor {sweep!r} is not among the factors "
                                 f"{[f.name for f in factors]}")
-        sw = fit_sweep(table, response, fac, goal=goal, tolerance=tolerance,
+        sw = fit_sweep(table, response, fac, aim=aim, tolerance=tolerance,
                        relative_tolerance=relative_tolerance, alpha=alpha, n_boot=n_boot,
                        seed=seed, block=block)
         return AnalysisResult(sw.fit, anova_type, sweep=sw, diagnostics=diagnose(sw.fit))
@@ -244,6 +244,6 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
                                                        if f.name != "block"], alpha=alpha)
     surface = None
     if any(t.power == 2 for t in fit.spec.terms) and fit.df_resid > 0:
-        surface = fit_surface(fit, goal=goal, seed=seed, n_boot=n_boot)
+        surface = fit_surface(fit, aim=aim, seed=seed, n_boot=n_boot)
     diag = diagnose(fit) if fit.df_resid > 0 else None
     return AnalysisResult(fit, anova_type, red, effects, surface, None, diag)

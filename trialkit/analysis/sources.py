@@ -30,8 +30,9 @@ class AnalysisSource:
     factors : tuple of Factor (empty for plain tables until named)
     responses : dict
         Response name -> column name in ``table`` (trial folders only).
-    goals : dict
-        Response name -> "maximize" / "minimize" / "target" (trial folders only).
+    aims : dict
+        Response name -> "higher" / "lower" / "on-target" / "record-only" (trial folders
+        only).
     config : AnalysisConfig
     seed : int
     """
@@ -39,25 +40,18 @@ class AnalysisSource:
     table: pd.DataFrame
     factors: tuple[Factor, ...] = ()
     responses: dict = field(default_factory=dict)
-    goals: dict = field(default_factory=dict)
+    aims: dict = field(default_factory=dict)
     config: AnalysisConfig = field(default_factory=AnalysisConfig)
     seed: int = 0
     origin: str = ""
     specs: tuple = ()
 
-    def goals_with_limits(self) -> list:
-        """Derringer–Suich goals of the trial's responses that give lower and upper."""
-        from trialkit.analysis.desirability import Goal
+    def aims_with_limits(self) -> list:
+        """Derringer–Suich aims of the trial's responses whose limits the trial file gives."""
+        from trialkit.analysis.desirability import aim_from_spec
 
-        out = []
-        for r in self.specs:
-            if r.lower is None or r.upper is None:
-                continue
-            out.append(Goal(self.responses[r.name], r.goal, float(r.lower), float(r.upper),
-                            target=None if r.target is None else float(r.target),
-                            weight=float(r.weight), weight_upper=float(r.weight),
-                            importance=float(r.importance)))
-        return out
+        return [aim_from_spec(r, self.responses[r.name]) for r in self.specs
+                if r.is_wanted and r.has_limits]
 
 
 def read_table(path: str | Path) -> pd.DataFrame:
@@ -101,16 +95,16 @@ def from_trial_folder(folder: str | Path) -> AnalysisSource:
         raise AnalysisError(f"this build cannot read the record log ({exc}); analyse an "
                             "exported table instead") from None
     table = resp.baths
-    responses, goals = {}, {}
+    responses, aims = {}, {}
     for r in trial.responses:
         measure = r.measure or r.name
         col = measure if measure in table.columns else f"{measure}_mean"
         responses[r.name] = col
-        goals[r.name] = r.goal
+        aims[r.name] = r.aim
     cfg = trial.sections.get("analysis")
     if not isinstance(cfg, AnalysisConfig):
         cfg = AnalysisConfig()
-    return AnalysisSource(table, tuple(trial.factors), responses, goals, cfg,
+    return AnalysisSource(table, tuple(trial.factors), responses, aims, cfg,
                           int(trial.seed or 0), str(trial.path), tuple(trial.responses))
 
 

@@ -43,7 +43,7 @@ from trialkit.analysis.linear import batched_refit
 from trialkit.exceptions import AnalysisError
 from trialkit.modelspec import model_matrix
 
-GOALS = ("maximize", "minimize")
+AIMS = ("higher", "lower")
 RIDGE_RATIO = 1e-3
 
 
@@ -96,7 +96,7 @@ class SurfaceResult:
     Attributes
     ----------
     fit : ModelFit
-    goal : str
+    aim : str
     factors : tuple of str
         Continuous factors of the surface (coded axes in this order).
     fixed : dict
@@ -117,7 +117,7 @@ class SurfaceResult:
     """
 
     fit: object
-    goal: str
+    aim: str
     factors: tuple[str, ...]
     fixed: dict
     b: np.ndarray
@@ -205,7 +205,7 @@ class SurfaceResult:
     def to_dict(self) -> dict:
         opt = {k: (finite(v) if isinstance(v, (float, np.floating)) else v)
                for k, v in self.optimum.items() if k != "coded"}
-        return {"kind": self.kind, "goal": self.goal,
+        return {"kind": self.kind, "aim": self.aim,
                 "eigenvalues": [float(v) for v in self.eigenvalues],
                 "stationary_point": self.stationary_point, "optimum": opt,
                 "bootstrap": None if self.bootstrap is None
@@ -248,8 +248,8 @@ def _best_in_box(c, b, B, region, sign, starts):
     return best.x, -sign * best.fun
 
 
-def fit_surface(fit, *, goal: str = "maximize", fixed: Mapping[str, str] | None = None,
-                region: np.ndarray | None = None, n_starts: int = 12, seed: int = 0,
+def fit_surface(fit, *, aim: str = "higher", fixed: Mapping[str, str] | None = None,
+                region: np.ndarray | None = None, n_tries: int = 12, seed: int = 0,
                 n_boot: int = 0) -> SurfaceResult:
     """Canonical analysis and best point of a second-order model.
 
@@ -257,19 +257,19 @@ def fit_surface(fit, *, goal: str = "maximize", fixed: Mapping[str, str] | None 
     ----------
     fit : ModelFit
         With squares of the continuous factors in its model.
-    goal : {"maximize", "minimize"}
+    aim : {"higher", "lower"}
     fixed : mapping, optional
         Categorical factor levels to hold; default: every combination is searched.
     region : array (k, 2), optional
         Coded bounds; default: the observed coded range of each factor.
-    n_starts : int
+    n_tries : int
         Random starts (seeded) besides the centre, the corners and the stationary point.
     seed : int
     n_boot : int
         Residual-bootstrap resamples for the best point's interval (0 = none).
     """
-    if goal not in GOALS:
-        raise AnalysisError(f"goal must be one of {GOALS}, got {goal!r}")
+    if aim not in AIMS:
+        raise AnalysisError(f"aim must be one of {AIMS}, got {aim!r}")
     cont = continuous_factors(fit)
     if not cont:
         raise AnalysisError("a response surface needs at least one continuous factor")
@@ -278,7 +278,7 @@ def fit_surface(fit, *, goal: str = "maximize", fixed: Mapping[str, str] | None 
         xc = fit.coded[list(names)].astype(float).to_numpy()
         region = np.column_stack([xc.min(axis=0), xc.max(axis=0)])
     region = np.asarray(region, dtype=float)
-    sign = 1.0 if goal == "maximize" else -1.0
+    sign = 1.0 if aim == "higher" else -1.0
     cats = [f for f in fit.spec.used_factors if f.is_categorical and f.name != "block"]
     if fixed is not None:
         combos = [dict(fixed)]
@@ -294,7 +294,7 @@ def fit_surface(fit, *, goal: str = "maximize", fixed: Mapping[str, str] | None 
         ops = quadratic_operators(fit, combo)
         c, b, B = ops[0] @ beta, ops[1] @ beta, ops[2] @ beta
         starts = [region.mean(axis=1), *map(np.array, corners),
-                  *rng.uniform(region[:, 0], region[:, 1], size=(n_starts, k))]
+                  *rng.uniform(region[:, 0], region[:, 1], size=(n_tries, k))]
         try:
             xs = np.linalg.solve(B, -b / 2)
             starts.append(xs)
@@ -305,7 +305,7 @@ def fit_surface(fit, *, goal: str = "maximize", fixed: Mapping[str, str] | None 
             best = (x, val, combo, ops, b, B, xs)
     x, val, combo, ops, b, B, xs = best
     eig, vec = np.linalg.eigh(B)
-    result = SurfaceResult(fit, goal, names, combo, b, B, xs, eig, vec, _kind(eig), region,
+    result = SurfaceResult(fit, aim, names, combo, b, B, xs, eig, vec, _kind(eig), region,
                            {}, None, ops)
     settings = result._natural(x)
     pred = fit.predict(pd.DataFrame([settings])).iloc[0]
@@ -349,7 +349,7 @@ def bootstrap_optimum(fit, ops, region: np.ndarray, sign: float, n_boot: int, se
     """Residual-bootstrap percentile interval of the best point, solved in one batch.
 
     Every resample's coefficients come from one QR; its best point is the stationary
-    point when that is an optimum of the goal's kind inside the region, otherwise the best
+    point when that is an optimum of the aim's kind inside the region, otherwise the best
     point of a grid over the region.
     """
     rng = np.random.default_rng(seed)

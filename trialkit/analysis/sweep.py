@@ -1,4 +1,4 @@
-"""Concentration sweeps: the best level, its intervals, the practical sweet spot, fall-off.
+"""Concentration sweeps: the best level, its intervals, the practical lean level, fall-off.
 
 A sweep varies one continuous factor (chelator concentration, say) over several levels.
 The response is fitted as a quadratic in that factor.  Reported:
@@ -10,7 +10,7 @@ The response is fitted as a quadratic in that factor.  Reported:
   not significant (then ``fieller_bounded`` is False);
 * a residual-bootstrap percentile interval of the best level (all resamples solved at
   once);
-* the *practical* sweet spot: the lowest level whose predicted response is within
+* the *practical* lean level: the lowest level whose predicted response is within
   ``tolerance`` of the best (since the chelator costs money);
 * a fall-off flag: the curvature is significant, the vertex is inside the range and the
   prediction at the highest level is worse than the best by more than the tolerance.
@@ -51,7 +51,7 @@ class SweepResult:
     fit : ModelFit
         Quadratic fit ``factor + factor^2``.
     factor : Factor
-    goal : str
+    aim : str
     best : float
         Level of best predicted response inside the range.
     vertex : float or None
@@ -63,7 +63,7 @@ class SweepResult:
         Bootstrap percentile interval of ``best`` (NaN when not computed).
     tolerance : float
         In response units.
-    sweet_spot : float
+    lean_level : float
         Lowest level whose prediction is within ``tolerance`` of the best.
     falls_off : bool
     optimum : dict
@@ -72,7 +72,7 @@ class SweepResult:
 
     fit: object
     factor: Factor
-    goal: str
+    aim: str
     best: float
     vertex: float | None
     fieller_low: float
@@ -81,7 +81,7 @@ class SweepResult:
     boot_low: float
     boot_high: float
     tolerance: float
-    sweet_spot: float
+    lean_level: float
     falls_off: bool
     drop_at_high: float
     optimum: dict
@@ -102,7 +102,7 @@ class SweepResult:
         return pd.DataFrame([{"factor": self.factor.name, "best": self.best,
                               "fieller_low": self.fieller_low,
                               "fieller_high": self.fieller_high, "boot_low": self.boot_low,
-                              "boot_high": self.boot_high, "sweet_spot": self.sweet_spot,
+                              "boot_high": self.boot_high, "lean_level": self.lean_level,
                               "tolerance": self.tolerance, "falls_off": self.falls_off,
                               "drop_at_high": self.drop_at_high}])
 
@@ -112,14 +112,14 @@ class SweepResult:
         row["falls_off"] = bool(self.falls_off)
         row["vertex"] = finite(self.vertex) if self.vertex is not None else None
         row["fieller_bounded"] = bool(self.fieller_bounded)
-        row["goal"] = self.goal
+        row["aim"] = self.aim
         return {"sweep": row, "optimum": {k: (finite(v) if isinstance(v, float) else v)
                                           for k, v in self.optimum.items()}}
 
     def __repr__(self) -> str:
         return (f"SweepResult({self.factor.name}: best {self.best:.4g} "
-                f"[Fieller {self.fieller_low:.4g}, {self.fieller_high:.4g}], sweet spot "
-                f"{self.sweet_spot:.4g}, falls off: {self.falls_off})")
+                f"[Fieller {self.fieller_low:.4g}, {self.fieller_high:.4g}], lean level "
+                f"{self.lean_level:.4g}, falls off: {self.falls_off})")
 
     def _repr_html_(self) -> str:
         return self.summary.to_html(index=False)
@@ -142,7 +142,7 @@ def fieller_vertex(b1: float, b2: float, v11: float, v12: float, v22: float, t: 
     return float("-inf"), float("inf"), False
 
 
-def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, goal: str = "maximize",
+def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = "higher",
               tolerance: float | None = None, relative_tolerance: float = 0.05,
               alpha: float = 0.05, n_boot: int = 2000, seed: int = 0,
               block: str | None = None) -> SweepResult:
@@ -154,8 +154,8 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, goal: str =
         Allowed shortfall from the best, in response units; default
         ``relative_tolerance * |best prediction|``.
     """
-    if goal not in ("maximize", "minimize"):
-        raise AnalysisError(f"goal must be 'maximize' or 'minimize', got {goal!r}")
+    if aim not in ("higher", "lower"):
+        raise AnalysisError(f"aim must be 'higher' or 'lower', got {aim!r}")
     if not factor.is_continuous:
         raise AnalysisError(f"a sweep needs a continuous factor; {factor.name!r} is "
                             f"{factor.kind}")
@@ -171,7 +171,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, goal: str =
     names, est, cov = natural_coefficients(fit.mm, fit.ls.beta, fit.cov)
     i1, i2 = names.index(factor.name), names.index(f"{factor.name}^2")
     b1, b2 = est[i1], est[i2]
-    sign = 1.0 if goal == "maximize" else -1.0
+    sign = 1.0 if aim == "higher" else -1.0
     lo, hi = float(levels.min()), float(levels.max())
     grid = np.linspace(lo, hi, 4001)
     pred = fit.predict(pd.DataFrame({factor.name: grid})).predicted.to_numpy()
@@ -195,7 +195,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, goal: str =
     optimum = {"settings": {factor.name: best}, "predicted": float(best_pred.predicted),
                "pi_low": float(best_pred.pi_low), "pi_high": float(best_pred.pi_high),
                "ci_low": float(best_pred.ci_low), "ci_high": float(best_pred.ci_high)}
-    return SweepResult(fit, factor, goal, best, None if vertex is None else float(vertex),
+    return SweepResult(fit, factor, aim, best, None if vertex is None else float(vertex),
                        flo, fhi, bounded, blo, bhi, tol, sweet, falls, drop, optimum)
 
 

@@ -30,8 +30,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="column of blocks, a fixed effect (default 'block')")
     parser.add_argument("--sweep", metavar="FACTOR",
                         help="analyse a one-factor sweep of FACTOR")
-    parser.add_argument("--goal", choices=("maximize", "minimize"),
-                        help="for the best point (default: the trial's goal, else maximize)")
+    parser.add_argument("--aim", choices=("higher", "lower"),
+                        help="for the best point (default: the trial's aim, else higher)")
     parser.add_argument("--reduce", choices=("none", "p", "aic", "bic"),
                         help="hierarchical backward reduction of the model")
     parser.add_argument("--threshold", type=float, help="p threshold for --reduce p")
@@ -69,14 +69,14 @@ def run(args: argparse.Namespace) -> int:
         return _compromise(args, source)
     column = response_for(source, args.response)
     name = next((k for k, v in source.responses.items() if v == column), column)
-    goal = args.goal or source.goals.get(name, "maximize")
+    aim = args.aim or source.aims.get(name, "higher")
     result = analyze_table(
         source.table, column, source.factors,
         model=args.model or cfg.model_for(name),
         anova_type=args.anova_type or cfg.anova_type,
         alpha=args.alpha if args.alpha is not None else cfg.alpha,
         block=args.block, sweep=args.sweep or cfg.sweep,
-        goal=goal if goal in ("maximize", "minimize") else "maximize",
+        aim=aim if aim in ("higher", "lower") else "higher",
         reduce=args.reduce or cfg.reduce,
         threshold=args.threshold if args.threshold is not None else cfg.threshold,
         n_boot=args.bootstrap if args.bootstrap is not None else cfg.bootstrap,
@@ -98,11 +98,11 @@ def _compromise(args: argparse.Namespace, source) -> int:
     if not source.specs:
         raise AnalysisError("--compromise needs a trial folder whose [[response]] entries "
                             "give lower and upper limits")
-    goals = source.goals_with_limits()
+    aims = source.aims_with_limits()
     models = {source.responses[k]: v for k, v in source.config.response_models.items()
               if k in source.responses}
     cfg = source.config
-    res = best_compromise(source.table, source.factors, goals, models=models or None,
+    res = best_compromise(source.table, source.factors, aims, models=models or None,
                           block=args.block, seed=args.seed if args.seed is not None
                           else source.seed,
                           alpha=args.alpha if args.alpha is not None else cfg.alpha)

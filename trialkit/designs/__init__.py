@@ -52,9 +52,9 @@ def build_design(factors: Sequence[Factor], kind: str, options: Mapping | None =
     options : mapping
         Kind-specific options (see :data:`DESIGN_OPTIONS`).
     seed : int or None
-        The trial seed (used by random designs: Latin hypercube, optimal starts).
+        The trial seed (used by random designs: Latin hypercube, optimal tries).
     folder : path, optional
-        The trial folder, against which an optimal design's ``augment`` path is read.
+        The trial folder, against which an optimal design's ``runs_done`` path is read.
 
     Returns
     -------

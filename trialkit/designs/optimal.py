@@ -6,7 +6,7 @@ factor, and the points where a linear constraint meets that coordinate) that mos
 improves the criterion, until a whole pass brings no gain.  The D criterion is compared
 as a log-determinant and the search runs on ``X'X + eps I`` so that a singular start
 never stalls it; the I criterion is the average prediction variance over the design
-region.  Runs fixed in advance and the runs of an earlier plan (augmentation) stay put.
+region.  Runs to keep and the runs of an earlier plan (runs done) stay put.
 Replicated points are allowed.
 
 Examples
@@ -34,23 +34,24 @@ from trialkit.designs.exchange import Region, coordinate_exchange
 from trialkit.exceptions import DesignError, ModelSpecError
 from trialkit.factors import Factor
 from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.retired_names import retired_key_hint
 
 CRITERIA = ("D", "I")
 #: Trial-file options of ``kind = "optimal"`` -> description.
 OPTION_DESCRIPTIONS: dict[str, str] = {
-    "runs": "whole number (required): runs the search chooses, besides fixed runs",
+    "runs": "whole number (required): runs the search chooses, besides runs to keep",
     "model": "model the design must estimate: main, interactions, quadratic (default) or "
              "terms joined by '+'",
     "criterion": "\"D\" (default; precise coefficients) or \"I\" (precise predictions)",
-    "starts": "random starts, best kept (default 10)",
+    "tries": "random starting designs, best kept (default 10)",
     "grid": "levels per continuous factor tried by the exchange (default 5)",
     "constraints": "list of linear constraints in natural units, "
                    "e.g. [\"ph >= 4 + 0.2*chelator\"]",
-    "disallow": "list of combinations that cannot be mixed, e.g. "
+    "cannot_mix": "list of combinations that cannot be mixed, e.g. "
                 "[{surfactant = \"added\", temperature = [40, 50]}]",
-    "fixed": "list of runs fixed in advance, every factor in natural units",
-    "augment": "path of an earlier plan.csv whose runs the new ones complement",
-    "max_passes": "passes over all coordinates per start (default 50)",
+    "keep_runs": "list of runs that must be in the design, every factor in natural units",
+    "runs_done": "path of an earlier plan.csv whose runs the new ones complement",
+    "max_passes": "passes over all coordinates per try (default 50)",
 }
 OPTION_KEYS = tuple(OPTION_DESCRIPTIONS)
 
@@ -62,15 +63,15 @@ class OptimalResult:
     Attributes
     ----------
     coded : DataFrame
-        All runs (fixed and earlier runs first), coded units / level labels.
+        All runs (runs to keep and runs done first), coded units / level labels.
     new : numpy.ndarray of bool
-        Which rows were chosen by the search (False for fixed and earlier runs).
+        Which rows were chosen by the search (False for runs to keep and runs done).
     criterion : str
     log_det : float
         ``log det(X'X/n)`` of the whole design.
     d_efficiency, average_variance : float
-    start_values : list of float
-        Criterion reached from each start (log-determinant for D, average variance for I).
+    try_values : list of float
+        Criterion reached from each try (log-determinant for D, average variance for I).
     """
 
     coded: pd.DataFrame
@@ -80,14 +81,14 @@ class OptimalResult:
     log_det: float
     d_efficiency: float
     average_variance: float
-    start_values: list[float] = field(default_factory=list)
+    try_values: list[float] = field(default_factory=list)
 
     def to_dict(self) -> dict:
         return {"criterion": self.criterion, "model": self.model, "runs": len(self.coded),
                 "new_runs": int(self.new.sum()), "log_det": self.log_det,
                 "d_efficiency": self.d_efficiency,
                 "average_variance": self.average_variance,
-                "start_values": list(self.start_values)}
+                "try_values": list(self.try_values)}
 
     def __repr__(self) -> str:
         return (f"OptimalResult({self.criterion}-optimal, {len(self.coded)} runs, model "
@@ -99,8 +100,8 @@ class OptimalResult:
 
 def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
                    criterion: str = "D", constraints: Sequence[str] = (),
-                   disallow: Sequence[Mapping] = (), fixed: pd.DataFrame | None = None,
-                   existing: pd.DataFrame | None = None, starts: int = 10, grid: int = 5,
+                   cannot_mix: Sequence[Mapping] = (), keep_runs: pd.DataFrame | None = None,
+                   runs_done: pd.DataFrame | None = None, tries: int = 10, grid: int = 5,
                    max_passes: int = 50, seed: int = 0) -> OptimalResult:
     """Search a D- or I-optimal design of ``runs`` new runs.
 
@@ -108,20 +109,20 @@ def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
     ----------
     factors : sequence of Factor
     runs : int
-        Number of runs the search chooses (besides ``fixed`` and ``existing`` rows).
+        Number of runs the search chooses (besides ``keep_runs`` and ``runs_done`` rows).
     model : str or sequence of str
         Model the design must estimate (``"main"``, ``"interactions"``, ``"quadratic"``,
         ``"a + b + a:b"``).
     criterion : {"D", "I"}
     constraints : sequence of str
         Linear constraints in natural units, e.g. ``"ph >= 4 + 0.2*chelator"``.
-    disallow : sequence of dict
+    cannot_mix : sequence of dict
         Combinations that cannot be mixed (see :class:`~trialkit.designs.constraints.Disallowed`).
-    fixed, existing : DataFrame, optional
-        Runs that must stay in the design (coded units / labels): fixed in advance or
+    keep_runs, runs_done : DataFrame, optional
+        Runs that must stay in the design (coded units / labels): chosen in advance, or
         already run in an earlier plan.
-    starts, grid, max_passes, seed : int
-        Random starts, levels per continuous factor, passes per start, random seed.
+    tries, grid, max_passes, seed : int
+        Random starting designs, levels per continuous factor, passes per try, random seed.
     """
     factors = tuple(factors)
     criterion = str(criterion).upper()
@@ -129,13 +130,13 @@ def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
         raise DesignError(f"criterion must be one of {list(CRITERIA)}, got {criterion!r}")
     dm = pw.DesignModel.from_spec(model, factors)
     region = Region(factors, [parse_constraint(c, factors) for c in constraints],
-                     [parse_disallowed(d, factors) for d in disallow], int(grid))
+                     [parse_disallowed(d, factors) for d in cannot_mix], int(grid))
     region.check_feasible()
-    kept = [t for t in (existing, fixed) if t is not None and len(t)]
+    kept = [t for t in (runs_done, keep_runs) if t is not None and len(t)]
     U0 = np.vstack([dm.encode(t) for t in kept]) if kept else np.empty((0, len(factors)))
     if len(U0) and not region.feasible(U0).all():
         bad = np.flatnonzero(~region.feasible(U0)) + 1
-        raise DesignError(f"fixed or earlier runs {bad.tolist()} lie outside the allowed "
+        raise DesignError(f"runs to keep or runs done {bad.tolist()} lie outside the allowed "
                           "region (ranges, constraints, disallowed combinations); correct "
                           "them or drop the constraint")
     n = len(U0) + int(runs)
@@ -152,7 +153,7 @@ def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
     free = np.r_[np.zeros(len(U0), bool), np.ones(int(runs), bool)]
     tables = [dm.factor_columns(j, region.values[j]) for j in range(len(factors))]
     best_U, best_val, values = None, None, []
-    for _ in range(max(1, int(starts))):
+    for _ in range(max(1, int(tries))):
         U = np.vstack([U0, pool[rng.integers(0, len(pool), int(runs))]])
         U = coordinate_exchange(dm, region, U, free, criterion, W, rng, max_passes, tables)
         X = dm.expand(U)
@@ -164,7 +165,7 @@ def optimal_design(factors: Sequence[Factor], runs: int, *, model="quadratic",
         if np.isfinite(ld) and better:
             best_U, best_val = U.copy(), val
     if best_U is None or np.linalg.matrix_rank(dm.expand(best_U)) < dm.p:
-        raise DesignError(f"no start gave a design that can estimate model {model!r} "
+        raise DesignError(f"no try gave a design that can estimate model {model!r} "
                           f"({dm.p} coefficients) within the allowed region; add runs, "
                           "use a smaller model or relax the constraints")
     X = dm.expand(best_U)
@@ -199,7 +200,7 @@ def _read_existing(path: Path, factors) -> pd.DataFrame:
         table = table[~table.point.isin(("control", "reference"))]
     missing = [f.name for f in factors if f.name not in table]
     if missing:
-        raise DesignError(f"earlier plan {path} has no column for {missing}; augment needs "
+        raise DesignError(f"earlier plan {path} has no column for {missing}; runs_done needs "
                           "a plan.csv of a trial with the same factors")
     table = table.dropna(subset=[f.name for f in factors])
     return _natural_rows(table.to_dict("records"), factors, f"earlier plan {path.name}")
@@ -216,8 +217,9 @@ def check_optimal_options(factors: Sequence[Factor], options: Mapping,
     for key in options:
         if key not in OPTION_KEYS:
             bad(key, f"unknown option {key!r} for an optimal design", key,
-                did_you_mean(key, list(OPTION_KEYS)), "unknown_option")
-    ints = {"runs": (1, 10_000), "starts": (1, 1000), "grid": (2, 21), "max_passes": (1, 1000)}
+                retired_key_hint("optimal", key) or did_you_mean(key, list(OPTION_KEYS)),
+                "unknown_option")
+    ints = {"runs": (1, 10_000), "tries": (1, 1000), "grid": (2, 21), "max_passes": (1, 1000)}
     for key, (lo, hi) in ints.items():
         if key in options:
             v = options[key]
@@ -236,7 +238,7 @@ def check_optimal_options(factors: Sequence[Factor], options: Mapping,
     except ModelSpecError as exc:
         bad("model", str(exc), options.get("model"), "main, interactions, quadratic or "
             "'a + b + a:b'", "bad_model")
-    for key, parse in (("constraints", parse_constraint), ("disallow", parse_disallowed)):
+    for key, parse in (("constraints", parse_constraint), ("cannot_mix", parse_disallowed)):
         items = options.get(key, [])
         if not isinstance(items, list):
             bad(key, f"{key} must be a list", items, f"write {key} = [ ... ]", "not_list")
@@ -248,21 +250,22 @@ def check_optimal_options(factors: Sequence[Factor], options: Mapping,
                 problems.add(f"{where}.{key}[{i}]", str(exc), value=item,
                              check=f"bad_{key}", fix="see the message")
     n_fixed = 0
-    fixed = options.get("fixed", [])
-    if not isinstance(fixed, list) or not all(isinstance(r, Mapping) for r in fixed):
-        bad("fixed", "fixed must be a list of tables {factor = value}", fixed,
-            "write fixed = [{chelator = 4, ph = 6}]", "not_list")
+    keep = options.get("keep_runs", [])
+    if not isinstance(keep, list) or not all(isinstance(r, Mapping) for r in keep):
+        bad("keep_runs", "keep_runs must be a list of tables {factor = value}", keep,
+            "write keep_runs = [{chelator = 4, ph = 6}]", "not_list")
     else:
         try:
-            n_fixed = len(_natural_rows(fixed, factors, "fixed"))
+            n_fixed = len(_natural_rows(keep, factors, "run to keep"))
         except (DesignError, ValueError, KeyError, TypeError) as exc:
-            bad("fixed", str(exc), fixed, "give every factor a value in its range",
-                "bad_fixed")
-    if "augment" in options and not isinstance(options["augment"], str):
-        bad("augment", "augment must be the path of an earlier plan.csv", options["augment"],
-            "write augment = \"../first-trial/plan.csv\"", "bad_augment")
+            bad("keep_runs", str(exc), keep, "give every factor a value in its range",
+                "bad_keep_runs")
+    if "runs_done" in options and not isinstance(options["runs_done"], str):
+        bad("runs_done", "runs_done must be the path of an earlier plan.csv",
+            options["runs_done"], "write runs_done = \"../first-trial/plan.csv\"",
+            "bad_runs_done")
     runs = options.get("runs")
-    if p is not None and isinstance(runs, int) and "augment" not in options \
+    if p is not None and isinstance(runs, int) and "runs_done" not in options \
             and runs + n_fixed < p:
         bad("runs", f"the model has {p} coefficients, so at least {p} runs are needed",
             runs, f"write runs = {p - n_fixed} or more, or use a smaller model",
@@ -273,37 +276,37 @@ def build_optimal(factors: Sequence[Factor], options: Mapping, *, seed: int,
                   folder: str | Path | None = None) -> Design:
     """The ``kind = "optimal"`` design builder (point type ``"optimal"``).
 
-    Fixed runs are part of the design; runs of an earlier plan (``augment``) are not
+    Runs to keep are part of the design; runs of an earlier plan (``runs_done``) are not
     repeated: the design holds only the new runs, chosen to complement them.
     """
     factors = tuple(factors)
     problems = ProblemReport("design options")
     check_optimal_options(factors, options, problems)
     problems.raise_if_any(DesignError, "the optimal design options have problems")
-    fixed = options.get("fixed", [])
-    fixed_df = _natural_rows(fixed, factors, "fixed") if fixed else None
+    keep = options.get("keep_runs", [])
+    keep_df = _natural_rows(keep, factors, "run to keep") if keep else None
     existing = None
-    if "augment" in options:
-        path = Path(options["augment"])
+    if "runs_done" in options:
+        path = Path(options["runs_done"])
         if not path.is_absolute() and folder is not None:
             path = Path(folder) / path
         if not path.exists():
-            raise DesignError(f"augment: earlier plan {path} not found; give the path of "
+            raise DesignError(f"runs_done: earlier plan {path} not found; give the path of "
                               "its plan.csv, relative to the trial folder")
         existing = _read_existing(path, factors)
     res = optimal_design(
         factors, options["runs"], model=options.get("model", "quadratic"),
         criterion=options.get("criterion", "D"), constraints=options.get("constraints", ()),
-        disallow=options.get("disallow", ()), fixed=fixed_df, existing=existing,
-        starts=options.get("starts", 10), grid=options.get("grid", 5),
+        cannot_mix=options.get("cannot_mix", ()), keep_runs=keep_df, runs_done=existing,
+        tries=options.get("tries", 10), grid=options.get("grid", 5),
         max_passes=options.get("max_passes", 50), seed=seed)
     n_old = 0 if existing is None else len(existing)
     coded = res.coded.iloc[n_old:].reset_index(drop=True)
     notes = [f"{res.criterion}-optimal design for model {res.model!r} by coordinate "
-             f"exchange, best of {len(res.start_values)} seeded starts; D-efficiency "
+             f"exchange, best of {len(res.try_values)} seeded tries; D-efficiency "
              f"{res.d_efficiency:.1f} %"]
-    if fixed_df is not None:
-        notes.append(f"{len(fixed_df)} run(s) fixed in advance are included")
+    if keep_df is not None:
+        notes.append(f"{len(keep_df)} run(s) to keep are included")
     if existing is not None:
         notes.append(f"chosen to complement {n_old} run(s) of an earlier plan, which are "
                      "not repeated here")

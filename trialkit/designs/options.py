@@ -32,7 +32,7 @@ sweep_count_invalid        ``count`` not a whole number >= 2
 spacing_invalid            ``spacing`` not linear or geometric
 geometric_nonpositive      geometric spacing with low <= 0
 runs_invalid               Latin hypercube ``runs`` not a whole number >= 2
-criterion_invalid          unknown Latin hypercube criterion
+spread_invalid             unknown Latin hypercube spread
 =========================  ============================================================
 
 Examples
@@ -54,11 +54,12 @@ from trialkit.designs.aliasing import alias_structure, roman
 from trialkit.designs.generators import check_generator_set
 from trialkit.designs.optimal import OPTION_DESCRIPTIONS as OPTIMAL_OPTIONS
 from trialkit.designs.optimal import check_optimal_options
-from trialkit.designs.space import LHS_CRITERIA
+from trialkit.designs.space import LHS_SPREADS
 from trialkit.designs.twolevel import fraction_matrix
 from trialkit.exceptions import DesignError
 from trialkit.factors import FACTOR_LETTERS, Factor
 from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.retired_names import retired_key_hint, retired_value_hint
 
 DESIGN_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman",
                 "central-composite", "box-behnken", "sweep", "latin-hypercube", "optimal")
@@ -89,8 +90,10 @@ DESIGN_OPTIONS: dict[str, dict[str, str]] = {
     },
     "latin-hypercube": {
         "runs": "whole number >= 2 of points (default 10 per continuous factor)",
-        "criterion": "\"center\", \"maximin\", \"centermaximin\" or \"correlation\"",
-        "iterations": "whole number >= 1 of tries for the criterion (default 5)",
+        "spread": "\"cell-centres\", \"widest-gaps\", \"centred-gaps\" or "
+                  "\"least-correlated\" (default: plain random points in their cells)",
+        "iterations": "whole number >= 1 of random hypercubes to choose the spread from "
+                      "(default 5)",
     },
     "optimal": OPTIMAL_OPTIONS,
 }
@@ -120,8 +123,9 @@ def check_design_options(factors: Sequence[Factor], kind: str, options: Mapping,
     allowed = DESIGN_OPTIONS[kind]
     for key in options:
         if key not in allowed:
-            fix = did_you_mean(str(key), tuple(allowed)) if allowed else \
-                f"{kind} takes no options; remove it"
+            fix = (retired_key_hint(kind, str(key))
+                   or (did_you_mean(str(key), tuple(allowed)) if allowed
+                       else f"{kind} takes no options; remove it"))
             add(f"{where}.{key}", f"{kind} does not take option {key!r}", value=key,
                 fix=fix, check="unknown_design_option")
     opts = {k: v for k, v in options.items() if k in allowed}
@@ -336,10 +340,12 @@ def _check_lhs(factors, cont, cats, opts, problems, where):
     if runs is not None and not (_is_int(runs) and runs >= 2):
         problems.add(f"{where}.runs", "runs must be a whole number >= 2", value=runs,
                      check="runs_invalid", fix="e.g. runs = 20")
-    crit = opts.get("criterion")
-    if crit is not None and crit not in LHS_CRITERIA:
-        problems.add(f"{where}.criterion", "unknown criterion", value=crit,
-                     check="criterion_invalid", fix=did_you_mean(str(crit), LHS_CRITERIA))
+    spread = opts.get("spread")
+    if spread is not None and spread not in LHS_SPREADS:
+        problems.add(f"{where}.spread", "unknown spread", value=spread,
+                     check="spread_invalid",
+                     fix=(retired_value_hint("design.spread", spread)
+                          or did_you_mean(str(spread), list(LHS_SPREADS))))
     it = opts.get("iterations")
     if it is not None and not (_is_int(it) and it >= 1):
         problems.add(f"{where}.iterations", "iterations must be a whole number >= 1",

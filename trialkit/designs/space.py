@@ -21,7 +21,14 @@ from trialkit.designs.base import Design
 from trialkit.exceptions import DesignError
 from trialkit.factors import Factor
 
-LHS_CRITERIA = ("center", "maximin", "centermaximin", "correlation")
+#: How a Latin hypercube spreads its points (``spread`` option) -> pyDOE3's criterion.
+#: ``least-correlated`` is done here (see :func:`_least_correlated`).
+LHS_SPREADS = {
+    "cell-centres": "center",          # each point at the centre of its cell
+    "widest-gaps": "maximin",          # largest smallest distance between points
+    "centred-gaps": "centermaximin",   # the same, points at their cells' centres
+    "least-correlated": None,          # lowest largest correlation between factors
+}
 
 
 def sweep_factor(factors: Sequence[Factor], options: Mapping) -> Factor:
@@ -79,27 +86,27 @@ def build_latin_hypercube(factors: Sequence[Factor], options: Mapping, seed) -> 
         raise DesignError("a Latin hypercube needs at least one continuous factor")
     runs = int(options.get("runs", 10 * k))
     rng = np.random.default_rng(seed)
-    crit = options.get("criterion")
+    spread = options.get("spread")
     iterations = int(options.get("iterations") or 5)
-    if crit == "correlation":
+    if spread == "least-correlated":
         u = _least_correlated(k, runs, iterations, rng)
-    elif crit is not None:
-        u = lhs(k, samples=runs, criterion=crit, iterations=iterations, seed=rng)
+    elif spread is not None:
+        u = lhs(k, samples=runs, criterion=LHS_SPREADS[spread], iterations=iterations,
+                seed=rng)
     else:
         u = lhs(k, samples=runs, seed=rng)
     core = 2.0 * u - 1.0  # pyDOE3 gives [0, 1]; we scale to coded -1..+1 ourselves
     coded, point = cross(factors, core, ("space-filling",) * runs)
     return Design("latin-hypercube", tuple(factors), coded, point, has_center=False,
                   notes=[f"Latin hypercube of {runs} points, seed {seed}"
-                         + (f", criterion {options['criterion']}"
-                            if options.get("criterion") else "")])
+                         + (f", spread {spread}" if spread else "")])
 
 
 def _least_correlated(k: int, runs: int, iterations: int, rng) -> np.ndarray:
     """Of ``iterations`` random Latin hypercubes, the one with the smallest largest
     absolute correlation between factors.
 
-    Done here because pyDOE3 1.6.2's ``criterion="correlation"`` fails when every
+    Done here because pyDOE3 1.6.2's own correlation criterion fails when every
     correlation is +1 (one factor, or two runs).
     """
     best, best_c = None, np.inf

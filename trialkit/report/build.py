@@ -130,7 +130,7 @@ def _brief(data: TrialData) -> list[Block]:
                           "levels": _levels(f)} for f in t.factors])
     blocks.append(Block.frame(ftab, "Factors and their levels"))
     if t.responses:
-        rtab = pd.DataFrame([{"response": r.name, "unit": pretty_unit(r.unit), "goal": r.goal,
+        rtab = pd.DataFrame([{"response": r.name, "unit": pretty_unit(r.unit), "aim": r.aim,
                               "computed as": r.measure or r.name} for r in t.responses])
         blocks.append(Block.frame(rtab, "Responses"))
     return blocks + _notes(data, "plan")
@@ -152,14 +152,14 @@ def _findings(data: TrialData) -> list:
             interval = (f"Fieller 95 % interval {sw.fieller_low:.3g} to {sw.fieller_high:.3g} "
                         f"{f.unit}" if sw.fieller_bounded else "its interval is unbounded")
             text = (f"{name.capitalize()} is best at {f.name} {sw.best:.3g} {f.unit} "
-                    f"({interval}); the practical sweet spot, the lowest level within "
-                    f"{_size(sw.tolerance, unit)} of the best, is {sw.sweet_spot:.3g} {f.unit}."
+                    f"({interval}); the practical lean level, the lowest level within "
+                    f"{_size(sw.tolerance, unit)} of the best, is {sw.lean_level:.3g} {f.unit}."
                     + (f" Above the best level {name} gets worse again, by "
                        f"{_size(sw.drop_at_high, unit)} at the top of the range"
-                       f" ({'higher' if sw.goal == 'minimize' else 'lower'}"
+                       f" ({'higher' if sw.aim == 'lower' else 'lower'}"
                        f" {name})." if sw.falls_off else ""))
             out.append(Finding(text, name, f.name, "sweep",
-                               {"best": sw.best, "sweet_spot": sw.sweet_spot,
+                               {"best": sw.best, "lean_level": sw.lean_level,
                                 "fieller_low": sw.fieller_low,
                                 "fieller_high": sw.fieller_high}))
     if data.kinetics:
@@ -211,7 +211,8 @@ def _models(data: TrialData) -> list[Block]:
     for name, fit in data.fits.items():
         an = fit.anova(2)
         blocks.append(Block.para(
-            f"{name} ~ {fit.spec.to_text()}: {fit.n} baths, R² = {fit.r_squared:.3f}, "
+            f"{fit.equation()} (factors in coded units, low -1 to high +1): "
+            f"{fit.n} baths, R² = {fit.r_squared:.3f}, "
             f"adjusted R² = {fit.adj_r_squared:.3f}, predicted R² = {fit.pred_r_squared:.3f}, "
             f"residual degrees of freedom {fit.df_resid}, test: {an.test}."))
         blocks.append(Block.frame(an.summary, f"Analysis of variance for {name} (type II)"))

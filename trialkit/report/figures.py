@@ -50,7 +50,7 @@ def effect_figures(data, name: str) -> list[Block]:
         sw = surfaces.from_sweep(data.sweeps[name], unit=unit)
         out.append(embed(lambda: plots.sweep(sw),
                          f"{name} across the {sw.factor} sweep: fitted curve with 95 % band, "
-                         "bath means, best level and practical sweet spot"))
+                         "bath means, best level and practical lean level"))
         return out
     out.append(embed(lambda: plots.main_effects(fit, unit=unit),
                      f"Main effects on {name}: predicted along each factor, others at their "
@@ -62,8 +62,9 @@ def effect_figures(data, name: str) -> list[Block]:
                          f"Interaction of {a} and {b} on {name}"))
     if name in data.effects:
         eff = data.effects[name]
-        out.append(embed(lambda: plots.pareto(eff),
-                         f"Standardized effects on {name} with Lenth's margin of error"))
+        out.append(embed(lambda: plots.effect_margins(eff, unit=unit),
+                         f"Effects on {name} in the order of the alias table, against "
+                         "Lenth's margin of error (ME) and simultaneous margin (SME)"))
         out.append(embed(lambda: plots.half_normal(eff, unit=unit),
                          f"Half-normal plot of the effects on {name}"))
     if name in data.surfaces and len(data.surfaces[name].factors) >= 2:

@@ -188,8 +188,8 @@ def config_of(trial):
     return sec if isinstance(sec, AnalysisConfig) else AnalysisConfig()
 
 
-def _goal(spec) -> str:
-    return spec.goal if spec.goal in ("maximize", "minimize") else "maximize"
+def _aim(spec) -> str:
+    return spec.aim if spec.aim in ("higher", "lower") else "higher"
 
 
 def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
@@ -219,7 +219,7 @@ def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
         try:
             res = analyze_table(data.baths, spec.name, trial.factors, model=model,
                                 anova_type=cfg.anova_type, alpha=cfg.alpha, sweep=sweep,
-                                goal=_goal(spec) if has_goal(spec) else "maximize",
+                                aim=_aim(spec) if spec.is_wanted else "higher",
                                 reduce=cfg.reduce, threshold=cfg.threshold, n_boot=boot,
                                 seed=trial.seed, tolerance=cfg.tolerance,
                                 relative_tolerance=cfg.relative_tolerance)
@@ -231,7 +231,7 @@ def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
         data.results[spec.name] = res
         if res.sweep is not None:
             data.sweeps[spec.name] = res.sweep
-        if res.surface is not None and has_goal(spec):
+        if res.surface is not None and spec.is_wanted:
             data.surfaces[spec.name] = res.surface
         if res.effects is not None:
             data.effects[spec.name] = res.effects
@@ -255,9 +255,6 @@ def _effects(data: TrialData, spec) -> None:
         data.note("analysis", f"{spec.name}: effects by Lenth's method not available "
                               f"({first_line(exc)})")
 
-
-def has_goal(spec) -> bool:
-    return spec.goal in ("maximize", "minimize", "target")
 
 
 def _detectable(data: TrialData, spec) -> None:

@@ -11,36 +11,34 @@ import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import TrialkitError
-from trialkit.report.gather import TWO_LEVEL_KINDS, TrialData, first_line, has_goal
+from trialkit.report.gather import TWO_LEVEL_KINDS, TrialData, first_line
 
 #: Random starts of the desirability search besides its 8 best grid points (each start
 #: costs about a second on the shared machine; the grid already brackets the optimum).
-DESIRABILITY_STARTS = 4
+DESIRABILITY_TRIES = 4
 
 
 def desirability(data: TrialData) -> None:
-    """The best compromise of every response with a goal (surface designs only)."""
+    """The best compromise of every response the trial wants something of (surface
+    designs only)."""
     if len(data.fits) < 2 or data.sweeps or data.trial.design.kind in TWO_LEVEL_KINDS:
         return  # a compromise needs fitted surfaces, not a screening model
     try:
-        from trialkit.analysis.desirability import Goal, optimize_desirability
+        from trialkit.analysis.desirability import aim_from_spec, optimize_desirability
     except ImportError:
         data.note("recipe", "the desirability module is not installed in this build")
         return
-    goals = []
+    aims = []
     for name in data.fits:
         spec = data.specs[name]
-        if not has_goal(spec):
+        if not spec.is_wanted:
             continue
         vals = data.baths[name].dropna().astype(float)
-        lo = spec.lower if spec.lower is not None else float(vals.min())
-        hi = spec.upper if spec.upper is not None else float(vals.max())
         try:
-            goals.append(Goal(name, spec.goal, lower=lo, upper=hi, target=spec.target,
-                              weight=spec.weight, importance=spec.importance))
+            aims.append(aim_from_spec(spec, name, observed=vals))
         except TrialkitError as exc:
-            data.note("recipe", f"{name}: no desirability goal ({first_line(exc)})")
-    if len(goals) < 2:
+            data.note("recipe", f"{name}: no desirability aim ({first_line(exc)})")
+    if len(aims) < 2:
         return
     cats = [f for f in data.trial.factors if not f.is_continuous]
     combos = [dict(zip([f.name for f in cats], c, strict=True))
@@ -48,8 +46,8 @@ def desirability(data: TrialData) -> None:
     best, last = None, None
     for fixed in combos:
         try:
-            res = optimize_desirability(data.fits, goals, fixed=fixed, seed=data.trial.seed,
-                                        n_starts=DESIRABILITY_STARTS)
+            res = optimize_desirability(data.fits, aims, fixed=fixed, seed=data.trial.seed,
+                                        n_tries=DESIRABILITY_TRIES)
         except TrialkitError as exc:
             last = exc
             continue
@@ -70,13 +68,14 @@ def _corners(trial) -> pd.DataFrame:
 
 def recommend(data: TrialData) -> None:
     """The recommended settings, the predictions there and the recipe to mix them."""
-    wanted = [n for n in data.fits if has_goal(data.specs[n])]
+    wanted = [n for n in data.fits if data.specs[n].is_wanted]
     if not wanted:
-        data.note("recipe", "no response has a goal (maximize, minimize or target), so "
+        data.note("recipe", "every response is record-only (no aim higher, lower or "
+                            "on-target), so "
                             "there is nothing to recommend")
         return
-    # the response the trial cares most about: highest importance, first among equals
-    primary = max(wanted, key=lambda n: (data.specs[n].importance, -wanted.index(n)))
+    # the response the trial cares most about: highest priority, first among equals
+    primary = max(wanted, key=lambda n: (data.specs[n].priority, -wanted.index(n)))
     spec = data.specs[primary]
     if data.desirability is not None:
         settings = dict(data.desirability.settings)
@@ -88,14 +87,14 @@ def recommend(data: TrialData) -> None:
                   f"(the surface is a {data.surfaces[primary].kind})")
     elif primary in data.sweeps:
         sw = data.sweeps[primary]
-        settings = {sw.factor.name: float(sw.sweet_spot)}
-        source = (f"the practical sweet spot of the sweep: the lowest {sw.factor.name} whose "
+        settings = {sw.factor.name: float(sw.lean_level)}
+        source = (f"the practical lean level of the sweep: the lowest {sw.factor.name} whose "
                   f"predicted {primary} is within {sw.tolerance:.3g} {spec.unit} of the best "
                   f"(best at {sw.best:.3g} {sw.factor.unit})")
     else:
         grid = _corners(data.trial)
         pred = data.fits[primary].predict(grid).predicted.to_numpy()
-        k = int(np.argmin(pred) if spec.goal == "minimize" else np.argmax(pred))
+        k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
         settings = grid.iloc[k].to_dict()
         settings = {kk: (float(v) if isinstance(v, (int, float, np.floating)) else str(v))
                     for kk, v in settings.items()}
@@ -110,7 +109,7 @@ def recommend(data: TrialData) -> None:
     for name, fit in data.fits.items():
         p1 = fit.predict(settings, n_new=1).iloc[0]
         p3 = fit.predict(settings, n_new=3).iloc[0]
-        rows.append({"response": name, "unit": data.unit(name), "goal": data.specs[name].goal,
+        rows.append({"response": name, "unit": data.unit(name), "aim": data.specs[name].aim,
                      "predicted": float(p1.predicted), "ci_low": float(p1.ci_low),
                      "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
                      "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),

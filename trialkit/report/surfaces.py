@@ -26,6 +26,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from trialkit.analysis.desirability import aim_from_spec
 from trialkit.exceptions import AnalysisError
 from trialkit.report.views import GRID, _factor, observed, reference_settings
 
@@ -45,17 +46,17 @@ class SurfaceView:
     z: np.ndarray                 # shape (len(grid_y), len(grid_x))
     points: pd.DataFrame          # x, y of the baths
     optimum: dict | None = None   # x, y, value
-    goal: str = "maximize"
+    aim: str = "higher"
     held: dict = field(default_factory=dict)
     method: str = "model evaluated on a 41 x 41 grid of the design region; best grid point"
 
 
-def _best(z: np.ndarray, goal: str) -> tuple[int, int]:
-    flat = np.nanargmin(z) if goal == "minimize" else np.nanargmax(z)
+def _best(z: np.ndarray, aim: str) -> tuple[int, int]:
+    flat = np.nanargmin(z) if aim == "lower" else np.nanargmax(z)
     return np.unravel_index(flat, z.shape)
 
 
-def surface_view(fit, x: str, y: str, *, unit: str = "", goal: str = "maximize",
+def surface_view(fit, x: str, y: str, *, unit: str = "", aim: str = "higher",
                  held: dict | None = None, n: int = GRID) -> SurfaceView:
     """The fitted response over factors ``x`` and ``y`` (others at ``held`` or middle)."""
     fx, fy = _factor(fit, x), _factor(fit, y)
@@ -68,16 +69,16 @@ def surface_view(fit, x: str, y: str, *, unit: str = "", goal: str = "maximize",
                              x: XX.ravel(), y: YY.ravel()})
     z = fit.predict(settings).predicted.to_numpy().reshape(XX.shape)
     obs = observed(fit)
-    i, j = _best(z, goal)
+    i, j = _best(z, aim)
     opt = {"x": float(gx[j]), "y": float(gy[i]), "value": float(z[i, j])}
     pts = pd.DataFrame({"x": obs[x].astype(float), "y": obs[y].astype(float)})
-    return SurfaceView(fit.response, unit, x, fx.unit, y, fy.unit, gx, gy, z, pts, opt, goal,
+    return SurfaceView(fit.response, unit, x, fx.unit, y, fy.unit, gx, gy, z, pts, opt, aim,
                        {k: v for k, v in ref.items() if k not in (x, y)})
 
 
 @dataclass
 class SweepView:
-    """A one-factor sweep: fitted curve, band, observed bath means, best and sweet spot."""
+    """A one-factor sweep: fitted curve, band, observed bath means, best and lean level."""
 
     response: str
     unit: str
@@ -87,14 +88,14 @@ class SweepView:
     observed: pd.DataFrame    # x, mean, n
     best: float
     best_value: float
-    sweet_spot: float | None
+    lean_level: float | None
     tolerance: float
-    goal: str = "maximize"
-    method: str = ("fitted model on a 201-point grid; sweet spot = lowest level whose "
+    aim: str = "higher"
+    method: str = ("fitted model on a 201-point grid; lean level = lowest level whose "
                    "prediction is within the tolerance of the best")
 
 
-def sweep_view(fit, factor: str, *, unit: str = "", goal: str = "maximize",
+def sweep_view(fit, factor: str, *, unit: str = "", aim: str = "higher",
                tolerance: float | None = None, n: int = 201) -> SweepView:
     """Sweep curve of ``fit`` along ``factor``; ``tolerance`` defaults to 5 % of the best."""
     f = _factor(fit, factor)
@@ -106,29 +107,16 @@ def sweep_view(fit, factor: str, *, unit: str = "", goal: str = "maximize",
     curve = pd.DataFrame({"x": xs, "predicted": pred.predicted, "ci_low": pred.ci_low,
                           "ci_high": pred.ci_high})
     p = curve.predicted.to_numpy()
-    k = int(np.argmin(p) if goal == "minimize" else np.argmax(p))
+    k = int(np.argmin(p) if aim == "lower" else np.argmax(p))
     best, best_value = float(xs[k]), float(p[k])
     tol = abs(best_value) * 0.05 if tolerance is None else float(tolerance)
-    ok = (p <= best_value + tol) if goal == "minimize" else (p >= best_value - tol)
+    ok = (p <= best_value + tol) if aim == "lower" else (p >= best_value - tol)
     sweet = float(xs[np.argmax(ok)]) if ok.any() else None
     obs = observed(fit)
     means = (obs.groupby(factor).y.agg(["mean", "count"]).reset_index()
              .rename(columns={factor: "x", "count": "n"}))
     return SweepView(fit.response, unit, factor, f.unit, curve, means, best, best_value,
-                     sweet, tol, goal)
-
-
-def _d(y: np.ndarray, goal: str, lower: float, upper: float, target: float | None,
-       weight: float) -> np.ndarray:
-    """Derringer & Suich (1980) one-sided and two-sided desirabilities."""
-    if goal == "maximize":
-        d = (y - lower) / (upper - lower)
-    elif goal == "minimize":
-        d = (upper - y) / (upper - lower)
-    else:
-        t = float(target)
-        d = np.where(y <= t, (y - lower) / (t - lower), (upper - y) / (upper - t))
-    return np.clip(d, 0.0, 1.0) ** weight
+                     sweet, tol, aim)
 
 
 def desirability_view(fits: Sequence, specs: Sequence, x: str, y: str, *,
@@ -136,7 +124,8 @@ def desirability_view(fits: Sequence, specs: Sequence, x: str, y: str, *,
     """Overall desirability (weighted geometric mean, Derringer & Suich 1980) over x, y.
 
     ``specs`` are the trial's ResponseSpec objects in the order of ``fits``; a response
-    without ``lower``/``upper`` uses the range of its predictions over the grid.
+    without ``unacceptable``/``satisfactory`` limits takes them from its predictions over
+    the grid.
     """
     if not fits:
         raise AnalysisError("desirability needs at least one fitted response")
@@ -144,20 +133,16 @@ def desirability_view(fits: Sequence, specs: Sequence, x: str, y: str, *,
     logsum = np.zeros_like(views[0].z)
     total = 0.0
     for v, spec in zip(views, specs, strict=True):
-        lo = spec.lower if spec.lower is not None else float(np.nanmin(v.z))
-        hi = spec.upper if spec.upper is not None else float(np.nanmax(v.z))
-        if hi <= lo:
-            hi = lo + 1e-12
-        d = _d(v.z, spec.goal, lo, hi, spec.target, spec.weight)
-        logsum += spec.importance * np.log(np.clip(d, 1e-300, None))
-        total += spec.importance
+        d = aim_from_spec(spec, observed=v.z.ravel()).desirability(v.z)
+        logsum += spec.priority * np.log(np.clip(d, 1e-300, None))
+        total += spec.priority
     D = np.exp(logsum / total)
     D[D < 1e-200] = 0.0
     base = views[0]
-    i, j = _best(D, "maximize")
+    i, j = _best(D, "higher")
     opt = {"x": float(base.grid_x[j]), "y": float(base.grid_y[i]), "value": float(D[i, j])}
     return SurfaceView("desirability", "", x, base.x_unit, y, base.y_unit, base.grid_x,
-                       base.grid_y, D, base.points, opt, "maximize", base.held,
+                       base.grid_y, D, base.points, opt, "higher", base.held,
                        "Derringer-Suich desirability of the fitted models on a 41 x 41 grid")
 
 
@@ -188,7 +173,7 @@ def from_surface(result, x: str | None = None, y: str | None = None, *, unit: st
     held = {k: v for k, v in st.items() if k not in (x, y)}
     return SurfaceView(result.fit.response, unit, x, fs[x].unit, y, fs[y].unit, gx, gy, z,
                        pd.DataFrame({"x": obs[x].astype(float), "y": obs[y].astype(float)}),
-                       opt, result.goal, held,
+                       opt, result.aim, held,
                        f"second-order surface ({result.kind}); best point by bounded search")
 
 
@@ -203,8 +188,8 @@ def from_sweep(result, *, unit: str = "", n: int = 201) -> SweepView:
              .rename(columns={name: "x", "count": "n"}))
     return SweepView(result.fit.response, unit, name, result.factor.unit, curve, means,
                      float(result.best), float(result.optimum["predicted"]),
-                     float(result.sweet_spot), float(result.tolerance), result.goal,
-                     "quadratic sweep fit; best level and sweet spot from the analysis")
+                     float(result.lean_level), float(result.tolerance), result.aim,
+                     "quadratic sweep fit; best level and lean level from the analysis")
 
 
 def from_desirability(result, x: str, y: str, *, n: int = GRID) -> SurfaceView:
@@ -219,7 +204,7 @@ def from_desirability(result, x: str, y: str, *, n: int = GRID) -> SurfaceView:
     held = {k: v for k, v in result.settings.items() if k not in (x, y)}
     return SurfaceView("desirability", "", x, fs[x].unit, y, fs[y].unit, gx, gy, z,
                        pd.DataFrame({"x": obs[x].astype(float), "y": obs[y].astype(float)}),
-                       opt, "maximize", held, "Derringer-Suich desirability (analysis)")
+                       opt, "higher", held, "Derringer-Suich desirability (analysis)")
 
 
 def as_surface_view(obj, x: str | None = None, y: str | None = None, **kw) -> SurfaceView:
@@ -242,7 +227,7 @@ def as_sweep_view(obj, **kw) -> SweepView:
     """A :class:`SweepView` of a SweepResult (or the view itself)."""
     if isinstance(obj, SweepView):
         return obj
-    if hasattr(obj, "sweet_spot") and hasattr(obj, "grid"):
+    if hasattr(obj, "lean_level") and hasattr(obj, "grid"):
         return from_sweep(obj, **kw)
     raise AnalysisError(f"cannot draw a sweep from a {type(obj).__name__}; give a "
                         "SweepResult or SweepView")

@@ -3,7 +3,7 @@
 The plotting module draws and never computes; the numbers it draws come from here, and
 here every number comes from a result object's own methods (``ModelFit.predict``,
 ``RemovalFit.params``, an effects table).  Where the analysis package does not (yet) give
-an object of its own — a surface grid, a sweep's sweet spot, a desirability map — the
+an object of its own — a surface grid, a sweep's lean level, a desirability map — the
 view evaluates the fitted model on a grid of the design region and picks the best grid
 point, and says so in its ``method`` attribute.
 
