@@ -91,14 +91,14 @@ def test_model_matrix_sum_coding_and_interaction_columns():
     })
     spec = parse_model("chelator + agitation + chelator:agitation", FACTORS)
     mm = model_matrix(spec, data)
-    assert mm.columns == ("intercept", "chelator", "agitation[still]", "agitation[stirred]",
-                          "chelator:agitation[still]", "chelator:agitation[stirred]")
+    assert mm.columns == ("intercept", "chelator", "agitation = still", "agitation = stirred",
+                          "chelator:agitation = still", "chelator:agitation = stirred")
     assert mm.term_columns["agitation"] == slice(2, 4)
     # sum-to-zero (deviation) coding: last level is -1 in every contrast column
     np.testing.assert_array_equal(mm.X[:, 2:4], [[1, 0], [0, 1], [-1, -1], [1, 0], [0, 1]])
     np.testing.assert_array_equal(mm.X[:, 4], mm.X[:, 1] * mm.X[:, 2])
     tr = model_matrix(spec, data, coding="treatment")
-    assert tr.columns[2:4] == ("agitation[stirred]", "agitation[ultrasonic]")
+    assert tr.columns[2:4] == ("agitation = stirred", "agitation = ultrasonic")
     np.testing.assert_array_equal(tr.X[:, 2:4], [[0, 0], [1, 0], [0, 1], [0, 0], [1, 0]])
 
 
