@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from trialkit.evaluate import evaluate_design, evaluate_plan
+from trialkit.evaluate import design_model, evaluate_design, evaluate_plan
 from trialkit.exceptions import ModelSpecError, PlanError
 from trialkit.factors import Factor
 from trialkit.plan import make_plan
@@ -201,3 +201,24 @@ def test_fractional_plan_reports_resolution_aliases_and_unestimable_interactions
     assert main.estimable and main.d_efficiency == pytest.approx(100.0, abs=1e-9)
     inter = evaluate_plan(plan, model="interactions", sd=1.0)
     assert not inter.estimable
+
+
+@pytest.mark.parametrize("kind, options, expected", [
+    ("full-factorial", "", "main"),
+    ("central-composite", 'alpha = "face"\n', "quadratic"),
+    ("box-behnken", "", "quadratic"),
+    ("optimal", 'runs = 12\nmodel = "interactions"\n', "interactions"),
+])
+def test_default_model_follows_the_design_it_was_built_for(kind, options, expected):
+    # issue 12: a surface design is evaluated for its quadratic model, not main effects
+    text = TWO_FACTOR.format(replicates=1, blocks=1, center=0, controls="[]").replace(
+        'kind = "full-factorial"', f'kind = "{kind}"\n{options}')
+    plan = make_plan(parse_trial_text(text))
+    assert design_model(plan) == expected
+    ev = evaluate_plan(plan, sd=1.0)
+    wanted = {"main": {"chelator", "ph", "temperature"},
+              "interactions": {"chelator:ph", "ph:temperature"},
+              "quadratic": {"chelator^2", "temperature^2", "chelator:ph"}}[expected]
+    assert wanted <= set(ev.summary.term)
+    if expected == "main":
+        assert not any(":" in t or "^2" in t for t in ev.summary.term)

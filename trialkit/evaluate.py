@@ -370,13 +370,32 @@ def _settings(plan) -> EvaluationSettings:
     return s if isinstance(s, EvaluationSettings) else EvaluationSettings()
 
 
+#: The model a design kind is built to estimate, when neither the command line nor the
+#: trial's ``[evaluation]`` section names one (surface designs: the full quadratic).
+MODEL_FOR_DESIGN = {"central-composite": "quadratic", "box-behnken": "quadratic",
+                    "sweep": "quadratic"}
+
+
+def design_model(plan) -> str:
+    """The model ``plan``'s design was built for (``"main"`` for screening designs).
+
+    An optimal design is evaluated for the model it was searched for.
+    """
+    spec = getattr(getattr(plan, "trial", None), "design", None)
+    kind = getattr(spec, "kind", "")
+    if kind == "optimal":
+        return str((getattr(spec, "options", None) or {}).get("model", "quadratic"))
+    return MODEL_FOR_DESIGN.get(kind, "main")
+
+
 def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
                   alpha: float | None = None, target_power: float | None = None
                   ) -> Evaluation:
     """Evaluate a :class:`trialkit.plan.Plan` (see :func:`evaluate_design`).
 
     Arguments left at ``None`` come from the trial's ``[evaluation]`` section, then
-    defaults (model ``"main"``, sd 1, effects two SDs, alpha 0.05, target power 0.8).
+    defaults (the model the design was built for, see :func:`design_model`; sd 1,
+    effects two SDs, alpha 0.05, target power 0.8).
     """
     s = _settings(plan)
     factors, coded, blocks, coupons, design = _plan_parts(plan)
@@ -389,7 +408,7 @@ def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
                                                 else default)
 
     return evaluate_design(
-        coded, factors, model=pick(model, s.model, "main"), sd=pick(sd, s.sd, 1.0),
+        coded, factors, model=pick(model, s.model, design_model(plan)), sd=pick(sd, s.sd, 1.0),
         effects=pick(effects, s.effects, None), alpha=pick(alpha, s.alpha, 0.05),
         target_power=pick(target_power, s.target_power, 0.8), blocks=blocks,
         coupons=coupons, resolution=getattr(design, "resolution", None), aliases=aliases)

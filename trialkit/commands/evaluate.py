@@ -1,7 +1,9 @@
 """``trialkit evaluate TRIAL.toml``: power per model term, efficiency and aliasing of a plan.
 
 Settings not given on the command line come from the trial file's ``[evaluation]``
-section, then from the defaults (model ``main``, sd 1, effects of two SDs, alpha 0.05).
+section, then from the defaults: the model the design was built for (quadratic for
+surface designs and sweeps, the searched model for optimal ones, main effects otherwise),
+sd 1, effects of two SDs, alpha 0.05.
 """
 
 from __future__ import annotations
