@@ -159,15 +159,15 @@ def test_unestimable_model_is_reported_not_raised():
     assert any("supports only" in n for n in ev.notes)
 
 
-def test_fds_curve_lies_between_the_known_extremes():
+def test_variance_profile_lies_between_the_known_extremes():
     # 2^2 main effects, n = 8: var(x)/sd^2 = (1 + x1^2 + x2^2)/8, so 1/8 .. 3/8
     fs = (Factor.continuous("a", 0, 1), Factor.continuous("b", 0, 1))
     pts = pd.DataFrame({"a": [-1, 1, -1, 1] * 2, "b": [-1, -1, 1, 1] * 2})
-    fds = evaluate_design(pts, fs).fds
-    assert fds.fraction.iloc[0] == 0 and fds.fraction.iloc[-1] == 1
-    assert np.all(np.diff(fds.variance) >= 0)
-    assert fds.variance.min() >= 1 / 8 and fds.variance.max() <= 3 / 8
-    assert fds.variance.iloc[50] == pytest.approx((1 + 2 / 3) / 8, abs=0.02)
+    prof = evaluate_design(pts, fs).variance_profile
+    assert prof.share_of_region.iloc[0] == 0 and prof.share_of_region.iloc[-1] == 1
+    assert np.all(np.diff(prof.variance) >= 0)
+    assert prof.variance.min() >= 1 / 8 and prof.variance.max() <= 3 / 8
+    assert prof.variance.iloc[50] == pytest.approx((1 + 2 / 3) / 8, abs=0.02)
 
 
 def test_result_object_faces():

@@ -23,6 +23,7 @@ from trialkit.analysis.sweep import fit_sweep
 from trialkit.designs.optimal import OPTION_DESCRIPTIONS, optimal_design
 from trialkit.designs.options import DESIGN_OPTIONS
 from trialkit.designs.space import LHS_SPREADS
+from trialkit.evaluate import evaluate_design
 from trialkit.factors import Factor
 from trialkit.retired_names import RETIRED_KEYS, RETIRED_VALUES
 
@@ -31,7 +32,7 @@ ROOT = Path(__file__).resolve().parents[1]
 #: Names retired by issue 12, as whole keys (trial file, command-line options, JSON) ...
 RETIRED_KEY_NAMES = {"goal", "target", "importance", "weight", "lower", "upper", "sweet_spot",
                      "disallow", "augment", "fixed", "starts", "criterion", "pareto_line",
-                     "n_starts", "start_values"}
+                     "n_starts", "start_values", "fds", "fraction"}
 #: ... and as whole values (aims, Latin hypercube spreads, option choices).
 RETIRED_VALUE_NAMES = {"maximize", "minimize", "target", "none", "center", "maximin",
                        "centermaximin", "correlation"}
@@ -121,9 +122,10 @@ def test_json_keys_of_the_results_use_the_new_names():
     comp = optimize_desirability(fits, [Aim("y", "higher", 5, 15), Aim("z", "lower", 7, 3)],
                                  n_tries=2)
     opt = optimal_design(fs, 6, model="main", tries=2, seed=1)
+    ev = evaluate_design(cube[["a", "b", "c"]], fs, sd=1.0)
     keys = set()
-    for result in (sw, eff, comp, opt, fits["y"]):
+    for result in (sw, eff, comp, opt, fits["y"], ev):
         keys |= _keys(result.to_dict())
-    assert "lean_level" in keys and "priority" in keys and "aim" in keys
+    assert {"lean_level", "priority", "aim", "variance_profile", "share_of_region"} <= keys
     # an optimal design's "criterion" (D or I) is the published term and stays
     assert _hits(keys, RETIRED_KEY_NAMES - {"criterion"}) == []

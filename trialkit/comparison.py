@@ -1,5 +1,5 @@
 """Several candidate plans side by side: baths, coupons, power per term, efficiencies,
-aliasing, variance inflation and the fraction-of-design-space curves.
+aliasing, variance inflation and the variance profiles.
 
 Examples
 --------
@@ -51,18 +51,18 @@ class Comparison:
         One row per plan: ``plan``, ``baths``, ``coupons``, ``blocks``, ``residual_df``,
         ``d_efficiency``, ``i_efficiency``, ``max_vif``, ``resolution``, ``aliased``
         (number of alias rows), then ``power_<term>`` for every term of any plan.
-    fds : pandas.DataFrame
-        Long form ``plan``, ``fraction``, ``variance`` (one curve a plan, for a plot).
+    variance_profile : pandas.DataFrame
+        Long form ``plan``, ``share_of_region``, ``variance`` (one curve a plan, for a plot).
     evaluations : list of Evaluation
     """
 
     summary: pd.DataFrame
-    fds: pd.DataFrame
+    variance_profile: pd.DataFrame
     evaluations: list[Evaluation]
 
     def to_dict(self) -> dict:
         return plain({"plans": self.summary.to_dict("records"),
-                      "fds": self.fds.to_dict("list")})
+                      "variance_profile": self.variance_profile.to_dict("list")})
 
     def __repr__(self) -> str:
         return "Comparison\n" + self.summary.to_string(
@@ -94,5 +94,6 @@ def compare_plans(plans: Sequence, *, names: Sequence[str] | None = None, **kwar
                "resolution": ev.resolution, "aliased": len(ev.aliases)}
         row.update({f"power_{r.term}": r.power for r in ev.summary.itertuples()})
         rows.append(row)
-        curves.append(ev.fds.assign(plan=name)[["plan", "fraction", "variance"]])
+        curves.append(ev.variance_profile.assign(plan=name)[["plan", "share_of_region",
+                                                              "variance"]])
     return Comparison(pd.DataFrame(rows), pd.concat(curves, ignore_index=True), evals)

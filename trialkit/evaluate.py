@@ -7,7 +7,9 @@ size per term (the change in mean response from a factor's low to its high level
 :mod:`trialkit.power` for interactions, squared terms and factors with several levels),
 the smallest effect detectable at a target power, how many replicates of the whole plan
 reach it, the D- and I-efficiency, the largest variance inflation factor and the
-fraction-of-design-space curve of prediction variance.
+variance profile: the share of the region predicted within each prediction variance
+(published as the fraction-of-design-space curve; Zahran, Anderson-Cook & Myers 2003,
+from memory).
 :func:`trialkit.comparison.compare_plans` puts several candidate plans side by side.
 
 The experimental unit is the bath: ``sd`` is the standard deviation of a bath's response
@@ -48,7 +50,7 @@ __all__ = ["Evaluation", "EvaluationSettings", "build_model", "evaluate_design",
 #: Signal-to-noise used when no effect sizes are given: an effect of two residual SDs.
 DEFAULT_EFFECT_IN_SD = 2.0
 NON_FACTOR_POINTS = ("control", "reference")
-_FDS_POINTS = 2000
+_PROFILE_POINTS = 2000
 
 
 def build_model(spec, factors: Sequence[Factor]) -> pw.DesignModel:
@@ -75,8 +77,9 @@ class Evaluation:
         Prediction variance averaged over the design region, in units of ``sd**2``.
     max_vif : float
         Largest variance inflation factor among the model's columns.
-    fds : pandas.DataFrame
-        Fraction-of-design-space curve: ``fraction`` and ``variance`` (units of sd²).
+    variance_profile : pandas.DataFrame
+        Variance profile: ``share_of_region`` (0 to 1) and ``variance`` (units of sd²),
+        the prediction variance not exceeded over that share of the design region.
     """
 
     model: str
@@ -93,7 +96,7 @@ class Evaluation:
     i_efficiency: float
     average_variance: float
     max_vif: float
-    fds: pd.DataFrame
+    variance_profile: pd.DataFrame
     resolution: int | None = None
     aliases: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
@@ -169,7 +172,8 @@ class Evaluation:
             "d_efficiency": self.d_efficiency, "i_efficiency": self.i_efficiency,
             "average_variance": self.average_variance, "max_vif": self.max_vif,
             "resolution": self.resolution, "aliases": list(self.aliases),
-            "fds": self.fds.to_dict("list"), "notes": list(self.notes),
+            "variance_profile": self.variance_profile.to_dict("list"),
+            "notes": list(self.notes),
         })
 
     def __repr__(self) -> str:
@@ -312,7 +316,7 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
                                           "detectable_effect", "effect_se", "max_vif"])
     moments = dm.moment_matrix()
     rng = np.random.default_rng(0)
-    P = dm.expand(dm.sample_region(_FDS_POINTS, rng))
+    P = dm.expand(dm.sample_region(_PROFILE_POINTS, rng))
     if rank == p:
         P = np.hstack([P, np.zeros((len(P), p - dm.p))])
         var = np.sort(pw.prediction_variances(X, P))
@@ -323,8 +327,8 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
         var = np.full(len(P), np.inf)
         avg = float("inf")
     fractions = np.linspace(0.0, 1.0, 101)
-    fds = pd.DataFrame({"fraction": fractions,
-                        "variance": np.quantile(var, fractions) if rank == p
+    variance_profile = pd.DataFrame({"share_of_region": fractions,
+                                     "variance": np.quantile(var, fractions) if rank == p
                         else np.full(101, np.inf)})
     return Evaluation(
         model=model if isinstance(model, str) else " + ".join(model), sd=float(sd),
@@ -334,7 +338,8 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
         i_efficiency=float(100.0 * np.trace(moments) / (n * avg)) if np.isfinite(avg)
         else 0.0,
         average_variance=avg, max_vif=float(np.max(vif)) if len(vif) else 1.0,
-        fds=fds, resolution=resolution, aliases=list(aliases), notes=notes,
+        variance_profile=variance_profile, resolution=resolution, aliases=list(aliases),
+        notes=notes,
         _X=Xm, _model=dm, _blocks=blk)
 
 
