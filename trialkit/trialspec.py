@@ -45,6 +45,17 @@ class ResponseSpec:
     response's relative weight in a compromise.
     """
 
+    name: str
+    unit: str = ""
+    aim: str = "higher"
+    unacceptable: float | tuple[float, float] | None = None
+    satisfactory: float | None = None
+    ideal: float | None = None
+    shape: float = 1.0
+    priority: float = 1.0
+    measure: str = ""
+    description: str = ""
+
     @property
     def is_wanted(self) -> bool:
         """True when the trial wants something of this response (not record-only)."""
@@ -56,17 +67,6 @@ class ResponseSpec:
         if self.aim == "on-target":
             return self.unacceptable is not None and self.ideal is not None
         return self.unacceptable is not None and self.satisfactory is not None
-
-    name: str
-    unit: str = ""
-    aim: str = "higher"
-    unacceptable: float | tuple[float, float] | None = None
-    satisfactory: float | None = None
-    ideal: float | None = None
-    shape: float = 1.0
-    priority: float = 1.0
-    measure: str = ""
-    description: str = ""
 
     def to_dict(self) -> dict:
         return dict(self.__dict__)
