@@ -99,3 +99,25 @@ def test_compare_text(tmp_path, capsys):
     assert main(["compare", str(a), str(b)]) == 0
     out = capsys.readouterr().out
     assert "d_efficiency" in out and "power_chelator" in out
+
+
+def test_evaluate_without_an_effect_size_says_so_and_claims_no_replicate_count(tmp_path,
+                                                                              capsys):
+    # issue 12: no default signal-to-noise ratio; the output names what is missing
+    path = _write(tmp_path, "plain")
+    assert main(["evaluate", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "effects: none stated, power not computed" in out
+    assert "sd not stated" in out and "detectable_effect" in out
+    assert "copies of the plan" not in out
+
+
+def test_compare_without_effects_tabulates_detectable_effects(tmp_path, cli):
+    a = _write(tmp_path, "a", replicates=2)
+    b = _write(tmp_path, "b", replicates=4)
+    result = cli("compare", str(a), str(b), "--sd", "1", "--json")
+    assert result.returncode == 0, result.stderr
+    rows = json.loads(result.stdout)["plans"]
+    assert [r["effects"] for r in rows] == ["none", "none"]
+    # twice the replicates: the detectable effect shrinks (more residual df, n doubled)
+    assert rows[1]["detectable_chelator"] < rows[0]["detectable_chelator"]

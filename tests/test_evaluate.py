@@ -222,3 +222,71 @@ def test_default_model_follows_the_design_it_was_built_for(kind, options, expect
     assert wanted <= set(ev.summary.term)
     if expected == "main":
         assert not any(":" in t or "^2" in t for t in ev.summary.term)
+
+
+# -- the effect size is a stated input (issue 12) ----------------------------------
+REMOVAL_LIMITS = """
+[[response]]
+name = "removal"
+unit = "%"
+aim = "higher"
+unacceptable = 50
+satisfactory = 95
+[[response]]
+name = "ph_drift"
+aim = "on-target"
+ideal = 0
+unacceptable = [-0.5, 0.8]
+"""
+
+
+def test_without_a_stated_effect_no_power_is_computed_and_the_output_says_so():
+    ev = evaluate_plan(_plan(replicates=2))
+    assert ev.summary.power.isna().all() and ev.summary.effect.isna().all()
+    assert ev.effect_source == "none" and not ev.sd_stated
+    assert "power not computed" in repr(ev)
+    assert any("no effect size stated" in n for n in ev.notes)
+    assert any("residual standard deviations" in n for n in ev.notes)
+    # the detectable effect is still given, in SDs: with sd 1 it is the same number
+    same = evaluate_plan(_plan(replicates=2), sd=1.0, effects=1.0)
+    assert np.allclose(ev.summary.detectable_effect, same.summary.detectable_effect)
+    with pytest.raises(ModelSpecError, match="give effects"):
+        ev.replicates_needed()
+
+
+def test_effect_from_the_response_limits_when_the_sd_is_known():
+    plan = _plan(replicates=2, extra=REMOVAL_LIMITS)
+    ev = evaluate_plan(plan, sd=15.0)
+    assert (ev.summary.effect == 45.0).all()        # 95 - 50, the limits' span
+    assert "limits of response 'removal'" in ev.effect_source
+    assert "unacceptable 50 to satisfactory 95" in ev.effect_source
+    assert ev.to_dict()["effect_source"] == ev.effect_source
+    # 2^3 x 2: 16 baths, 12 residual df; effect 45 at sd 15 is 3 SDs -> noncentrality
+    # n d^2 / (4 sd^2) = 16 * 9 / 4 = 36 (two-level main effect, coded +-1)
+    lam = 16 * 45.0 ** 2 / (4 * 15.0 ** 2)
+    crit = stats.f.ppf(0.95, 1, 12)
+    assert ev.power_of("chelator") == pytest.approx(stats.ncf.sf(crit, 1, 12, lam),
+                                                    rel=1e-9)
+    # without an SD the limits cannot be set against the noise: no power, said so
+    assert evaluate_plan(plan).effect_source == "none"
+
+
+def test_evaluation_section_picks_the_response_whose_limits_set_the_effect():
+    plan = _plan(replicates=2, extra=REMOVAL_LIMITS
+                 + '[evaluation]\nsd = 0.2\nresponse = "ph_drift"\n')
+    ev = evaluate_plan(plan)
+    assert (ev.summary.effect == 0.5).all()         # ideal 0 to the nearer limit, -0.5
+    assert "ph_drift" in ev.effect_source and "nearer unacceptable" in ev.effect_source
+    stated = evaluate_plan(plan, effects=0.3)
+    assert stated.effect_source == "stated" and (stated.summary.effect == 0.3).all()
+
+
+def test_evaluation_response_must_name_a_response():
+    from trialkit.exceptions import TrialFileError
+
+    text = TWO_FACTOR.format(replicates=1, blocks=1, center=0, controls="[]") \
+        + REMOVAL_LIMITS + '[evaluation]\nresponse = "removl"\n'
+    with pytest.raises(TrialFileError) as err:
+        parse_trial_text(text)
+    assert "unknown_response" in err.value.problems.checks()
+    assert "removal" in str(err.value)

@@ -91,8 +91,11 @@ def compare_plans(plans: Sequence, *, names: Sequence[str] | None = None, **kwar
         row = {"plan": name, "baths": ev.baths, "coupons": ev.coupons, "blocks": ev.blocks,
                "residual_df": ev.residual_df, "d_efficiency": ev.d_efficiency,
                "i_efficiency": ev.i_efficiency, "max_vif": ev.max_vif,
-               "resolution": ev.resolution, "aliased": len(ev.aliases)}
+               "resolution": ev.resolution, "aliased": len(ev.aliases),
+               "effects": ev.effect_source}
         row.update({f"power_{r.term}": r.power for r in ev.summary.itertuples()})
+        row.update({f"detectable_{r.term}": r.detectable_effect
+                    for r in ev.summary.itertuples()})
         rows.append(row)
         curves.append(ev.variance_profile.assign(plan=name)[["plan", "share_of_region",
                                                               "variance"]])

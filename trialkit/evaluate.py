@@ -47,8 +47,6 @@ from trialkit.problems import did_you_mean
 __all__ = ["Evaluation", "EvaluationSettings", "build_model", "evaluate_design",
            "evaluate_plan", "parse_evaluation_section", "plain"]
 
-#: Signal-to-noise used when no effect sizes are given: an effect of two residual SDs.
-DEFAULT_EFFECT_IN_SD = 2.0
 NON_FACTOR_POINTS = ("control", "reference")
 _PROFILE_POINTS = 2000
 
@@ -77,6 +75,13 @@ class Evaluation:
         Prediction variance averaged over the design region, in units of ``sd**2``.
     max_vif : float
         Largest variance inflation factor among the model's columns.
+    effect_source : str
+        Where the effect sizes came from: ``"stated"`` (given by the caller), the trial
+        file's ``[evaluation]`` section, a response's limits, or ``"none"`` (power not
+        computed; the detectable effects still are).
+    sd_stated : bool
+        False when no residual SD was given: ``sd`` is then 1 and every effect and
+        detectable effect is in residual standard deviations.
     variance_profile : pandas.DataFrame
         Variance profile: ``share_of_region`` (0 to 1) and ``variance`` (units of sd²),
         the prediction variance not exceeded over that share of the design region.
@@ -100,6 +105,8 @@ class Evaluation:
     resolution: int | None = None
     aliases: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    effect_source: str = "stated"
+    sd_stated: bool = True
     _X: np.ndarray | None = field(default=None, repr=False)
     _model: pw.DesignModel | None = field(default=None, repr=False)
     _blocks: np.ndarray | None = field(default=None, repr=False)
@@ -173,12 +180,21 @@ class Evaluation:
             "average_variance": self.average_variance, "max_vif": self.max_vif,
             "resolution": self.resolution, "aliases": list(self.aliases),
             "variance_profile": self.variance_profile.to_dict("list"),
+            "effect_source": self.effect_source, "sd_stated": self.sd_stated,
             "notes": list(self.notes),
         })
 
+    def _sd_text(self) -> str:
+        return f"sd {self.sd:g}" if self.sd_stated else "sd not stated (sizes in SDs)"
+
+    def _effect_text(self) -> str:
+        return ("effects: none stated, power not computed" if self.effect_source == "none"
+                else f"effects: {self.effect_source}")
+
     def __repr__(self) -> str:
-        lines = [f"Evaluation: {self.baths} baths, model {self.model!r}, sd {self.sd:g}, "
+        lines = [f"Evaluation: {self.baths} baths, model {self.model!r}, {self._sd_text()}, "
                  f"alpha {self.alpha:g}",
+                 f"  {self._effect_text()}",
                  f"  D-efficiency {self.d_efficiency:.1f} %, I-efficiency "
                  f"{self.i_efficiency:.1f} %, max VIF {self.max_vif:.2f}, "
                  f"residual df {self.residual_df}",
@@ -188,9 +204,9 @@ class Evaluation:
 
     def _repr_html_(self) -> str:
         head = (f"<p><b>Evaluation</b>: {self.baths} baths, model <code>{self.model}</code>, "
-                f"sd {self.sd:g}, alpha {self.alpha:g}; D-efficiency "
+                f"{self._sd_text()}, alpha {self.alpha:g}; D-efficiency "
                 f"{self.d_efficiency:.1f} %, I-efficiency {self.i_efficiency:.1f} %, "
-                f"max VIF {self.max_vif:.2f}</p>")
+                f"max VIF {self.max_vif:.2f}; {self._effect_text()}</p>")
         notes = "".join(f"<p>{n}</p>" for n in self.notes)
         return head + self.summary.to_html(index=False, float_format="{:.3g}".format) + notes
 
@@ -229,19 +245,20 @@ def _term_power(X, model, term, effect, sd, alpha):
     return float(np.min(pw.f_test_power(lam, df1, X.shape[0] - X.shape[1], alpha))), info
 
 
-def _effect_for(term: str, effects, sd: float):
+def _effect_for(term: str, effects):
     if effects is None:
-        return DEFAULT_EFFECT_IN_SD * sd
+        return float("nan")
     if isinstance(effects, Mapping):
         return effects.get(term, float("nan"))
     return float(effects)
 
 
 def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
-                    model="main", sd: float = 1.0, effects=None, alpha: float = 0.05,
-                    target_power: float = 0.8, blocks: Sequence | None = None,
-                    coupons: int | None = None, resolution: int | None = None,
-                    aliases: Sequence[str] = ()) -> Evaluation:
+                    model="main", sd: float | None = None, effects=None,
+                    alpha: float = 0.05, target_power: float = 0.8,
+                    blocks: Sequence | None = None, coupons: int | None = None,
+                    resolution: int | None = None, aliases: Sequence[str] = (),
+                    effect_source: str | None = None) -> Evaluation:
     """Evaluate design points (one row per bath, coded units / level labels).
 
     Parameters
@@ -251,16 +268,22 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
     factors : sequence of Factor
     model : str or sequence of str
         ``"main"``, ``"interactions"``, ``"quadratic"`` or terms ``"a + b + a:b"``.
-    sd : float
-        Residual standard deviation between baths, response units.
+    sd : float, optional
+        Residual standard deviation between baths, response units.  Not given: 1, and
+        every effect and detectable effect is read in residual SDs.
     effects : float or dict, optional
-        Effect size in response units for every term, or ``{term: size}``; by default
-        two residual SDs for every term.
+        The smallest difference that matters, in response units: one size for every
+        term, or ``{term: size}``.  Not given: power is not computed (there is no
+        default signal-to-noise ratio); the detectable effects still are.
     alpha, target_power : float
     blocks : sequence, optional
         Block label of each bath (fixed effects in sum contrasts).
+    effect_source : str, optional
+        Where ``effects`` came from, for the output (default ``"stated"``).
     """
     factors = tuple(factors)
+    sd_stated = sd is not None
+    sd = 1.0 if sd is None else sd
     if not (isinstance(sd, (int, float)) and sd > 0):
         raise PlanError(f"sd must be a positive number (response units), got {sd!r}")
     if not 0 < alpha < 1 or not alpha < target_power < 1:
@@ -288,15 +311,19 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
         notes.append("no residual degrees of freedom: every term is estimable but none can "
                      "be tested; add replicates or centre points")
     if effects is None:
-        notes.append(f"no effect sizes given: each term tested at {DEFAULT_EFFECT_IN_SD:g} "
-                     "residual SDs")
+        notes.append("no effect size stated, so no power is computed: give the smallest "
+                     "difference that matters (--effect, or effects in [evaluation]) or "
+                     "limits on the response; the detectable effects are still given")
+    if not sd_stated:
+        notes.append("no residual SD stated (--sd, or sd in [evaluation]): effects and "
+                     "detectable effects are in residual standard deviations")
     vif = pw.vifs(X) if rank == p else np.full(p - 1, np.inf)
     rows = []
     df2 = n - p
     need = pw.noncentrality_needed(target_power, 1, df2, alpha) if estimable else np.nan
     for t in dm.terms:
         sl = dm.term_columns[t.name]
-        eff = _effect_for(t.name, effects, sd)
+        eff = _effect_for(t.name, effects)
         pwr, info = _term_power(X, dm, t.name, eff, sd, alpha) if estimable \
             else (float("nan"), None)
         det_eff = se = float("nan")
@@ -339,7 +366,8 @@ def evaluate_design(coded: pd.DataFrame, factors: Sequence[Factor], *,
         else 0.0,
         average_variance=avg, max_vif=float(np.max(vif)) if len(vif) else 1.0,
         variance_profile=variance_profile, resolution=resolution, aliases=list(aliases),
-        notes=notes,
+        notes=notes, sd_stated=sd_stated,
+        effect_source=("none" if effects is None else effect_source or "stated"),
         _X=Xm, _model=dm, _blocks=blk)
 
 
@@ -393,14 +421,62 @@ def design_model(plan) -> str:
     return MODEL_FOR_DESIGN.get(kind, "main")
 
 
+def limits_effect(spec) -> float | None:
+    """The difference a response's limits call decisive, or ``None`` without limits.
+
+    For an aim of higher or lower, the distance from the unacceptable value to the fully
+    satisfactory one; on target, the distance from the ideal to the nearer unacceptable
+    value.
+
+    Examples
+    --------
+    >>> from trialkit.trialspec import ResponseSpec
+    >>> limits_effect(ResponseSpec("removal", aim="higher", unacceptable=50,
+    ...                            satisfactory=95))
+    45.0
+    """
+    if not (spec.is_wanted and spec.has_limits):
+        return None
+    if spec.aim == "on-target":
+        lo, hi = spec.unacceptable
+        return float(min(spec.ideal - lo, hi - spec.ideal))
+    return float(abs(spec.satisfactory - spec.unacceptable))
+
+
+def _effects_and_source(plan, given, s: EvaluationSettings, sd_known: bool):
+    """(effects, source) by precedence: argument, ``[evaluation]``, response limits."""
+    if given is not None:
+        return given, "stated"
+    if s.effects is not None:
+        return s.effects, "from the trial file's [evaluation] effects"
+    if not sd_known:
+        return None, None
+    responses = getattr(getattr(plan, "trial", None), "responses", ()) or ()
+    chosen = [r for r in responses if r.name == s.response] if s.response else \
+        [r for r in responses if limits_effect(r) is not None][:1]
+    if chosen and (size := limits_effect(chosen[0])) is not None:
+        r = chosen[0]
+        unit = f" {r.unit}" if r.unit else ""
+        ends = (f"ideal {r.ideal:g} to the nearer unacceptable value"
+                if r.aim == "on-target"
+                else f"unacceptable {r.unacceptable:g} to satisfactory {r.satisfactory:g}")
+        return size, (f"{size:g}{unit} for every term, from the limits of response "
+                      f"{r.name!r} ({ends})")
+    return None, None
+
+
 def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
                   alpha: float | None = None, target_power: float | None = None
                   ) -> Evaluation:
     """Evaluate a :class:`trialkit.plan.Plan` (see :func:`evaluate_design`).
 
     Arguments left at ``None`` come from the trial's ``[evaluation]`` section, then
-    defaults (the model the design was built for, see :func:`design_model`; sd 1,
-    effects two SDs, alpha 0.05, target power 0.8).
+    defaults: the model the design was built for (see :func:`design_model`), alpha 0.05,
+    target power 0.8.  The effect size is the one stated, else ``[evaluation]
+    effects``, else, when the residual SD is known, the span of the limits of the
+    ``[evaluation] response`` (by default the first response with limits; see
+    :func:`limits_effect`); with none of these, power is not computed.  The output says
+    which (``Evaluation.effect_source``).
     """
     s = _settings(plan)
     factors, coded, blocks, coupons, design = _plan_parts(plan)
@@ -412,8 +488,10 @@ def evaluate_plan(plan, *, model=None, sd: float | None = None, effects=None,
         return given if given is not None else (from_file if from_file is not None
                                                 else default)
 
+    sd = pick(sd, s.sd, None)
+    effects, source = _effects_and_source(plan, effects, s, sd is not None)
     return evaluate_design(
-        coded, factors, model=pick(model, s.model, design_model(plan)), sd=pick(sd, s.sd, 1.0),
-        effects=pick(effects, s.effects, None), alpha=pick(alpha, s.alpha, 0.05),
+        coded, factors, model=pick(model, s.model, design_model(plan)), sd=sd,
+        effects=effects, effect_source=source, alpha=pick(alpha, s.alpha, 0.05),
         target_power=pick(target_power, s.target_power, 0.8), blocks=blocks,
         coupons=coupons, resolution=getattr(design, "resolution", None), aliases=aliases)

@@ -1,7 +1,9 @@
 """The optional ``[evaluation]`` section of a trial file: settings for design evaluation.
 
-``sd`` (residual SD between baths, response units), ``effects`` (one size for every term
-or a table ``{term = size}``), ``alpha``, ``target_power`` and ``model``.  Parsed by
+``sd`` (residual SD between baths, response units), ``effects`` (the smallest difference
+that matters: one size for every term or a table ``{term = size}``), ``response`` (the
+response ``sd`` and ``effects`` refer to; its limits give the effect size when
+``effects`` is not stated), ``alpha``, ``target_power`` and ``model``.  Parsed by
 :func:`parse_evaluation_section`, registered in :data:`trialkit.trialfile.SECTION_PARSERS`
 through :mod:`trialkit.evaluate`.
 """
@@ -24,10 +26,12 @@ class EvaluationSettings:
     alpha: float | None = None
     model: str | None = None
     target_power: float | None = None
+    response: str | None = None
 
     def to_dict(self) -> dict:
         return {"sd": self.sd, "effects": self.effects, "alpha": self.alpha,
-                "model": self.model, "target_power": self.target_power}
+                "model": self.model, "target_power": self.target_power,
+                "response": self.response}
 
 
 def _positive(value, where, key, problems) -> float | None:
@@ -40,12 +44,12 @@ def _positive(value, where, key, problems) -> float | None:
 
 def parse_evaluation_section(raw, trial, problems: ProblemReport,
                              where: str = "evaluation") -> EvaluationSettings:
-    """Parse the optional ``[evaluation]`` section: ``sd``, ``effects``, ``alpha``,
-    ``model``, ``target_power``.  Problems are added to ``problems``, never raised.
+    """Parse the optional ``[evaluation]`` section: ``sd``, ``effects``, ``response``,
+    ``alpha``, ``model``, ``target_power``.  Problems are added to ``problems``, never raised.
 
     ``effects`` is one number (every term) or a table ``{term = size}`` in response units.
     """
-    allowed = ("sd", "effects", "alpha", "model", "target_power")
+    allowed = ("sd", "effects", "response", "alpha", "model", "target_power")
     if not isinstance(raw, Mapping):
         problems.add(where, "the evaluation section must be a table", value=type(raw).__name__,
                      fix="write [evaluation] with keys " + ", ".join(allowed), check="not_table")
@@ -96,4 +100,15 @@ def parse_evaluation_section(raw, trial, problems: ProblemReport,
                     effects[str(term)] = v
         else:
             effects = _positive(e, where, "effects", problems)
-    return EvaluationSettings(sd, effects, alpha, model, target)
+    response = None
+    if "response" in raw:
+        names = [r.name for r in getattr(trial, "responses", ()) or ()]
+        value = raw["response"]
+        if not isinstance(value, str) or (names and value not in names):
+            problems.add(f"{where}.response", "response must name one of the trial's "
+                         "[[response]] entries", value=value, check="unknown_response",
+                         fix=did_you_mean(str(value), names) if names
+                         else "add a [[response]] with that name")
+        else:
+            response = value
+    return EvaluationSettings(sd, effects, alpha, model, target, response)

@@ -2,8 +2,10 @@
 
 Settings not given on the command line come from the trial file's ``[evaluation]``
 section, then from the defaults: the model the design was built for (quadratic for
-surface designs and sweeps, the searched model for optimal ones, main effects otherwise),
-sd 1, effects of two SDs, alpha 0.05.
+surface designs and sweeps, the searched model for optimal ones, main effects otherwise)
+and alpha 0.05.  There is no default effect size: without ``--effect``, ``[evaluation]
+effects`` or (when the SD is known) limits on a response, power is not computed and the
+output says so; the detectable effects are always given.
 """
 
 from __future__ import annotations
@@ -71,8 +73,8 @@ def run(args: argparse.Namespace) -> int:
 
     plan = load_plan(args.trial)
     ev = evaluate_plan(plan, **evaluation_kwargs(args))
-    reps = ev.replicates_needed() if ev.estimable and ev.summary.effect.notna().any() \
-        else None
+    has_effects = bool(ev.summary.effect.notna().any())
+    reps = ev.replicates_needed() if ev.estimable and has_effects else None
     if args.json:
         data = ev.to_dict()
         data["trial"] = plan.trial.title
@@ -81,7 +83,7 @@ def run(args: argparse.Namespace) -> int:
         return 0
     print(plan.trial.title)
     print(repr(ev))
-    if ev.estimable:
+    if ev.estimable and has_effects:
         if reps is None:
             print("  replicates  more than 50 copies of the plan would be needed to reach "
                   f"power {ev.target_power:g} for every term")
