@@ -30,7 +30,7 @@ from pathlib import Path
 import numpy as np
 
 HERE = Path(__file__).resolve().parent
-START = {"chelator-sweep": 8101, "five-factor-screen": 8102, "surface-follow-up": 8103}
+START = {"chelator-sweep": 8201, "five-factor-screen": 8102, "surface-follow-up": 8103}
 
 
 def _rates(sim):

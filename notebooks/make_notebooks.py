@@ -57,10 +57,10 @@ def nb01():
         md("""
 # 1 · Plan a concentration sweep and check its power
 
-A restoration workshop wants to know which level of a near-neutral chelating bath
-(tetrasodium EDTA set to pH 6.5 with citric acid) cleans rusted steel fastest. The plan:
-six levels from 2 to 20 % w/v in geometric steps, three baths per level, one replicate a
-day, an untreated control and a strong reference bath each day, and a bare *witness*
+A conservation workshop wants to know which level of a near-neutral chelating bath
+(tetrasodium EDTA brought to pH 7.0 with citric acid, 22 °C) cleans rusted steel fastest.
+The plan: five levels from 1 to 9 % w/v in even steps, three baths per level, one replicate
+a day, an untreated control and a strong reference bath each day, and a bare *witness*
 coupon in every bath to measure attack on the steel.
 
 Before mixing anything we check that the plan can see the effect we care about; after
@@ -108,13 +108,11 @@ print("copies of the plan needed for 90 % power on both terms:", ev.replicates_n
 ## After the trial: where is the best level?
 
 The invented readings of this example (coupon masses, rust coverage before and after,
-and coverage inspections over 48 h) give the responses per bath; the sweep analysis
+and coverage inspections over 72 h) give the responses per bath; the sweep analysis
 fits a quadratic in chelator to the time to 90 % removal and gives the best level with
 its Fieller interval.
 """),
         code('''\
-import warnings
-
 from trialkit.analysis.pipeline import analyze_table
 from trialkit.responses import compute_responses
 
@@ -133,8 +131,8 @@ print(f"fastest at {sw.best:.2f} % w/v; 95 % interval {sw.fieller_low:.2f} to "
       f"{sw.fieller_high:.2f} % w/v")
 print(f"practical lean level (within tolerance of the best): {sw.lean_level:.2f} % w/v")'''),
         md("""
-More chelator than the lean level buys nothing but cost: removal slows again at high
-levels. The next step is a response surface around this level (notebook 5).
+Chelator above the lean level buys little speed for its cost, and past the best level
+removal slows again. The next step is a response surface around this level (notebook 5).
 """),
         code('''\
 results = {"fingerprint": plan.fingerprint, "baths": len(plan.baths),
@@ -151,7 +149,7 @@ def nb02():
 # 2 · Mix the baths
 
 Every bath of the sweep plan needs its own recipe: grams of tetrasodium EDTA for the
-planned % w/v, the citric acid that brings it to pH 6.5 (worked out with PHREEQC's
+planned % w/v, the citric acid that brings it to pH 7.0 (worked out with PHREEQC's
 aqueous speciation), a volume that suits the coupon area, and the cost. This notebook
 adds a `[bath]` section to the trial file and prints the mixing sheet.
 
@@ -205,7 +203,7 @@ results = {"recipes": len(sheet.recipes),
            "lowest_volume_l": lowest["volume_l"], "lowest_edta_g": edta["grams"],
            "edta_note": edta["note"],
            "ph_error": max(abs(r.to_dict()["predicted_ph"] - r.to_dict()["target_ph"])
-                           for r in sheet.recipes if r.to_dict()["target_ph"] == 6.5),
+                           for r in sheet.recipes if r.to_dict()["target_ph"] == 7.0),
            "cautions": list(sheet.cautions)}
 results'''),
     ]

@@ -69,7 +69,7 @@ def test_fieller_interval_covers_truth_in_200_simulations():
     assert (s.fieller_low, s.fieller_high) == pytest.approx((lo, hi), rel=1e-8)
 
 
-def test_sweet_spot_falloff_and_bootstrap():
+def test_lean_level_falloff_and_bootstrap():
     df = _table(seed=9, sd=0.5)
     s = fit_sweep(df, "removal", CHELATOR, tolerance=3.0, n_boot=2000, seed=5)
     # predicted within 3 of the best from about 5 - sqrt(3/0.25) = 1.54 -> the range start

@@ -183,7 +183,7 @@ def test_surface3d_axes_and_optimum(surface):
     assert float(offsets[2][0]) == pytest.approx(res.optimum["predicted"])
 
 
-def test_sweep_curve_band_means_best_and_sweet_spot(sweep):
+def test_sweep_curve_band_means_best_and_lean_level(sweep):
     res = sweep.sweeps["removal"]
     ax = plots.sweep(res, unit="%")
     curve, means = ax.lines[0], ax.lines[1]

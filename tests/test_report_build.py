@@ -58,7 +58,7 @@ def test_surface_recommendation_is_the_desirability_optimum():
     assert pred["removal"]["pi_low"] < pred["removal"]["ci_low"] < p.predicted
 
 
-def test_sweep_recommends_the_practical_sweet_spot():
+def test_sweep_recommends_the_lean_level():
     data, _ = rt.analysed("sweep")
     rec = rt.report_of("sweep").data["recommendation"]
     assert rec["settings"] == {"chelator": pytest.approx(data.sweeps["removal"].lean_level)}

@@ -9,8 +9,8 @@ Keys (all optional)::
     reduce = "p"                 # none | p | aic | bic (hierarchical backward reduction)
     threshold = 0.05             # p-value threshold for reduce = "p"
     sweep = "chelator"           # factor of a concentration sweep
-    tolerance = 2.0              # sweet-spot tolerance in response units (else relative)
-    relative_tolerance = 0.05    # sweet-spot tolerance as a fraction of the best
+    tolerance = 2.0              # lean-level tolerance in response units (else relative)
+    relative_tolerance = 0.05    # lean-level tolerance as a fraction of the best
     bootstrap = 2000             # resamples for bootstrap intervals (0 = none)
 
     [analysis.response.removal_percent]

@@ -183,7 +183,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     tol = float(tolerance) if tolerance is not None else \
         relative_tolerance * abs(float(best_pred.predicted))
     ok = sign * (pred - best_pred.predicted) >= -tol
-    sweet = float(grid[np.argmax(ok)])
+    lean = float(grid[np.argmax(ok)])
     t = float(stats.t.ppf(1 - alpha / 2, fit.df_resid))
     flo, fhi, bounded = fieller_vertex(b1, b2, cov[i1, i1], cov[i1, i2], cov[i2, i2], t)
     p_curv = float(coefs.loc[f"{factor.name}^2", "p"])
@@ -196,7 +196,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
                "pi_low": float(best_pred.pi_low), "pi_high": float(best_pred.pi_high),
                "ci_low": float(best_pred.ci_low), "ci_high": float(best_pred.ci_high)}
     return SweepResult(fit, factor, aim, best, None if vertex is None else float(vertex),
-                       flo, fhi, bounded, blo, bhi, tol, sweet, falls, drop, optimum)
+                       flo, fhi, bounded, blo, bhi, tol, lean, falls, drop, optimum)
 
 
 def _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha):

@@ -111,12 +111,12 @@ def sweep_view(fit, factor: str, *, unit: str = "", aim: str = "higher",
     best, best_value = float(xs[k]), float(p[k])
     tol = abs(best_value) * 0.05 if tolerance is None else float(tolerance)
     ok = (p <= best_value + tol) if aim == "lower" else (p >= best_value - tol)
-    sweet = float(xs[np.argmax(ok)]) if ok.any() else None
+    lean = float(xs[np.argmax(ok)]) if ok.any() else None
     obs = observed(fit)
     means = (obs.groupby(factor).y.agg(["mean", "count"]).reset_index()
              .rename(columns={factor: "x", "count": "n"}))
     return SweepView(fit.response, unit, factor, f.unit, curve, means, best, best_value,
-                     sweet, tol, aim)
+                     lean, tol, aim)
 
 
 def desirability_view(fits: Sequence, specs: Sequence, x: str, y: str, *,
