@@ -367,8 +367,8 @@ EXAMPLES: dict[str, ExampleScenario] = {
 def surface_desirability(truth: BathTruth, x: Mapping, *, hours: float = 8.0) -> float:
     """Overall desirability of the surface example's removal and attack aims (no cost).
 
-    Geometric mean of the one-sided desirabilities of removal after ``hours`` (maximise,
-    50..90 %) and corrosion rate (minimise, 0.05..0.30 mm/y), as in its trial file.
+    Geometric mean of the one-sided desirabilities of removal after ``hours`` (aim higher,
+    50..90 %) and corrosion rate (aim lower, 0.05..0.30 mm/y), as in its trial file.
     """
     d1 = one_sided_desirability(truth.removal_pct(x, hours), 50.0, 90.0, "higher")
     d2 = one_sided_desirability(truth.corrosion_mm_per_y(x), 0.05, 0.30, "lower")
