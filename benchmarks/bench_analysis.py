@@ -19,7 +19,7 @@ import statsmodels.api as sm
 
 from trialkit.analysis.model import fit_model
 from trialkit.analysis.surface import bootstrap_optimum, quadratic_operators
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 N_BOOT = 2000
 SEED = 20261201

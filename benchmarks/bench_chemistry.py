@@ -63,7 +63,7 @@ ingredients = [{ name = "citric acid", amount = "10 % w/v" }]
 def main() -> None:
     from trialkit.chemistry import speciation
     from trialkit.chemistry.mixing_sheet import recipes_for_plan
-    from trialkit.plan import load_plan
+    from trialkit.planning.plan import load_plan
 
     with tempfile.TemporaryDirectory() as tmp:
         path = Path(tmp) / "trial.toml"

@@ -38,8 +38,8 @@ REPO = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(REPO))
 
 from trialkit import power as pw  # noqa: E402
-from trialkit.designs.optimal import optimal_design  # noqa: E402
-from trialkit.factors import Factor  # noqa: E402
+from trialkit.planning.designs.optimal import optimal_design  # noqa: E402
+from trialkit.trial.factors import Factor  # noqa: E402
 
 PYDOE_METHODS = ("sequential", "simple_exchange", "fedorov", "modified_fedorov", "detmax")
 
@@ -137,9 +137,9 @@ center_points = 2
 def bench_power(n_sim=10_000, loop_cap=300):
     import statsmodels.api as sm
 
-    from trialkit.evaluate import evaluate_plan
-    from trialkit.plan import make_plan
-    from trialkit.trialfile import parse_trial_text
+    from trialkit.planning.evaluation import evaluate_plan
+    from trialkit.planning.plan import make_plan
+    from trialkit.trial.file import parse_trial_text
 
     plan = make_plan(parse_trial_text(TRIAL_30))
     ev = evaluate_plan(plan, model="interactions", sd=1.0, effects=1.0)

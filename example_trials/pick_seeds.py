@@ -7,7 +7,7 @@ Usage (from the repository root)::
 Any seed gives readings drawn from the same invented truth model; by chance a few show a
 null factor as significant (about 1 in 20 at alpha = 0.05, which is what alpha means) or
 an optimum off the truth. Teaching data should show the truth, so for each example the
-seed in ``trialkit/truth_models.py`` is the first one from the scenario's starting seed up
+seed in ``trialkit/demo/truth_models.py`` is the first one from the scenario's starting seed up
 for which these plain checks (independent of trialkit's analysis: numpy least squares and
 statsmodels OLS on the raw readings) agree with the truth:
 
@@ -95,7 +95,7 @@ def check_surface(sim, sc) -> bool:
     import pandas as pd
     import statsmodels.formula.api as smf
 
-    from trialkit.truth_models import surface_desirability
+    from trialkit.demo.truth_models import surface_desirability
     c = sim.coupons
     r = c[(c["coupon_kind"] == "rusted") & (c["point"] != "reference")].copy()
     r["removal"] = 100 * (1 - r["coverage_after_pct"] / r["coverage_before_pct"])
@@ -120,9 +120,9 @@ CHECKS = {"chelator-sweep": check_sweep, "five-factor-screen": check_screen,
 
 def first_good_seed(name: str, tries: int = 50) -> int:
     """The first seed from START[name] whose readings pass the scenario's check."""
-    from trialkit.plan import load_plan
-    from trialkit.simulate import simulate_readings
-    from trialkit.truth_models import EXAMPLES
+    from trialkit.demo.simulate import simulate_readings
+    from trialkit.demo.truth_models import EXAMPLES
+    from trialkit.planning.plan import load_plan
     sc, plan = EXAMPLES[name], load_plan(HERE / name)
     for seed in range(START[name], START[name] + tries):
         sim = simulate_readings(plan, sc.truth, seed=seed, inspections_h=sc.inspections_h,
@@ -137,7 +137,7 @@ def main() -> int:
         import trialkit  # noqa: F401
     except ModuleNotFoundError:
         sys.path.insert(0, str(HERE.parent))
-    from trialkit.truth_models import EXAMPLES
+    from trialkit.demo.truth_models import EXAMPLES
     for name in CHECKS:
         seed = first_good_seed(name)
         used = EXAMPLES[name].seed

@@ -29,7 +29,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from trialkit.demo import example_trials_folder
+from trialkit.demo.run import example_trials_folder
 
 pd.set_option("display.width", 160)
 EXAMPLES = example_trials_folder()
@@ -96,7 +96,7 @@ differ by about **2 h** in time to 90 % removal. We want to see a change of 6 h 
 range (linear term) and a curvature of 4 h (squared term), at alpha 0.05.
 """),
         code('''\
-from trialkit.evaluate import evaluate_plan
+from trialkit.planning.evaluation import evaluate_plan
 
 ev = evaluate_plan(plan, model="chelator + chelator^2", sd=2.0,
                    effects={"chelator": 6.0, "chelator^2": 4.0})
@@ -114,7 +114,7 @@ its Fieller interval.
 """),
         code('''\
 from trialkit.analysis.pipeline import analyze_table
-from trialkit.responses import compute_responses
+from trialkit.responses.compute import compute_responses
 
 readings = pd.read_csv(EXAMPLES / "chelator-sweep" / "readings" / "coupons.csv")
 timecourse = pd.read_csv(EXAMPLES / "chelator-sweep" / "readings" / "timecourse.csv")
@@ -227,7 +227,7 @@ then we spoil a copy on purpose to see the checks at work.
         code(SETUP.format(nn="03")),
         code('''\
 from trialkit import load_plan
-from trialkit.sheets import export_csv, export_xlsx
+from trialkit.records.sheets import export_csv, export_xlsx
 
 src = EXAMPLES / "five-factor-screen"
 shutil.copy(src / "trial.toml", WORK / "trial.toml")
@@ -244,7 +244,7 @@ the machine names ingest finds the columns by, then one row per coupon. We fill 
 of the workbook from the readings file.
 """),
         code('''\
-from trialkit.fill import fill_sheet
+from trialkit.demo.fill import fill_sheet
 
 filled = fill_sheet(xlsx, WORK / "readings" / "coupons.csv", WORK / "filled.xlsx")
 filled'''),
@@ -269,8 +269,8 @@ ws.cell(first + 2, col["mass_final_g"]).value = initial + 1.0     # heavier afte
 ws.cell(first + 3, col["coupon"]).value = "B99-R7"            # plan column edited
 wb.save(WORK / "filled_with_mistakes.xlsx")'''),
         code('''\
-from trialkit.sheets import ingest_sheet
-from trialkit.store import RecordLog
+from trialkit.records.sheets import ingest_sheet
+from trialkit.records.log import RecordLog
 
 log = RecordLog.for_folder(WORK)
 bad = ingest_sheet(WORK / "filled_with_mistakes.xlsx", plan, log=log)
@@ -330,7 +330,7 @@ record log like any other trial.
 """ + INVENTED),
         code(SETUP.format(nn="04")),
         code('''\
-from trialkit.demo import run_demo
+from trialkit.demo.run import run_demo
 
 demo = run_demo(WORK, trials=["five-factor-screen"], until="responses")
 demo'''),
@@ -416,7 +416,7 @@ desirability, and write the report.
 """ + INVENTED + "\n\n" + CAUTION),
         code(SETUP.format(nn="05")),
         code('''\
-from trialkit.demo import run_demo
+from trialkit.demo.run import run_demo
 
 demo = run_demo(WORK, trials=["surface-follow-up"], until="responses")
 folder = demo.trials[0].folder

@@ -14,8 +14,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from trialkit.plan import make_plan
-from trialkit.trialfile import load_trial
+from trialkit.planning.plan import make_plan
+from trialkit.trial.file import load_trial
 
 SCREENING = """
 [trial]
@@ -223,7 +223,7 @@ def example(name: str, dest: Path):
     """Copy an example trial to ``dest``; its responses from the invented readings."""
     import shutil
 
-    from trialkit.responses import compute_responses
+    from trialkit.responses.compute import compute_responses
 
     folder = dest / name
     shutil.copytree(EXAMPLES / name, folder)
@@ -249,7 +249,7 @@ def _scratch() -> Path:
 def analysed(kind: str):
     """(TrialData, inputs) of one invented or example trial, gathered and analysed once
     per test session: kind is "screening", "surface", "sweep" or "example:<name>"."""
-    from trialkit.report.gather import analyse, load_inputs
+    from trialkit.analysis.trial_analysis import analyse, load_inputs
 
     key = ("analysed", kind)
     if key not in _CACHE:

@@ -14,7 +14,7 @@ from statsmodels.stats.anova import anova_lm
 
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError, ModelSpecError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 REF = Path(__file__).parent / "reference" / "stats" / "ehandbook"
 

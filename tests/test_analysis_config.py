@@ -5,8 +5,8 @@ from __future__ import annotations
 import tomllib
 
 from trialkit.analysis.config import AnalysisConfig, parse_analysis_section
-from trialkit.factors import Factor
 from trialkit.problems import ProblemReport
+from trialkit.trial.factors import Factor
 
 
 class _Trial:

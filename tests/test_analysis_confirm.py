@@ -10,7 +10,7 @@ from scipy import stats
 from trialkit.analysis.confirm import confirm
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 
 def _fit():

@@ -12,7 +12,7 @@ import pytest
 from trialkit.analysis.desirability import Aim, optimize_desirability
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 REF = Path(__file__).parent / "reference" / "stats"
 

@@ -11,7 +11,7 @@ from statsmodels.stats.outliers_influence import OLSInfluence
 
 from trialkit.analysis.diagnostics import box_cox_profile, diagnose
 from trialkit.analysis.model import fit_model
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 FS = [Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5.5, 7.5)]
 

@@ -13,7 +13,7 @@ from scipy import stats
 
 from trialkit.analysis.effects import lenth, two_level_effects
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 REF = Path(__file__).parent / "reference" / "stats"
 

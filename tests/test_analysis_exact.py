@@ -27,7 +27,7 @@ from trialkit.analysis.exact import (
 from trialkit.analysis.linear import least_squares
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 REF = Path(__file__).parent / "reference" / "stats" / "nist_strd"
 ANOVA = json.loads((REF / "anova" / "certified_values.json").read_text())["datasets"]

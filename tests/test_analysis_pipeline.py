@@ -1,6 +1,6 @@
 """The whole analysis of one response (trialkit.analysis.pipeline, .sources), including the
 trial-folder route: real trial file, plan, record log (invented readings written through
-trialkit.store) and response computation."""
+trialkit.records.log) and response computation."""
 
 from __future__ import annotations
 
@@ -13,10 +13,10 @@ import pytest
 
 from trialkit.analysis.pipeline import analyze_table, default_model
 from trialkit.cli import main
-from trialkit.factors import Factor
-from trialkit.plan import make_plan
-from trialkit.store import RecordLog
-from trialkit.trialfile import load_trial
+from trialkit.planning.plan import make_plan
+from trialkit.records.log import RecordLog
+from trialkit.trial.factors import Factor
+from trialkit.trial.file import load_trial
 
 STARTER = Path(__file__).resolve().parents[1] / "trialkit" / "data" / "starter_trial.toml"
 

@@ -11,7 +11,7 @@ import pytest
 from trialkit.analysis.model import fit_model
 from trialkit.analysis.reduction import information, reduce_model
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 FS = [Factor.continuous(n, -1, 1) for n in ("a", "b", "c")]
 

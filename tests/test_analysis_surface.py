@@ -12,7 +12,7 @@ import pytest
 from trialkit.analysis.model import fit_model
 from trialkit.analysis.surface import fit_surface, region_statistics
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 REF = Path(__file__).parent / "reference" / "stats"
 FS = [Factor.continuous("chelator", 2.0, 10.0, unit="% w/v"), Factor.continuous("ph", 5.5, 7.5)]

@@ -11,7 +11,7 @@ from scipy import stats
 from trialkit.analysis.linear import batched_refit
 from trialkit.analysis.sweep import fieller_vertex, fit_sweep
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 CHELATOR = Factor.continuous("chelator", 2.0, 20.0, unit="% w/v")
 LEVELS = np.repeat([2.0, 3.5, 5.0, 7.5, 10.0, 15.0, 20.0], 3)

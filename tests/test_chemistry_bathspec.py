@@ -4,7 +4,7 @@ import pytest
 
 from trialkit.chemistry.bathspec import BathSection
 from trialkit.exceptions import TrialFileError
-from trialkit.trialfile import load_trial
+from trialkit.trial.file import load_trial
 
 HEAD = """
 [trial]

@@ -11,8 +11,8 @@ from trialkit.chemistry.mixing_sheet import (
     coupon_area_cm2,
     recipes_for_plan,
 )
-from trialkit.plan import load_plan
-from trialkit.trialfile import CouponSpec
+from trialkit.planning.plan import load_plan
+from trialkit.trial.file import CouponSpec
 
 TRIAL = """
 [trial]
@@ -140,7 +140,7 @@ class _StandIn:
 
 
 def test_temperature_factor_fixed_volume_and_order_of_addition(tmp_path):
-    from trialkit.trialfile import load_trial
+    from trialkit.trial.file import load_trial
 
     text = TRIAL.replace('[[factor]]\nname = "surfactant"\nlevels = ["none", "added"]',
                          '[[factor]]\nname = "temp"\nunit = "degC"\nlow = 20\nhigh = 40')
@@ -162,7 +162,7 @@ def test_temperature_factor_fixed_volume_and_order_of_addition(tmp_path):
 
 def test_trial_without_bath_section_is_refused(tmp_path):
     from trialkit.exceptions import ChemistryError
-    from trialkit.trialfile import load_trial
+    from trialkit.trial.file import load_trial
 
     (tmp_path / "trial.toml").write_text(TRIAL.split("[bath]")[0], encoding="utf-8")
     trial = load_trial(tmp_path / "trial.toml")

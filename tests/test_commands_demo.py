@@ -10,18 +10,18 @@ import re
 
 import pytest
 
-import trialkit.demo
+import trialkit.demo.run
 from trialkit.cli import main
 
 
 @pytest.fixture
 def short_demo(monkeypatch):
-    real = trialkit.demo.run_demo
+    real = trialkit.demo.run.run_demo
 
     def run(*args, **kw):
         return real(*args, until="sheets", **kw)
 
-    monkeypatch.setattr(trialkit.demo, "run_demo", run)
+    monkeypatch.setattr(trialkit.demo.run, "run_demo", run)
 
 
 def test_json_output_lists_each_trial(short_demo, tmp_path, capsys):

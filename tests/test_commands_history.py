@@ -7,7 +7,7 @@ import json
 
 from malformed_sheets.make_corpus import fill_csv, good_readings, make_test_plan
 
-from trialkit.sheets import export_csv, ingest_sheet
+from trialkit.records.sheets import export_csv, ingest_sheet
 
 
 def test_history_shows_corrections(cli, tmp_path):

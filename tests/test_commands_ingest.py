@@ -6,8 +6,8 @@ import json
 
 from malformed_sheets.make_corpus import fill_csv, good_readings, make_test_plan
 
-from trialkit.sheets import export_csv
-from trialkit.store import RecordLog
+from trialkit.records.log import RecordLog
+from trialkit.records.sheets import export_csv
 
 
 def prepare(tmp_path):

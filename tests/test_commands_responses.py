@@ -1,7 +1,7 @@
 """``trialkit responses DIR`` as a user runs it (real subprocess, record log in tmp_path).
 
-Needs ``trialkit.store`` (the record log) and ``trialkit.plan``.  Readings are invented
-data; expected values are hand-computed with the ASTM G1 formula.
+Needs ``trialkit.records.log`` (the record log) and ``trialkit.planning.plan``.
+Readings are invented data; expected values are hand-computed with the ASTM G1 formula.
 """
 
 from __future__ import annotations
@@ -12,7 +12,7 @@ import math
 import pandas as pd
 import pytest
 
-from trialkit.plan import load_plan
+from trialkit.planning.plan import load_plan
 
 # starter trial of ``trialkit new``: plate 50 x 25 x 2 mm with one 4 mm hole; the hole
 # takes 2*pi*2² = 8 pi mm² off the faces and its bore adds pi*4*2 = 8 pi: 2800 mm² = 28 cm²
@@ -21,7 +21,7 @@ START, END = "2026-12-01T09:00:00", "2026-12-02T09:00:00"  # 24 h
 
 
 def _trial(tmp_path, cli, *, skip_witness_of: str | None = None, timecourse: bool = False):
-    from trialkit.store import RecordLog  # the record log (branch sheets until merged)
+    from trialkit.records.log import RecordLog  # the record log (branch sheets until merged)
 
     folder = tmp_path / "t"
     assert cli("new", str(folder)).returncode == 0

@@ -8,7 +8,7 @@ import pytest
 from malformed_sheets.make_corpus import write_trial
 from openpyxl import load_workbook
 
-from trialkit.plan import load_plan
+from trialkit.planning.plan import load_plan
 
 
 @pytest.mark.parametrize("fmt", ["xlsx", "csv", "html"])

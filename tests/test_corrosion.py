@@ -11,7 +11,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trialkit.corrosion import (
+from trialkit.exceptions import ResponseError
+from trialkit.responses.corrosion import (
     K_CONSTANTS,
     blank_corrected_loss,
     canonical_rate_unit,
@@ -19,7 +20,6 @@ from trialkit.corrosion import (
     corrosion_rate,
     cycle_extrapolation,
 )
-from trialkit.exceptions import ResponseError
 
 REF = json.loads(
     (Path(__file__).parent / "reference/corrosion/astm_g1_corrosion_rate.json").read_text()

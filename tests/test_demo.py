@@ -1,4 +1,4 @@
-"""The end-to-end demo (trialkit.demo and ``trialkit demo``) on the bundled examples.
+"""The end-to-end demo (trialkit.demo.run and ``trialkit demo``) on the bundled examples.
 
 The example trials and their readings are invented (``example_trials/``).  The full demo
 runs once per module, as the real command in a subprocess from a temporary folder; a
@@ -18,7 +18,7 @@ import pandas as pd
 import pytest
 
 import trialkit
-from trialkit.demo import STAGES, DemoError, DemoResult, bundled_trials, run_demo
+from trialkit.demo.run import STAGES, DemoError, DemoResult, bundled_trials, run_demo
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLES = REPO / "example_trials"
@@ -79,8 +79,8 @@ def test_demo_plans_equal_the_bundled_plans(cli_run):
 
 def test_record_log_holds_the_invented_readings(cli_run):
     # Every coupon reading of the example went sheet -> ingest -> log unchanged.
-    from trialkit.plan import load_plan
-    from trialkit.store import RecordLog
+    from trialkit.planning.plan import load_plan
+    from trialkit.records.log import RecordLog
 
     _, out = cli_run
     for name in bundled_trials():
@@ -105,7 +105,7 @@ def test_baths_with_a_bath_section_get_a_mixing_sheet(cli_run):
 
 
 def test_demo_analysis_json_agrees_with_the_invented_truth(cli_run):
-    from trialkit.truth_models import EXAMPLES as TRUTHS
+    from trialkit.demo.truth_models import EXAMPLES as TRUTHS
 
     _, out = cli_run
     screen = json.loads((out / "five-factor-screen" / "analysis.json").read_text())

@@ -1,7 +1,7 @@
-"""Key findings of a demo trial (trialkit.demo_findings) on the bundled examples.
+"""Key findings of a demo trial (trialkit.demo.findings) on the bundled examples.
 
 The readings are invented (``example_trials/*/readings``); the truth they were drawn
-from is ``trialkit.truth_models.EXAMPLES``.  The findings must agree with that truth.
+from is ``trialkit.demo.truth_models.EXAMPLES``.  The findings must agree with that truth.
 """
 
 from __future__ import annotations
@@ -11,10 +11,10 @@ from pathlib import Path
 
 import pandas as pd
 
-from trialkit.demo_findings import ALPHA, analyse_demo_trial
-from trialkit.plan import load_plan
-from trialkit.responses import compute_responses
-from trialkit.truth_models import EXAMPLES
+from trialkit.demo.findings import ALPHA, analyse_demo_trial
+from trialkit.demo.truth_models import EXAMPLES
+from trialkit.planning.plan import load_plan
+from trialkit.responses.compute import compute_responses
 
 ROOT = Path(__file__).resolve().parents[1] / "example_trials"
 

@@ -1,4 +1,4 @@
-"""Result objects of the demo (trialkit.demo_result), built by hand."""
+"""Result objects of the demo (trialkit.demo.result), built by hand."""
 
 from __future__ import annotations
 
@@ -9,7 +9,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from trialkit.demo_result import DemoResult, DemoStage, DemoTrial, plain_data, settings_text
+from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data, settings_text
 
 
 def _result(tmp_path: Path) -> DemoResult:

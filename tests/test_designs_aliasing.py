@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 from pyDOE3 import fracfact, fracfact_aliasing, pbdesign
 
-from trialkit.designs.aliasing import alias_structure, defining_words, roman
-from trialkit.designs.twolevel import fraction_matrix
 from trialkit.exceptions import DesignError
-from trialkit.factors import FACTOR_LETTERS
+from trialkit.planning.designs.aliasing import alias_structure, defining_words, roman
+from trialkit.planning.designs.twolevel import fraction_matrix
+from trialkit.trial.factors import FACTOR_LETTERS
 
 REF = json.loads((Path(__file__).parent / "reference" / "designs" /
                   "design_properties.json").read_text())

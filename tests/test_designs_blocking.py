@@ -5,10 +5,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trialkit.designs import build_design, two_level_block_columns
-from trialkit.designs._common import sign_matrix
 from trialkit.exceptions import DesignError
-from trialkit.factors import FACTOR_LETTERS, Factor
+from trialkit.planning.designs import build_design, two_level_block_columns
+from trialkit.planning.designs._common import sign_matrix
+from trialkit.trial.factors import FACTOR_LETTERS, Factor
 
 
 def full(k):

@@ -7,10 +7,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trialkit.designs import build_design, center_points
-from trialkit.designs._common import cross, level_combinations
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning.designs import build_design, center_points
+from trialkit.planning.designs._common import cross, level_combinations
+from trialkit.trial.factors import Factor
 
 CONT = [Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5, 8)]
 

@@ -1,11 +1,11 @@
-"""Tests of trialkit.designs.constraints: the linear-constraint reader (never eval)."""
+"""Tests of trialkit.planning.designs.constraints: the linear-constraint reader (never eval)."""
 
 import numpy as np
 import pytest
 
-from trialkit.designs.constraints import parse_constraint, parse_disallowed
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning.designs.constraints import parse_cannot_mix, parse_constraint
+from trialkit.trial.factors import Factor
 
 FS = (Factor.continuous("chelator", 2, 10, unit="% w/v"),
       Factor.categorical("surfactant", ["none", "added"]),
@@ -48,7 +48,7 @@ def test_bad_constraints_are_refused_with_a_reason(text, message):
 
 
 def test_disallowed_combination_matches_levels_and_ranges():
-    d = parse_disallowed({"surfactant": "added", "chelator": [8, 10]}, FS)
+    d = parse_cannot_mix({"surfactant": "added", "chelator": [8, 10]}, FS)
     U = np.array([[FS[0].to_coded(9.0), 1, 0.0], [FS[0].to_coded(9.0), 0, 0.0],
                   [FS[0].to_coded(6.0), 1, 0.0]])
     assert d.matches(U, FS).tolist() == [True, False, False]
@@ -62,4 +62,4 @@ def test_disallowed_combination_matches_levels_and_ranges():
 ])
 def test_bad_disallowed_combinations(spec, message):
     with pytest.raises(DesignError, match=message):
-        parse_disallowed(spec, FS)
+        parse_cannot_mix(spec, FS)

@@ -1,13 +1,14 @@
-"""Tests of trialkit.designs.exchange: the allowed region and one coordinate-exchange run."""
+"""Tests of trialkit.planning.designs.exchange: the allowed region and one
+coordinate-exchange run."""
 
 import numpy as np
 import pytest
 
-from trialkit import power as pw
-from trialkit.designs.constraints import parse_constraint, parse_disallowed
-from trialkit.designs.exchange import Region, coordinate_exchange
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning import power as pw
+from trialkit.planning.designs.constraints import parse_cannot_mix, parse_constraint
+from trialkit.planning.designs.exchange import Region, coordinate_exchange
+from trialkit.trial.factors import Factor
 
 FS = (Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5, 8),
       Factor.categorical("surfactant", ["none", "added"]))
@@ -24,7 +25,7 @@ def test_candidates_include_the_constraint_boundary():
 
 def test_feasible_checks_ranges_constraints_and_disallowed():
     region = Region(FS, [parse_constraint("ph >= 5 + 0.25*chelator", FS)],
-                    [parse_disallowed({"surfactant": "added", "ph": [7, 8]}, FS)], grid=3)
+                    [parse_cannot_mix({"surfactant": "added", "ph": [7, 8]}, FS)], grid=3)
     U = np.array([[1.0, 1.0, 0], [1.0, 0.0, 0], [0.0, 1.0, 1], [0.0, 0.0, 1],
                   [1.2, 1.0, 0]])
     assert region.feasible(U).tolist() == [True, False, False, True, False]

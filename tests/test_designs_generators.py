@@ -5,17 +5,17 @@ from pathlib import Path
 
 import pytest
 
-from trialkit.designs.aliasing import alias_structure, roman
-from trialkit.designs.generators import (
+from trialkit.exceptions import DesignError
+from trialkit.planning.designs.aliasing import alias_structure, roman
+from trialkit.planning.designs.generators import (
     FRACTION_TABLE,
     TABLE_RESOLUTION,
     check_generator_set,
     choose_by_resolution,
     parse_generator,
 )
-from trialkit.designs.twolevel import fraction_matrix
-from trialkit.exceptions import DesignError
-from trialkit.factors import FACTOR_LETTERS
+from trialkit.planning.designs.twolevel import fraction_matrix
+from trialkit.trial.factors import FACTOR_LETTERS
 
 REF = json.loads((Path(__file__).parent / "reference" / "designs" /
                   "design_properties.json").read_text())

@@ -5,9 +5,9 @@ import json
 import numpy as np
 import pytest
 
-from trialkit.designs import POINT_TYPES, build_design
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning.designs import POINT_TYPES, build_design
+from trialkit.trial.factors import Factor
 
 FS = [Factor.continuous("chelator", 2, 10, unit="% w/v"), Factor.continuous("ph", 5, 8),
       Factor.continuous("temperature", 20, 50, unit="degC"),

@@ -1,4 +1,4 @@
-"""Tests of trialkit.designs.optimal: coordinate-exchange D- and I-optimal designs."""
+"""Tests of trialkit.planning.designs.optimal: coordinate-exchange D- and I-optimal designs."""
 
 import itertools
 import tomllib
@@ -9,11 +9,11 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from trialkit import power as pw
-from trialkit.designs.optimal import build_optimal, check_optimal_options, optimal_design
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning import power as pw
+from trialkit.planning.designs.optimal import build_optimal, check_optimal_options, optimal_design
 from trialkit.problems import ProblemReport
+from trialkit.trial.factors import Factor
 
 CHELATOR = Factor.continuous("chelator", 2, 10, unit="% w/v")
 PH = Factor.continuous("ph", 5, 8)
@@ -87,7 +87,7 @@ def test_never_singular_where_grid_order_greedy_starts_fail():
     assert res.d_efficiency > 40.0
 
 
-# -- constraints, disallowed combinations, fixed runs, augmentation --------------------
+# -- constraints, combinations that cannot be mixed, fixed runs, augmentation --------------------
 @settings(max_examples=10, deadline=None, derandomize=True,
           suppress_health_check=[HealthCheck.too_slow])
 @given(intercept=st.floats(4.5, 5.5), slope=st.floats(-0.3, 0.1),

@@ -8,10 +8,15 @@ import tomllib
 
 import pytest
 
-from trialkit.designs import DESIGN_KINDS, DESIGN_OPTIONS, build_design, check_design_options
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning.designs import (
+    DESIGN_KINDS,
+    DESIGN_OPTIONS,
+    build_design,
+    check_design_options,
+)
 from trialkit.problems import ProblemReport
+from trialkit.trial.factors import Factor
 
 HEAD = """
 [[factor]]

@@ -6,9 +6,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyDOE3 import lhs
 
-from trialkit.designs import build_design
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning.designs import build_design
+from trialkit.trial.factors import Factor
 
 CHEL = Factor.continuous("chelator", 1.0, 16.0, unit="% w/v")
 

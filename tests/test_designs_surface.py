@@ -10,9 +10,9 @@ import pytest
 from pyDOE3 import bbdesign, ccdesign
 from pyDOE3.utils import scale_samples
 
-from trialkit.designs import build_design, center_points
-from trialkit.designs.surface import BBD_BLOCKS, box_behnken_core, rotatable_alpha
-from trialkit.factors import Factor
+from trialkit.planning.designs import build_design, center_points
+from trialkit.planning.designs.surface import BBD_BLOCKS, box_behnken_core, rotatable_alpha
+from trialkit.trial.factors import Factor
 
 REF = json.loads((Path(__file__).parent / "reference" / "designs" /
                   "design_properties.json").read_text())

@@ -9,10 +9,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyDOE3 import fracfact_by_res
 
-from trialkit.designs import alias_structure, build_design
-from trialkit.designs._common import sign_matrix
 from trialkit.exceptions import DesignError
-from trialkit.factors import Factor
+from trialkit.planning.designs import alias_structure, build_design
+from trialkit.planning.designs._common import sign_matrix
+from trialkit.trial.factors import Factor
 
 REF = json.loads((Path(__file__).parent / "reference" / "designs" /
                   "design_properties.json").read_text())

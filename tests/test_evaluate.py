@@ -1,4 +1,4 @@
-"""Tests of trialkit.evaluate: power per term of real plans, detectable effects,
+"""Tests of trialkit.planning.evaluation: power per term of real plans, detectable effects,
 replicates needed, efficiencies, and the [evaluation] trial-file section."""
 
 import json
@@ -9,11 +9,11 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from trialkit.evaluate import design_model, evaluate_design, evaluate_plan
 from trialkit.exceptions import ModelSpecError, PlanError
-from trialkit.factors import Factor
-from trialkit.plan import make_plan
-from trialkit.trialfile import parse_trial_text
+from trialkit.planning.evaluation import design_model, evaluate_design, evaluate_plan
+from trialkit.planning.plan import make_plan
+from trialkit.trial.factors import Factor
+from trialkit.trial.file import parse_trial_text
 
 TWO_FACTOR = """
 [trial]

@@ -1,14 +1,14 @@
-"""Tests of trialkit.evaluation_config: the [evaluation] trial-file section, read from
+"""Tests of trialkit.planning.evaluation_config: the [evaluation] trial-file section, read from
 real files in tmp_path."""
 
 import numpy as np
 import pytest
 
-from trialkit.evaluate import evaluate_plan
-from trialkit.evaluation_config import EvaluationSettings
 from trialkit.exceptions import TrialFileError
-from trialkit.plan import make_plan
-from trialkit.trialfile import load_trial
+from trialkit.planning.evaluation import evaluate_plan
+from trialkit.planning.evaluation_config import EvaluationSettings
+from trialkit.planning.plan import make_plan
+from trialkit.trial.file import load_trial
 
 TWO_FACTOR = """
 [trial]

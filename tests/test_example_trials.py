@@ -13,8 +13,8 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from trialkit.plan import load_plan
-from trialkit.truth_models import EXAMPLES
+from trialkit.demo.truth_models import EXAMPLES
+from trialkit.planning.plan import load_plan
 
 REPO = Path(__file__).resolve().parents[1]
 ROOT = REPO / "example_trials"

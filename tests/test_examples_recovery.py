@@ -1,7 +1,7 @@
 """The analysis recovers the invented truth of each bundled example trial.
 
 Self-consistency checks on invented data (the readings in ``example_trials/*/readings``
-were drawn by ``trialkit.simulate`` from the truth models in ``trialkit.truth_models``;
+were drawn by ``trialkit.demo.simulate`` from the truth models in ``trialkit.demo.truth_models``;
 they are not measurements).  The readings go through the library's own responses and
 analysis; the truth comes from the truth model, never from the analysis.
 The seeds of the examples were chosen by ``example_trials/pick_seeds.py`` with checks of
@@ -22,9 +22,9 @@ from trialkit.analysis.desirability import Aim, optimize_desirability
 from trialkit.analysis.model import fit_model
 from trialkit.analysis.pipeline import analyze_table
 from trialkit.analysis.surface import fit_surface
-from trialkit.plan import load_plan
-from trialkit.responses import compute_responses
-from trialkit.truth_models import EXAMPLES, surface_desirability
+from trialkit.demo.truth_models import EXAMPLES, surface_desirability
+from trialkit.planning.plan import load_plan
+from trialkit.responses.compute import compute_responses
 
 ROOT = Path(__file__).resolve().parents[1] / "example_trials"
 ALPHA = 0.05
@@ -57,7 +57,7 @@ def p_values(fit) -> pd.Series:
 # -- chelator sweep ---------------------------------------------------------------------
 def test_sweep_time_to_clean_interval_covers_true_chelator_optimum():
     # The truth's removal rate peaks at chelator_optimum whatever else holds, so the
-    # time to 90 % removal is shortest there (trialkit/truth_models.py).
+    # time to 90 % removal is shortest there (trialkit/demo/truth_models.py).
     sc = EXAMPLES["chelator-sweep"]
     plan, table = bath_table("chelator-sweep")
     chel = plan.trial.factors[0]

@@ -1,4 +1,4 @@
-"""Filling exported recording sheets by program (trialkit.fill).
+"""Filling exported recording sheets by program (trialkit.demo.fill).
 
 Round trips through the sheets' own checked ingest: what the fill writes must come back
 out of the record log unchanged.  Readings are the invented ones of the bundled
@@ -14,12 +14,12 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from trialkit.demo.fill import fill_sheet
 from trialkit.exceptions import SheetError
-from trialkit.fill import fill_sheet
-from trialkit.plan import make_plan
-from trialkit.sheets import export_csv, export_xlsx, ingest_sheet, sheet_config
-from trialkit.store import RecordLog
-from trialkit.trialfile import load_trial
+from trialkit.planning.plan import make_plan
+from trialkit.records.log import RecordLog
+from trialkit.records.sheets import export_csv, export_xlsx, ingest_sheet, sheet_config
+from trialkit.trial.file import load_trial
 
 EXAMPLE = Path(__file__).resolve().parents[1] / "example_trials" / "chelator-sweep"
 NUMBERS = ("mass_initial_g", "mass_final_g", "coverage_before_pct", "coverage_after_pct",

@@ -11,7 +11,7 @@ import pytest
 from scipy.optimize import curve_fit
 
 from trialkit.exceptions import ResponseError
-from trialkit.kinetics import (
+from trialkit.responses.kinetics import (
     first_order,
     fit_baths,
     fit_removal,

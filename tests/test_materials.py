@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from trialkit.exceptions import ResponseError
-from trialkit.materials import MetalError, density_g_cm3, metal, metal_names, metals_table
+from trialkit.responses.materials import MetalError, density_g_cm3, metal, metal_names, metals_table
 
 REF = json.loads(
     (Path(__file__).parent / "reference/corrosion/astm_g1_corrosion_rate.json").read_text()

@@ -1,4 +1,4 @@
-"""Tests of the model grammar and model matrices (trialkit.modelspec)."""
+"""Tests of the model grammar and model matrices (trialkit.trial.model_grammar)."""
 
 from __future__ import annotations
 
@@ -9,8 +9,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from trialkit.exceptions import AnalysisError, ModelSpecError, TrialkitError
-from trialkit.factors import Factor
-from trialkit.modelspec import Term, coded_frame, model_matrix, parse_model
+from trialkit.trial.factors import Factor
+from trialkit.trial.model_grammar import Term, coded_frame, model_matrix, parse_model
 
 FACTORS = (
     Factor.continuous("chelator", 2.0, 10.0, unit="% w/v"),

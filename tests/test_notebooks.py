@@ -2,7 +2,7 @@
 
 Each notebook ends with a ``results`` dict; the test appends one cell that prints it as
 JSON and checks the numbers against the invented truth of the example trial
-(``trialkit.truth_models.EXAMPLES``; the readings are invented, not measurements) or
+(``trialkit.demo.truth_models.EXAMPLES``; the readings are invented, not measurements) or
 against arithmetic from outside the library.  Notebooks run in a temporary folder.
 """
 
@@ -20,11 +20,11 @@ import pytest
 from nbclient import NotebookClient
 from nbformat.v4 import new_code_cell
 
-from trialkit.plan import load_plan
-from trialkit.readings import COUPON_FIELDS
-from trialkit.sheets import sheet_config
-from trialkit.trialfile import load_trial
-from trialkit.truth_models import EXAMPLES
+from trialkit.demo.truth_models import EXAMPLES
+from trialkit.planning.plan import load_plan
+from trialkit.records.fields import COUPON_FIELDS
+from trialkit.records.sheets import sheet_config
+from trialkit.trial.file import load_trial
 
 REPO = Path(__file__).resolve().parents[1]
 NOTEBOOKS = REPO / "notebooks"

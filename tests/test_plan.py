@@ -11,8 +11,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from trialkit.exceptions import PlanError
-from trialkit.plan import make_plan
-from trialkit.trialfile import parse_trial_text
+from trialkit.planning.plan import make_plan
+from trialkit.trial.file import parse_trial_text
 
 
 def trial_text(kind="full-factorial", replicates=1, blocks=1, center=0, controls="[]",

@@ -24,8 +24,11 @@ import report_trials as rt  # noqa: E402
 from matplotlib.collections import PolyCollection  # noqa: E402
 from scipy import stats  # noqa: E402
 
-from trialkit import plots  # noqa: E402
-from trialkit.report import surfaces, views  # noqa: E402
+from trialkit.figures import (
+    plots,  # noqa: E402
+    views,  # noqa: E402
+)
+from trialkit.figures import surface_views as surfaces
 
 
 @pytest.fixture(autouse=True)

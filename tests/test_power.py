@@ -1,4 +1,5 @@
-"""Tests of trialkit.power: model expansion, F-test power, efficiencies, batched simulation."""
+"""Tests of trialkit.planning.power: model expansion, F-test power, efficiencies,
+batched simulation."""
 
 import itertools
 
@@ -7,9 +8,9 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from trialkit import power as pw
-from trialkit.factors import Factor
-from trialkit.modelspec import model_matrix, parse_model
+from trialkit.planning import power as pw
+from trialkit.trial.factors import Factor
+from trialkit.trial.model_grammar import model_matrix, parse_model
 
 FACTORS = (Factor.continuous("chelator", 2, 10, unit="% w/v"),
            Factor.continuous("ph", 5, 8),
@@ -29,7 +30,7 @@ def _mixed_points(seed=3, n=30):
                                   "chelator + surfactant + chelator:surfactant + ph^2"])
 def test_expansion_equals_modelspec_model_matrix(spec):
     # self-consistency: the fast expansion used by the optimal-design search gives the
-    # same matrix, column names and term slices as trialkit.modelspec (sum contrasts)
+    # same matrix, column names and term slices as trialkit.trial.model_grammar (sum contrasts)
     data = _mixed_points()
     dm = pw.DesignModel.from_spec(spec, FACTORS)
     mm = model_matrix(parse_model(spec, FACTORS), data, coding="sum")

@@ -186,9 +186,9 @@ def _readings(plan, rng):
 
 
 def test_report_from_the_record_log(tmp_path):
-    from trialkit.plan import make_plan
-    from trialkit.store import RecordLog
-    from trialkit.trialfile import load_trial
+    from trialkit.planning.plan import make_plan
+    from trialkit.records.log import RecordLog
+    from trialkit.trial.file import load_trial
 
     folder = rt.write_trial(tmp_path / "logged", LOGGED)
     plan = make_plan(load_trial(folder / "trial.toml"))

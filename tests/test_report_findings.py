@@ -87,7 +87,7 @@ def test_not_detected_quotes_smallest_detectable_effect(tmp_path):
 
 
 def test_detectable_effects_from_design_evaluation(tmp_path):
-    from trialkit.evaluate import evaluate_plan
+    from trialkit.planning.evaluation import evaluate_plan
 
     trial, plan, _ = rt.screening(tmp_path / "e")
     ev = evaluate_plan(plan, model="main", sd=2.0)

@@ -12,8 +12,8 @@ import pandas as pd
 import pytest
 
 from trialkit.exceptions import ResponseError, TrialkitWarning
-from trialkit.kinetics import first_order
-from trialkit.responses import compute_responses
+from trialkit.responses.compute import compute_responses
+from trialkit.responses.kinetics import first_order
 
 SPEC = {"shape": "plate", "length_mm": 50, "width_mm": 25, "thickness_mm": 2, "holes": [],
         "metal": "carbon steel", "cleaning_cycles": 0}

@@ -15,17 +15,18 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from trialkit import cli, trialfile
+from trialkit import cli
 from trialkit.analysis.desirability import Aim, optimize_desirability
 from trialkit.analysis.effects import two_level_effects
 from trialkit.analysis.model import fit_model
 from trialkit.analysis.sweep import fit_sweep
-from trialkit.designs.optimal import OPTION_DESCRIPTIONS, optimal_design
-from trialkit.designs.options import DESIGN_OPTIONS
-from trialkit.designs.space import LHS_SPREADS
-from trialkit.evaluate import evaluate_design
-from trialkit.factors import Factor
-from trialkit.retired_names import RETIRED_KEYS, RETIRED_VALUES
+from trialkit.planning.designs.optimal import OPTION_DESCRIPTIONS, optimal_design
+from trialkit.planning.designs.options import DESIGN_OPTIONS
+from trialkit.planning.designs.space import LHS_SPREADS
+from trialkit.planning.evaluation import evaluate_design
+from trialkit.trial import file as trialfile
+from trialkit.trial.factors import Factor
+from trialkit.trial.retired_names import RETIRED_KEYS, RETIRED_VALUES
 
 ROOT = Path(__file__).resolve().parents[1]
 

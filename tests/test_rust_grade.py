@@ -11,7 +11,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from trialkit.exceptions import ResponseError
-from trialkit.rust_grade import d610_grade, d610_grades
+from trialkit.responses.rust_grade import d610_grade, d610_grades
 
 REF = json.loads(
     (Path(__file__).parent / "reference/corrosion/rust_grade_scales.json").read_text()

@@ -9,9 +9,9 @@ import pytest
 from malformed_sheets.make_corpus import make_test_plan
 
 from trialkit.problems import ProblemReport
-from trialkit.sheets.export_csv import CSV_STAMP, export_csv
-from trialkit.sheets.layout import coupon_layout
-from trialkit.sheets.readers import read_sheet_file
+from trialkit.records.sheets.export_csv import CSV_STAMP, export_csv
+from trialkit.records.sheets.layout import coupon_layout
+from trialkit.records.sheets.readers import read_sheet_file
 
 
 @pytest.fixture

@@ -8,8 +8,8 @@ import pytest
 from malformed_sheets.make_corpus import make_test_plan
 
 from trialkit.exceptions import SheetError
-from trialkit.readings import COUPON_FIELDS, TIMECOURSE_FIELDS
-from trialkit.sheets.export_html import export_html, html_text
+from trialkit.records.fields import COUPON_FIELDS, TIMECOURSE_FIELDS
+from trialkit.records.sheets.export_html import export_html, html_text
 
 
 @pytest.fixture

@@ -6,8 +6,8 @@ import pytest
 from malformed_sheets.make_corpus import make_test_plan
 from openpyxl import load_workbook
 
-from trialkit.sheets.export_xlsx import FIRST_DATA_ROW, HEADING_ROW, NAME_ROW, export_xlsx
-from trialkit.sheets.layout import META_TAB, coupon_layout
+from trialkit.records.sheets.export_xlsx import FIRST_DATA_ROW, HEADING_ROW, NAME_ROW, export_xlsx
+from trialkit.records.sheets.layout import META_TAB, coupon_layout
 
 
 @pytest.fixture

@@ -24,9 +24,9 @@ from malformed_sheets.make_corpus import (
 )
 
 from trialkit.exceptions import SheetError
-from trialkit.sheets import export_csv, export_xlsx, ingest_sheet
-from trialkit.sheets.ingest import check_sheet
-from trialkit.store import RecordLog
+from trialkit.records.log import RecordLog
+from trialkit.records.sheets import export_csv, export_xlsx, ingest_sheet
+from trialkit.records.sheets.ingest import check_sheet
 
 
 def sha(path):
@@ -257,7 +257,7 @@ def test_report_faces(plan, blanks, tmp_path):
 
 
 def test_xlsx_with_both_tabs_filled(plan, blanks, tmp_path):
-    from trialkit.sheets.export_xlsx import FIRST_DATA_ROW
+    from trialkit.records.sheets.export_xlsx import FIRST_DATA_ROW
 
     def inspections(wb):
         ws = wb["Inspections"]

@@ -8,8 +8,8 @@ import pytest
 from malformed_sheets.make_corpus import _csv_grid, _write_grid, make_test_plan
 
 from trialkit.problems import ProblemReport
-from trialkit.sheets import export_csv
-from trialkit.sheets.readers import read_sheet_file
+from trialkit.records.sheets import export_csv
+from trialkit.records.sheets.readers import read_sheet_file
 
 
 @pytest.fixture
@@ -54,7 +54,7 @@ def test_whitespace_only_file_is_empty(tmp_path):
 def test_empty_extra_tab_is_ignored(tmp_path):
     from openpyxl import load_workbook
 
-    from trialkit.sheets import export_xlsx
+    from trialkit.records.sheets import export_xlsx
 
     plan = make_test_plan(tmp_path / "trial")
     path = export_xlsx(plan, tmp_path / "s.xlsx")

@@ -7,7 +7,12 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from trialkit.sheets.textsafe import FORMULA_STARTS, escape_text, needs_escape, unescape_text
+from trialkit.records.sheets.textsafe import (
+    FORMULA_STARTS,
+    escape_text,
+    needs_escape,
+    unescape_text,
+)
 
 
 @pytest.mark.parametrize("text", ["=1+2", "+33 1 23", "-pitted", "@SUM(A1)", "\tx", "\rx",

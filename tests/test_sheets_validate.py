@@ -5,8 +5,8 @@ from __future__ import annotations
 import pytest
 from malformed_sheets.make_corpus import fill_csv, make_test_plan
 
-from trialkit.sheets import export_csv
-from trialkit.sheets.ingest import check_sheet
+from trialkit.records.sheets import export_csv
+from trialkit.records.sheets.ingest import check_sheet
 
 
 @pytest.fixture

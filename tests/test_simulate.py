@@ -1,4 +1,4 @@
-"""Tests of trialkit.simulate: invented readings drawn from a truth model.
+"""Tests of trialkit.demo.simulate: invented readings drawn from a truth model.
 
 External relations checked: ASTM G1 corrosion rate CR = K W / (A T D) with K = 8.76e4
 for mm/y and carbon steel D = 7.86 g/cm³ (tests/reference/corrosion/); first-order decay
@@ -19,9 +19,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from trialkit.plan import make_plan
-from trialkit.readings import COUPON_FIELDS, TIMECOURSE_FIELDS
-from trialkit.simulate import (
+from trialkit.demo.simulate import (
     DENSITY_G_PER_CM3,
     K_MM_PER_Y,
     base_metal_loss_g,
@@ -29,8 +27,10 @@ from trialkit.simulate import (
     plate_area_cm2,
     simulate_readings,
 )
-from trialkit.trialfile import parse_trial_text
-from trialkit.truth_models import BathTruth, NoiseModel, SimulationError
+from trialkit.demo.truth_models import BathTruth, NoiseModel, SimulationError
+from trialkit.planning.plan import make_plan
+from trialkit.records.fields import COUPON_FIELDS, TIMECOURSE_FIELDS
+from trialkit.trial.file import parse_trial_text
 
 REF = Path(__file__).parent / "reference" / "corrosion" / "astm_g1_corrosion_rate.json"
 

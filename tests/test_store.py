@@ -16,8 +16,8 @@ import pytest
 from malformed_sheets.make_corpus import fill_csv, good_readings, make_test_plan
 
 from trialkit.exceptions import RecordLogError
-from trialkit.sheets import export_csv, ingest_sheet
-from trialkit.store import HISTORY_COLUMNS, READY_HOOK, SLEEP_HOOK, RecordLog
+from trialkit.records.log import HISTORY_COLUMNS, READY_HOOK, SLEEP_HOOK, RecordLog
+from trialkit.records.sheets import export_csv, ingest_sheet
 
 REPO = Path(__file__).resolve().parents[1]
 HELPERS = Path(__file__).resolve().parent / "malformed_sheets"
@@ -118,7 +118,7 @@ import sys
 sys.path.insert(0, {helpers!r})
 from pathlib import Path
 from make_corpus import make_test_plan
-from trialkit.sheets import ingest_sheet
+from trialkit.records.sheets import ingest_sheet
 plan = make_test_plan(Path({folder!r}))
 report = ingest_sheet({sheet!r}, plan)
 print(report.status)

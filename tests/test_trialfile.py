@@ -7,7 +7,7 @@ import textwrap
 import pytest
 
 from trialkit.exceptions import TrialFileError
-from trialkit.trialfile import load_trial
+from trialkit.trial.file import load_trial
 
 GOOD = """
 [trial]

@@ -1,4 +1,4 @@
-"""Tests of trialkit.truth_models: the invented truth behind the example readings.
+"""Tests of trialkit.demo.truth_models: the invented truth behind the example readings.
 
 External references: the gas constant from scipy.constants (CODATA) for the Arrhenius
 factor; Derringer & Suich (1980) one-sided desirability with exponent 1 (a linear ramp).
@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 from scipy import constants, optimize
 
-from trialkit.truth_models import (
+from trialkit.demo.truth_models import (
     EXAMPLES,
     GAS_CONSTANT,
     BathTruth,

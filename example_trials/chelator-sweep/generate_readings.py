@@ -6,11 +6,11 @@ Usage (from the repository root)::
 
 Writes ``plan.csv`` and ``plan.json`` (the plan of ``trial.toml``), and in ``readings/``:
 ``coupons.csv`` (one row per coupon: plan columns, then the coupon fields of
-``trialkit.readings``), ``timecourse.csv`` (one row per rusted coupon and inspection:
+``trialkit.records.fields``), ``timecourse.csv`` (one row per rusted coupon and inspection:
 ``coupon, bath, elapsed_h, coverage_pct, mass_g, operator, notes``) and ``truth.json``
 (the invented truth model, the seed, and each bath's true rate and attack).
 The readings are invented from the truth model ``EXAMPLES["chelator-sweep"]`` in
-``trialkit/truth_models.py``; they are not measurements.
+``trialkit/demo/truth_models.py``; they are not measurements.
 """
 
 from __future__ import annotations
@@ -32,7 +32,7 @@ def main(argv: list[str] | None = None) -> int:
         import trialkit  # noqa: F401
     except ModuleNotFoundError:  # run from a source tree without installing
         sys.path.insert(0, str(HERE.parents[1]))
-    from trialkit.truth_models import write_example
+    from trialkit.demo.truth_models import write_example
 
     for path in write_example(SCENARIO, HERE, Path(args.out)):
         print(f"wrote {path}")

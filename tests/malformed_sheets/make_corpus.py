@@ -8,7 +8,7 @@ corpus into a folder for inspection::
     PYTHONPATH=. python tests/malformed_sheets/make_corpus.py /tmp/corpus
 
 The test trial (a 2 x 2 full factorial plus one untreated control, two rusted and one
-witness coupon per bath) is laid out by :func:`trialkit.plan.make_plan`.
+witness coupon per bath) is laid out by :func:`trialkit.planning.plan.make_plan`.
 """
 
 from __future__ import annotations
@@ -72,8 +72,8 @@ def write_trial(folder: Path, *, title: str = DEFAULT_TITLE, seed: int = 4242,
 
 def make_test_plan(folder: Path, **kw: Any) -> Any:
     """Write the test trial into ``folder`` and return its plan."""
-    from trialkit.plan import make_plan
-    from trialkit.trialfile import load_trial
+    from trialkit.planning.plan import make_plan
+    from trialkit.trial.file import load_trial
 
     return make_plan(load_trial(write_trial(folder, **kw)))
 
@@ -110,7 +110,7 @@ def fill_csv(src: Path, dst: Path, readings: dict[str, dict[str, Any]], *,
              delimiter: str = ",", encoding: str = "utf-8-sig",
              edit: Callable[[list[list[str]]], None] | None = None) -> Path:
     """Fill an exported CSV sheet with ``readings`` (coupon -> field -> value)."""
-    from trialkit.sheets.textsafe import escape_text
+    from trialkit.records.sheets.textsafe import escape_text
 
     grid = _csv_grid(src)
     names = grid[2]
@@ -128,7 +128,7 @@ def fill_xlsx(src: Path, dst: Path, readings: dict[str, dict[str, Any]], *,
     """Fill an exported workbook with ``readings``; ``edit(workbook)`` may spoil it."""
     from openpyxl import load_workbook
 
-    from trialkit.sheets.export_xlsx import FIRST_DATA_ROW, NAME_ROW, put_text
+    from trialkit.records.sheets.export_xlsx import FIRST_DATA_ROW, NAME_ROW, put_text
 
     wb = load_workbook(src)
     ws = wb["Coupon readings"]
@@ -151,7 +151,7 @@ def fill_xlsx(src: Path, dst: Path, readings: dict[str, dict[str, Any]], *,
 
 def xlsx_col(wb: Any, name: str, tab: str = "Coupon readings") -> int:
     """1-based column of machine name ``name``."""
-    from trialkit.sheets.export_xlsx import NAME_ROW
+    from trialkit.records.sheets.export_xlsx import NAME_ROW
 
     return [c.value for c in wb[tab][NAME_ROW]].index(name) + 1
 
@@ -201,8 +201,8 @@ def build_corpus(folder: Path, plan: Any) -> dict[str, tuple[Path, list[str]]]:
 
     ``plan`` is the test plan (:func:`make_test_plan`); sheets are exported from it first.
     """
-    from trialkit.sheets.export_csv import export_csv
-    from trialkit.sheets.export_xlsx import export_xlsx
+    from trialkit.records.sheets.export_csv import export_csv
+    from trialkit.records.sheets.export_xlsx import export_xlsx
 
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)

@@ -23,7 +23,7 @@ from scipy import stats
 from trialkit.analysis.data import finite
 from trialkit.analysis.linear import rss_of
 from trialkit.exceptions import AnalysisError
-from trialkit.modelspec import INTERCEPT, Term
+from trialkit.trial.model_grammar import INTERCEPT, Term
 
 TYPES = (1, 2, 3)
 

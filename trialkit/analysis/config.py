@@ -19,7 +19,7 @@ Keys (all optional)::
 Examples
 --------
 >>> from trialkit.problems import ProblemReport
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> class T:  # a stand-in trial with factors
 ...     factors = (Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5.5, 7.5))
 >>> rep = ProblemReport("trial.toml")
@@ -89,7 +89,7 @@ def _check_model(text, factors, problems, where):
                      fix="write e.g. model = \"quadratic\"")
         return None
     if factors:
-        from trialkit.modelspec import parse_model
+        from trialkit.trial.model_grammar import parse_model
 
         try:
             parse_model(text, factors)

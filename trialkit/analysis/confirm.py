@@ -3,7 +3,7 @@
 Examples
 --------
 >>> import pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> from trialkit.analysis.model import fit_model
 >>> df = pd.DataFrame({"a": [-1.0, 1, -1, 1, 0, 0], "y": [1.0, 3.1, 0.9, 3.0, 2.1, 1.9]})
 >>> fit = fit_model(df, "y", [Factor.continuous("a", -1, 1)], "a", block=None)

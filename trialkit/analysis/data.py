@@ -18,8 +18,8 @@ import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
 from trialkit.problems import did_you_mean
+from trialkit.trial.factors import Factor
 
 KINDS = ("continuous", "categorical", "ordinal")
 
@@ -94,7 +94,7 @@ def prepare(table: pd.DataFrame, response: str, factors: Sequence[Factor],
         Text in the response column, a factor column missing, fewer than two levels of a
         factor among the usable rows.
     """
-    from trialkit.modelspec import coded_frame
+    from trialkit.trial.model_grammar import coded_frame
 
     missing = [f.name for f in factors if f.name not in table.columns]
     if missing:

@@ -138,7 +138,7 @@ def aim_from_spec(spec, response: str | None = None, observed=None) -> Aim:
 
     Examples
     --------
-    >>> from trialkit.trialspec import ResponseSpec
+    >>> from trialkit.trial.spec import ResponseSpec
     >>> aim_from_spec(ResponseSpec("attack", aim="lower"), observed=[0.1, 0.4]).span
     (0.1, 0.4)
     """

@@ -28,7 +28,7 @@ from scipy import stats
 
 from trialkit.analysis.data import finite, prepare, response_column
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 
 @dataclass(frozen=True)

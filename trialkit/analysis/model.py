@@ -7,7 +7,7 @@ by an exact decimal amount (see :mod:`trialkit.analysis.exact`).
 Examples
 --------
 >>> import pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> df = pd.DataFrame({"chelator": [2, 10, 2, 10, 6, 6], "ph": [5.5, 5.5, 7.5, 7.5, 6.5, 6.5],
 ...                    "removal": [40.0, 60.0, 50.0, 75.0, 58.0, 57.0]})
 >>> fs = [Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5.5, 7.5)]
@@ -34,8 +34,8 @@ from trialkit.analysis.exact import shift_decimal
 from trialkit.analysis.linear import LeastSquares, least_squares
 from trialkit.analysis.natural import natural_coefficients
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
-from trialkit.modelspec import (
+from trialkit.trial.factors import Factor
+from trialkit.trial.model_grammar import (
     INTERCEPT,
     ModelMatrix,
     ModelSpec,
@@ -368,7 +368,7 @@ def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
     response : str
     factors : sequence of Factor
     model : str or ModelSpec
-        Model text (see :mod:`trialkit.modelspec`) or a parsed model.
+        Model text (see :mod:`trialkit.trial.model_grammar`) or a parsed model.
     block : str or None
         Column of blocks; a fixed effect when it has two or more values.
     alpha : float

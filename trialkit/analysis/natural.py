@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trialkit.modelspec import INTERCEPT, LEVEL_SEPARATOR, ModelMatrix, level_label
+from trialkit.trial.model_grammar import INTERCEPT, LEVEL_SEPARATOR, ModelMatrix, level_label
 
 Monomial = tuple[tuple[str, int], ...]  # ((factor or contrast column, power), ...)
 

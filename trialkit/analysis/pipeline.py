@@ -8,7 +8,7 @@ the notebooks both call this.
 Examples
 --------
 >>> import pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> df = pd.DataFrame({"a": [-1.0, 1, -1, 1, 0, 0], "b": [-1.0, -1, 1, 1, 0, 0],
 ...                    "y": [10.0, 14.1, 11.9, 16.2, 13.0, 13.1]})
 >>> res = analyze_table(df, "y", [Factor.continuous("a", -1, 1),
@@ -33,8 +33,8 @@ from trialkit.analysis.reduction import ReductionResult, reduce_model
 from trialkit.analysis.surface import SurfaceResult, fit_surface
 from trialkit.analysis.sweep import SweepResult, fit_sweep
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
-from trialkit.modelspec import parse_model
+from trialkit.trial.factors import Factor
+from trialkit.trial.model_grammar import parse_model
 
 
 @dataclass
@@ -190,7 +190,7 @@ def default_model(table: pd.DataFrame, response: str, factors: Sequence[Factor])
     """The largest of quadratic / interactions / main that the data can estimate with
     residual degrees of freedom left (e.g. a two-level design with centre points cannot
     separate the squares, so it gets interactions); else main."""
-    from trialkit.modelspec import model_matrix
+    from trialkit.trial.model_grammar import model_matrix
 
     column = response_column(table, response)
     prep = prepare(table, column, factors)

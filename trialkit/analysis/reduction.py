@@ -9,7 +9,7 @@ candidate whose removal lowers the criterion most is removed while it lowers it.
 Examples
 --------
 >>> import numpy as np, pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> from trialkit.analysis.model import fit_model
 >>> rng = np.random.default_rng(1)
 >>> df = pd.DataFrame({"a": np.tile([-1.0, 1.0], 8), "b": np.repeat([-1.0, 1.0], 8)})

@@ -2,7 +2,7 @@
 
 A trial folder gives the factors (with their ranges), the responses (name -> measured
 column ``<measure>_mean`` of the bath table), the ``[analysis]`` options and the seed;
-the bath table comes from the record log through :func:`trialkit.responses.load_responses`.
+the bath table comes from the record log through :func:`trialkit.responses.compute.load_responses`.
 A plain table gives only columns: factors are named on the command line.  Text cells are
 kept as text so that response values reach the exact decimal shift unrounded.
 """
@@ -16,8 +16,8 @@ import pandas as pd
 
 from trialkit.analysis.config import AnalysisConfig
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
 from trialkit.problems import did_you_mean
+from trialkit.trial.factors import Factor
 
 
 @dataclass
@@ -81,11 +81,11 @@ def read_table(path: str | Path) -> pd.DataFrame:
 
 def from_trial_folder(folder: str | Path) -> AnalysisSource:
     """Trial, record log and responses of a trial folder."""
-    from trialkit.trialfile import load_trial
+    from trialkit.trial.file import load_trial
 
     trial = load_trial(folder)
     try:
-        from trialkit.responses import load_responses
+        from trialkit.responses.compute import load_responses
     except ImportError as exc:  # pragma: no cover - depends on the build
         raise AnalysisError(f"this build cannot compute responses ({exc}); analyse an "
                             "exported table instead") from None

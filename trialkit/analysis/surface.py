@@ -17,7 +17,7 @@ gives
 Examples
 --------
 >>> import numpy as np, pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> from trialkit.analysis.model import fit_model
 >>> g = [(a, b) for a in (-1, 0, 1) for b in (-1, 0, 1)]
 >>> df = pd.DataFrame([{"a": a, "b": b, "y": 10 - (a - 0.2) ** 2 - 2 * b ** 2 + 0.01 * i}
@@ -41,7 +41,7 @@ from scipy import optimize, stats
 from trialkit.analysis.data import finite
 from trialkit.analysis.linear import batched_refit
 from trialkit.exceptions import AnalysisError
-from trialkit.modelspec import model_matrix
+from trialkit.trial.model_grammar import model_matrix
 
 AIMS = ("higher", "lower")
 RIDGE_RATIO = 1e-3

@@ -18,7 +18,7 @@ The response is fitted as a quadratic in that factor.  Reported:
 Examples
 --------
 >>> import numpy as np, pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> x = np.repeat([2.0, 5.0, 8.0, 11.0, 14.0, 17.0, 20.0], 2)
 >>> y = 90 - 0.3 * (x - 7) ** 2 + np.tile([0.5, -0.5], 7)
 >>> s = fit_sweep(pd.DataFrame({"chelator": x, "removal": y}), "removal",
@@ -39,7 +39,7 @@ from trialkit.analysis.data import finite
 from trialkit.analysis.linear import batched_refit
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
-from trialkit.factors import Factor
+from trialkit.trial.factors import Factor
 
 
 @dataclass

@@ -1,6 +1,6 @@
 """The mixing sheet of a plan: one recipe per distinct bath, and the bill of materials.
 
-:func:`recipes_for_plan` turns each bath of a :class:`~trialkit.plan.Plan` into a
+:func:`recipes_for_plan` turns each bath of a :class:`~trialkit.planning.plan.Plan` into a
 :class:`~trialkit.chemistry.recipe.BathSpec` using the trial's ``[bath]`` section, groups
 identical baths, solves each distinct one once, and totals the materials with the spare
 margin.
@@ -142,12 +142,13 @@ def _fmt(x: Any, digits: int = 3) -> str:
 
 
 def coupon_area_cm2(coupons: Any) -> float | None:
-    """Area of one coupon, cm², from ``[coupons]`` (:func:`trialkit.geometry.coupon_area_cm2`);
-    ``None`` when the trial gives no coupons or not enough dimensions."""
+    """Area of one coupon, cm², from ``[coupons]``
+    (:func:`trialkit.responses.geometry.coupon_area_cm2`); ``None`` when the trial gives
+    no coupons or not enough dimensions."""
     if coupons is None:
         return None
     from trialkit.exceptions import TrialkitError
-    from trialkit.geometry import coupon_area_cm2 as geometric
+    from trialkit.responses.geometry import coupon_area_cm2 as geometric
 
     try:
         return float(geometric(coupons))

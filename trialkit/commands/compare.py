@@ -16,8 +16,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
     from trialkit.commands.evaluate import evaluation_kwargs
-    from trialkit.comparison import compare_plans
-    from trialkit.plan import load_plan
+    from trialkit.planning.comparison import compare_plans
+    from trialkit.planning.plan import load_plan
 
     plans = [load_plan(t) for t in args.trials]
     names = [p.trial.title for p in plans]

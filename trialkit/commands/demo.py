@@ -25,7 +25,7 @@ def _progress(trial: str, stage: str, status: str) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.demo import default_out_dir, run_demo
+    from trialkit.demo.run import default_out_dir, run_demo
 
     out = args.out if args.out else default_out_dir()
     print(f"trialkit demo: invented example trials, writing into {out}", file=sys.stderr,

@@ -68,8 +68,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
-    from trialkit.evaluate import evaluate_plan
-    from trialkit.plan import load_plan
+    from trialkit.planning.evaluation import evaluate_plan
+    from trialkit.planning.plan import load_plan
 
     plan = load_plan(args.trial)
     ev = evaluate_plan(plan, **evaluation_kwargs(args))

@@ -18,8 +18,8 @@ def run(args: argparse.Namespace) -> int:
 
     from trialkit.commands._output import print_json
     from trialkit.exceptions import RecordLogError
-    from trialkit.store import LOG_FILE, RecordLog
-    from trialkit.trialfile import find_trial_file
+    from trialkit.records.log import LOG_FILE, RecordLog
+    from trialkit.trial.file import find_trial_file
 
     folder = find_trial_file(args.folder).parent
     if not (Path(folder) / LOG_FILE).exists():

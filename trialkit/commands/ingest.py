@@ -19,8 +19,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
-    from trialkit.plan import load_plan
-    from trialkit.sheets.ingest import ingest_sheet
+    from trialkit.planning.plan import load_plan
+    from trialkit.records.sheets.ingest import ingest_sheet
 
     plan = load_plan(args.trial)
     report = ingest_sheet(args.sheet, plan, allow_mass_gain=args.allow_mass_gain)

@@ -7,7 +7,7 @@ from importlib.resources import files
 from pathlib import Path
 
 from trialkit.exceptions import TrialkitError
-from trialkit.trialfile import TRIAL_FILE_NAME
+from trialkit.trial.file import TRIAL_FILE_NAME
 
 
 def starter_text() -> str:

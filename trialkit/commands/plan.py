@@ -15,7 +15,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
-    from trialkit.plan import load_plan
+    from trialkit.planning.plan import load_plan
 
     plan = load_plan(args.trial)
     out = Path(args.out) if args.out else plan.trial.folder

@@ -18,7 +18,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.chemistry.mixing_sheet import recipes_for_plan
-    from trialkit.plan import load_plan
+    from trialkit.planning.plan import load_plan
 
     plan = load_plan(args.trial)
     sheet = recipes_for_plan(plan)

@@ -29,7 +29,7 @@ def _bath_results(path: str, folder: str):
     import pandas as pd
 
     from trialkit.exceptions import ResponseError
-    from trialkit.plan import load_plan
+    from trialkit.planning.plan import load_plan
 
     p = Path(path)
     if not p.exists():

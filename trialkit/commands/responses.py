@@ -29,7 +29,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.exceptions import TrialkitWarning
-    from trialkit.responses import load_responses
+    from trialkit.responses.compute import load_responses
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", TrialkitWarning)  # problems are printed below

@@ -22,8 +22,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
-    from trialkit.plan import load_plan
-    from trialkit.sheets.config import sheet_config
+    from trialkit.planning.plan import load_plan
+    from trialkit.records.sheets.config import sheet_config
 
     plan = load_plan(args.folder)
     config = sheet_config(plan.trial)
@@ -31,18 +31,18 @@ def run(args: argparse.Namespace) -> int:
     out = Path(args.out) if args.out else Path(folder) / f"{DEFAULT_STEM}.{args.fmt}"
     written: list[Path] = []
     if args.fmt == "xlsx":
-        from trialkit.sheets.export_xlsx import export_xlsx
+        from trialkit.records.sheets.export_xlsx import export_xlsx
 
         written.append(export_xlsx(plan, out, config=config))
     elif args.fmt == "csv":
-        from trialkit.sheets.export_csv import export_csv
+        from trialkit.records.sheets.export_csv import export_csv
 
         written.append(export_csv(plan, out, layout="coupons", config=config))
         if config.has_timecourse:
             extra = out.with_name(f"{out.stem}-inspections{out.suffix or '.csv'}")
             written.append(export_csv(plan, extra, layout="inspections", config=config))
     else:
-        from trialkit.sheets.export_html import export_html
+        from trialkit.records.sheets.export_html import export_html
 
         written.append(export_html(plan, out, config=config, paper=args.paper))
     if args.json:

@@ -13,12 +13,12 @@ from pathlib import Path
 
 import pandas as pd
 
-from trialkit.report import figures as figs
+from trialkit.analysis.recommend import check_confirmation
+from trialkit.analysis.trial_analysis import TrialData, analyse, load_inputs
+from trialkit.report import figure_list as figs
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import effects_findings, model_findings, pretty_unit
-from trialkit.report.gather import TrialData, analyse, load_inputs
 from trialkit.report.quality import readings_blocks
-from trialkit.report.recommend import check_confirmation
 from trialkit.report.reproduce import reproduce_blocks
 
 SECTION_TITLES = {
@@ -45,7 +45,7 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
     ----------
     folder : path
         Trial folder (holding ``trial.toml``) or the trial file itself.
-    responses : trialkit.responses.Responses, optional
+    responses : trialkit.responses.compute.Responses, optional
         Computed responses; by default computed from the folder's record log.
     baths : DataFrame, optional
         Instead of ``responses``: one row per bath with the plan's columns and one column

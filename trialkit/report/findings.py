@@ -7,7 +7,7 @@ numbers it quotes, so a reader (or a test) can check the sentence against them.
 Examples
 --------
 >>> import pandas as pd
->>> from trialkit.factors import Factor
+>>> from trialkit.trial.factors import Factor
 >>> from trialkit.analysis.model import fit_model
 >>> df = pd.DataFrame({"chelator": [2, 10, 2, 10, 6, 6], "ph": [5.5, 5.5, 7.5, 7.5, 6.5, 6.5],
 ...                    "removal": [40.0, 70.0, 41.0, 72.0, 56.0, 55.0]})

@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import pandas as pd
 
+from trialkit.analysis.trial_analysis import TrialData
 from trialkit.report.document import Block
-from trialkit.report.gather import TrialData
 
 ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")
 ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")

@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pandas as pd
 
+from trialkit.analysis.trial_analysis import TrialData
 from trialkit.report.document import Block
-from trialkit.report.gather import TrialData
 
 PACKAGES = ("numpy", "scipy", "pandas", "statsmodels", "matplotlib", "seaborn", "jinja2",
             "pyDOE3", "phreeqc", "pint", "molmass", "openpyxl")

@@ -1,0 +1,273 @@
+"""Gather what a report needs from a trial folder: trial, plan, record log, responses,
+fitted models, surfaces, sweeps, desirability, the recommended recipe.
+
+Every step may be missing (nothing recorded yet, an upstream piece not available, a model
+that cannot be fitted); each failure is kept as a plain sentence in ``notes`` so the
+report can say what is not available and why, and the rest goes on.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from trialkit.exceptions import TrialkitError
+
+TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
+SURFACE_KINDS = ("central-composite", "box-behnken")
+
+
+@dataclass
+class TrialData:
+    """Everything gathered for one report (plain objects of the other stages)."""
+
+    folder: Path
+    trial: object
+    plan: object
+    log: object | None = None
+    history: pd.DataFrame | None = None
+    current: pd.DataFrame | None = None
+    responses: object | None = None
+    baths: pd.DataFrame | None = None
+    timecourse: pd.DataFrame | None = None
+    kinetics: dict = field(default_factory=dict)
+    fits: dict = field(default_factory=dict)
+    models: dict = field(default_factory=dict)
+    results: dict = field(default_factory=dict)  # response -> AnalysisResult
+    effects: dict = field(default_factory=dict)
+    surfaces: dict = field(default_factory=dict)
+    sweeps: dict = field(default_factory=dict)
+    desirability: object | None = None
+    detectable: dict = field(default_factory=dict)
+    recommendation: dict | None = None
+    recipe: object | None = None
+    confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
+    notes: dict = field(default_factory=dict)  # topic -> list of sentences
+
+    def note(self, topic: str, text: str) -> None:
+        self.notes.setdefault(topic, []).append(text)
+
+    @property
+    def specs(self) -> dict:
+        return {r.name: r for r in self.trial.responses}
+
+    def unit(self, response: str) -> str:
+        spec = self.specs.get(response)
+        return spec.unit if spec is not None else ""
+
+
+def first_line(exc: Exception) -> str:
+    return str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+
+
+# -- trial, plan, record log, responses -------------------------------------------------
+def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
+                timecourse: pd.DataFrame | None = None) -> TrialData:
+    """Trial, plan, record log and responses of a trial folder."""
+    from trialkit.planning.plan import make_plan
+    from trialkit.trial.file import find_trial_file, load_trial
+
+    path = find_trial_file(folder)
+    trial = load_trial(path)
+    plan = make_plan(trial)
+    data = TrialData(path.parent, trial, plan)
+    _check_saved_plan(data)
+    _load_log(data)
+    if responses is None and baths is None and data.log is not None:
+        try:
+            import warnings
+
+            from trialkit.exceptions import TrialkitWarning
+            from trialkit.responses.compute import load_responses
+
+            with warnings.catch_warnings():  # the problems are listed in the report
+                warnings.simplefilter("ignore", TrialkitWarning)
+                responses = load_responses(data.folder)
+        except ImportError:
+            data.note("responses", "the responses module is not installed in this build")
+        except TrialkitError as exc:
+            data.note("responses", f"responses could not be computed: {first_line(exc)}")
+    data.responses = responses
+    data.baths = _bath_table(data, responses, baths)
+    _timecourse(data, timecourse)
+    return data
+
+
+def _check_saved_plan(data: TrialData) -> None:
+    import json
+
+    pj = data.folder / "plan.json"
+    if not pj.exists():
+        return
+    try:
+        saved = json.loads(pj.read_text(encoding="utf-8")).get("fingerprint")
+    except (OSError, ValueError):
+        return
+    if saved and saved != data.plan.fingerprint:
+        data.note("plan", f"the saved plan.json has fingerprint {saved}, but the trial file "
+                          f"now gives {data.plan.fingerprint}: the trial file changed after "
+                          "the plan was written")
+
+
+def _load_log(data: TrialData) -> None:
+    try:
+        from trialkit.records import log as store
+    except ImportError:
+        data.note("readings", "the record-log module is not installed in this build")
+        return
+    path = data.folder / store.LOG_FILE
+    if not path.exists():
+        data.note("readings", "no readings recorded yet (the folder has no record log; "
+                              "fill in a sheet and read it in with 'trialkit ingest')")
+        return
+    try:
+        data.log = store.RecordLog.for_folder(data.folder)
+        data.history = data.log.history()
+        data.current = data.log.current_values(plan=data.plan)
+    except TrialkitError as exc:
+        data.note("readings", f"the record log could not be read: {first_line(exc)}")
+
+
+def _bath_table(data: TrialData, responses, baths: pd.DataFrame | None) -> pd.DataFrame | None:
+    if baths is not None:
+        return baths.copy()
+    if responses is None:
+        if "responses" not in data.notes and data.log is not None:
+            data.note("responses", "no responses computed from the readings")
+        return None
+    table = data.plan.baths.copy()
+    table["bath"] = table["bath"].astype(str)
+    for spec in data.trial.responses:
+        measure = spec.measure or spec.name
+        try:
+            values = responses.bath_values(measure)
+        except TrialkitError as exc:
+            data.note("responses", f"{spec.name}: {first_line(exc)}")
+            continue
+        table[spec.name] = table["bath"].map(values.to_dict())
+    return table
+
+
+def _timecourse(data: TrialData, timecourse: pd.DataFrame | None) -> None:
+    fits = dict(getattr(data.responses, "kinetics", {}) or {})
+    if timecourse is None and data.log is not None:
+        try:
+            from trialkit.responses.compute import timecourse_from_log
+
+            tc = timecourse_from_log(data.log.current_timecourse(), data.plan.table)
+            timecourse = tc if len(tc) else None
+        except (ImportError, TrialkitError):
+            timecourse = None
+    if timecourse is not None and len(timecourse):
+        timecourse = timecourse.dropna(subset=["elapsed_h", "coverage_pct"])
+        if not fits:
+            try:
+                from trialkit.responses.kinetics import fit_baths
+
+                _, fits, failed = fit_baths(timecourse)
+                for bath, msg in failed:
+                    data.note("kinetics", f"bath {bath}: {msg}")
+            except (ImportError, TrialkitError) as exc:
+                data.note("kinetics", f"removal curves could not be fitted: {first_line(exc)}")
+    data.timecourse = timecourse
+    data.kinetics = fits
+
+
+# -- analysis -----------------------------------------------------------------------
+def config_of(trial):
+    """The trial's parsed ``[analysis]`` section (defaults when absent)."""
+    try:
+        from trialkit.analysis.config import AnalysisConfig
+    except ImportError:  # pragma: no cover - the analysis package ships it
+        return None
+    sec = (trial.sections or {}).get("analysis")
+    return sec if isinstance(sec, AnalysisConfig) else AnalysisConfig()
+
+
+def _aim(spec) -> str:
+    return spec.aim if spec.aim in ("higher", "lower") else "higher"
+
+
+def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
+    """Analyse every response that has values with :func:`trialkit.analysis.pipeline.
+    analyze_table` (the same analysis as ``trialkit analyze``), the trial's ``[analysis]``
+    settings applied; Lenth's effects for two-level designs, desirability, recommendation.
+
+    ``n_boot`` overrides the section's ``bootstrap`` (the report default is 0: none).
+    """
+    from trialkit.analysis.pipeline import analyze_table
+
+    if data.baths is None:
+        return data
+    trial = data.trial
+    cfg = config_of(trial)
+    kind = trial.design.kind
+    boot = 0 if n_boot is None else int(n_boot)
+    sweep = cfg.sweep if cfg.sweep else None
+    if kind == "sweep" and sweep is None:
+        cont = [f.name for f in trial.factors if f.is_continuous]
+        sweep = cont[0] if cont else None
+    for spec in trial.responses:
+        if spec.name not in data.baths or data.baths[spec.name].notna().sum() == 0:
+            data.note("analysis", f"{spec.name}: no bath has a value yet")
+            continue
+        model = cfg.response_models.get(spec.name) or cfg.model
+        try:
+            res = analyze_table(data.baths, spec.name, trial.factors, model=model,
+                                anova_type=cfg.anova_type, alpha=cfg.alpha, sweep=sweep,
+                                aim=_aim(spec) if spec.is_wanted else "higher",
+                                reduce=cfg.reduce, threshold=cfg.threshold, n_boot=boot,
+                                seed=trial.seed, tolerance=cfg.tolerance,
+                                relative_tolerance=cfg.relative_tolerance)
+        except TrialkitError as exc:
+            data.note("analysis", f"{spec.name}: no model could be fitted ({first_line(exc)})")
+            continue
+        data.fits[spec.name] = res.fit
+        data.models[spec.name] = res.fit.spec.to_text()
+        data.results[spec.name] = res
+        if res.sweep is not None:
+            data.sweeps[spec.name] = res.sweep
+        if res.surface is not None and spec.is_wanted:
+            data.surfaces[spec.name] = res.surface
+        if res.effects is not None:
+            data.effects[spec.name] = res.effects
+        elif kind in TWO_LEVEL_KINDS:
+            _effects(data, spec)
+        if res.sweep is None:
+            _detectable(data, spec)
+    from trialkit.analysis.recommend import desirability, recommend
+
+    desirability(data)
+    recommend(data)
+    return data
+
+
+def _effects(data: TrialData, spec) -> None:
+    from trialkit.analysis.effects import two_level_effects
+
+    try:
+        data.effects[spec.name] = two_level_effects(data.baths, spec.name, data.trial.factors)
+    except TrialkitError as exc:
+        data.note("analysis", f"{spec.name}: effects by Lenth's method not available "
+                              f"({first_line(exc)})")
+
+
+
+def _detectable(data: TrialData, spec) -> None:
+    fit = data.fits[spec.name]
+    if not (fit.df_resid > 0 and math.isfinite(fit.sigma2) and fit.sigma2 > 0):
+        return
+    try:
+        from trialkit.planning.evaluation import evaluate_plan
+        from trialkit.report.findings import detectable_effects
+
+        terms = " + ".join(t.name for t in fit.spec.terms if t.name != "block")
+        ev = evaluate_plan(data.plan, model=terms, sd=float(np.sqrt(fit.sigma2)))
+        data.detectable[spec.name] = detectable_effects(ev)
+    except (ImportError, TrialkitError, ValueError, np.linalg.LinAlgError) as exc:
+        data.note("analysis", f"{spec.name}: smallest detectable effects not available "
+                              f"({first_line(exc)})")

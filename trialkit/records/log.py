@@ -1,0 +1,348 @@
+"""The record log: every value ever read from a sheet, with its source and revision.
+
+An SQLite database (standard-library :mod:`sqlite3`, WAL journal) in the trial folder,
+``record-log.sqlite``.  It is append-only: triggers refuse every UPDATE and DELETE.
+Each ingest is one transaction (``BEGIN IMMEDIATE``, so a second ingest at the same time
+waits for the first).  A value that differs from the current value of the same coupon,
+inspection and field is stored as the next revision; a value equal to the current one is
+not stored again; a file whose SHA-256 is already in the log changes nothing.
+
+Schema (version 1)::
+
+    log_info(key TEXT PRIMARY KEY, value TEXT)       -- schema_version, plan_fingerprint
+    ingests(id INTEGER PRIMARY KEY, source TEXT, sha256 TEXT UNIQUE, ingested_at TEXT,
+            fingerprint TEXT, n_values INTEGER)
+    readings(id INTEGER PRIMARY KEY, ingest_id INTEGER REFERENCES ingests(id),
+             coupon TEXT, inspection INTEGER,  -- 0 for the coupon sheet
+             field TEXT, value_num REAL, value_text TEXT, revision INTEGER,
+             UNIQUE(coupon, inspection, field, revision))
+
+Examples
+--------
+>>> import tempfile, pathlib
+>>> folder = pathlib.Path(tempfile.mkdtemp())
+>>> log = RecordLog(folder / "log.sqlite")
+>>> log.add_readings([("B01-R1", 0, "mass_initial_g", 25.0)], source="a.csv",
+...                  sha256="0" * 64, fingerprint="abc").status
+'accepted'
+>>> log.history()[["coupon", "field", "value", "revision"]].values.tolist()
+[['B01-R1', 'mass_initial_g', 25.0, 1]]
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import os
+import sqlite3
+import time
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from trialkit.exceptions import RecordLogError
+from trialkit.records.fields import COUPON_FIELDS
+
+LOG_FILE = "record-log.sqlite"
+SCHEMA_VERSION = "1"
+HISTORY_COLUMNS = ("coupon", "inspection", "field", "value", "revision", "source", "sha256",
+                   "ingested_at")
+#: Test hook: seconds to sleep inside the ingest transaction, half-way through writing.
+SLEEP_HOOK = "TRIALKIT_TEST_SLEEP_IN_TRANSACTION"
+#: Test hook: a file touched when the sleep starts.
+READY_HOOK = "TRIALKIT_TEST_READY_FILE"
+
+_SCHEMA = """
+CREATE TABLE IF NOT EXISTS log_info (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+CREATE TABLE IF NOT EXISTS ingests (
+    id INTEGER PRIMARY KEY, source TEXT NOT NULL, sha256 TEXT NOT NULL UNIQUE,
+    ingested_at TEXT NOT NULL, fingerprint TEXT NOT NULL, n_values INTEGER NOT NULL);
+CREATE TABLE IF NOT EXISTS readings (
+    id INTEGER PRIMARY KEY, ingest_id INTEGER NOT NULL REFERENCES ingests(id),
+    coupon TEXT NOT NULL, inspection INTEGER NOT NULL, field TEXT NOT NULL,
+    value_num REAL, value_text TEXT, revision INTEGER NOT NULL,
+    UNIQUE (coupon, inspection, field, revision));
+CREATE TRIGGER IF NOT EXISTS readings_no_update BEFORE UPDATE ON readings
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+CREATE TRIGGER IF NOT EXISTS readings_no_delete BEFORE DELETE ON readings
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+CREATE TRIGGER IF NOT EXISTS ingests_no_update BEFORE UPDATE ON ingests
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+CREATE TRIGGER IF NOT EXISTS ingests_no_delete BEFORE DELETE ON ingests
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+"""
+
+
+@dataclass
+class AddResult:
+    """What one call of :meth:`RecordLog.add_readings` did.
+
+    Attributes
+    ----------
+    status : str
+        ``"accepted"`` (new revisions written), ``"no_change"`` (the file is new but every
+        value equals the current one) or ``"already_ingested"`` (same SHA-256 seen before).
+    added : DataFrame
+        Values written: coupon, inspection, field, value, revision.
+    unchanged : int
+        Values equal to their current value, not stored again.
+    ingest_id : int or None
+        Row id in ``ingests`` (the earlier one for ``"already_ingested"``).
+    first_ingested_at : str
+        When the file was first read in.
+    """
+
+    status: str
+    added: pd.DataFrame = field(default_factory=pd.DataFrame)
+    unchanged: int = 0
+    ingest_id: int | None = None
+    first_ingested_at: str = ""
+
+
+def _split(value: Any) -> tuple[float | None, str | None]:
+    if isinstance(value, bool):
+        raise RecordLogError(f"cannot store a boolean {value!r}; store a number or text")
+    if isinstance(value, (int, float)):
+        return float(value), None
+    return None, str(value)
+
+
+def _same(a_num: Any, a_text: Any, value: Any) -> bool:
+    num, text = _split(value)
+    return a_num == num and a_text == text
+
+
+class RecordLog:
+    """The append-only record log of one trial folder.
+
+    Parameters
+    ----------
+    path : path-like
+        The database file (created with its schema if missing).  Use
+        :meth:`for_folder` to open the log of a trial folder.
+    """
+
+    def __init__(self, path: str | os.PathLike):
+        self.path = Path(path)
+        try:
+            con = self._connect()
+            con.execute("PRAGMA journal_mode=WAL")
+            con.executescript(_SCHEMA)
+            con.execute("INSERT OR IGNORE INTO log_info VALUES ('schema_version', ?)",
+                        (SCHEMA_VERSION,))
+            con.commit()
+            con.close()
+        except sqlite3.DatabaseError as exc:
+            raise RecordLogError(f"cannot open the record log {self.path}: {exc}. Is it a "
+                                 "trialkit record log? Move it away to start a new one.") from None
+
+    @classmethod
+    def for_folder(cls, folder: str | os.PathLike) -> RecordLog:
+        """The log ``record-log.sqlite`` in trial folder ``folder``."""
+        return cls(Path(folder) / LOG_FILE)
+
+    def _connect(self) -> sqlite3.Connection:
+        con = sqlite3.connect(self.path, timeout=60.0, isolation_level=None)
+        con.execute("PRAGMA busy_timeout=60000")
+        con.execute("PRAGMA foreign_keys=ON")
+        return con
+
+    def __repr__(self) -> str:
+        return f"RecordLog({str(self.path)!r}, {self.count()} values)"
+
+    # -- reading ----------------------------------------------------------------------
+    def count(self) -> int:
+        """Number of stored values (all revisions)."""
+        con = self._connect()
+        try:
+            return con.execute("SELECT COUNT(*) FROM readings").fetchone()[0]
+        finally:
+            con.close()
+
+    def ingest_of(self, sha256: str) -> tuple[int, str, str] | None:
+        """``(id, source, ingested_at)`` of an earlier ingest of this file, or None."""
+        con = self._connect()
+        try:
+            return con.execute("SELECT id, source, ingested_at FROM ingests WHERE sha256 = ?",
+                               (sha256,)).fetchone()
+        finally:
+            con.close()
+
+    def _frame(self, where: str = "", params: tuple = ()) -> pd.DataFrame:
+        con = self._connect()
+        try:
+            rows = con.execute(
+                "SELECT r.coupon, r.inspection, r.field, r.value_num, r.value_text, "
+                "r.revision, i.source, i.sha256, i.ingested_at FROM readings r "
+                f"JOIN ingests i ON i.id = r.ingest_id {where} "
+                "ORDER BY r.coupon, r.inspection, r.field, r.revision", params).fetchall()
+        finally:
+            con.close()
+        data = [(c, n, f, num if num is not None else text, rev, s, h, t)
+                for c, n, f, num, text, rev, s, h, t in rows]
+        return pd.DataFrame(data, columns=list(HISTORY_COLUMNS))
+
+    def history(self, coupon: str | None = None) -> pd.DataFrame:
+        """Every stored value and revision (optionally of one coupon).
+
+        Returns
+        -------
+        DataFrame
+            Columns ``coupon, inspection, field, value, revision, source, sha256,
+            ingested_at``; sorted by coupon, inspection, field, revision.
+        """
+        if coupon is None:
+            return self._frame()
+        return self._frame("WHERE r.coupon = ?", (coupon,))
+
+    def _current_long(self, inspections: bool) -> pd.DataFrame:
+        hist = self._frame("WHERE r.inspection > 0" if inspections else "WHERE r.inspection = 0")
+        if hist.empty:
+            return hist
+        return hist.groupby(["coupon", "inspection", "field"], sort=True).tail(1)
+
+    def current_values(self, plan: Any = None, fields: Iterable[str] | None = None
+                       ) -> pd.DataFrame:
+        """Current (latest revision) coupon readings, one row per coupon.
+
+        Parameters
+        ----------
+        plan : Plan, optional
+            With a plan: every coupon of ``plan.table`` in plan order, plan columns first.
+        fields : iterable of str, optional
+            Field columns, in this order, present even when nothing was recorded;
+            default: the sheet fields of ``plan``'s trial (or :data:`COUPON_FIELDS`),
+            then any other field that has values.
+
+        Returns
+        -------
+        DataFrame
+            ``coupon`` (plus plan columns) and one column per field; numbers as float,
+            ``immersion_start``/``immersion_end`` as datetimes, text as object.
+        """
+        cur = self._current_long(inspections=False)
+        wide = (cur.pivot(index="coupon", columns="field", values="value")
+                if not cur.empty else pd.DataFrame(index=pd.Index([], name="coupon")))
+        wide.columns.name = None
+        if fields is None:
+            order = [f.name for f in COUPON_FIELDS]
+            if plan is not None:
+                from trialkit.records.sheets.config import sheet_config
+
+                order = [f.name for f in sheet_config(plan.trial).coupon_fields]
+            fields = order + sorted(set(wide.columns) - set(order))
+        names = list(fields)
+        wide = wide.reindex(columns=names)
+        for name in names:
+            wide[name] = _typed(name, wide[name])
+        wide = wide.reset_index()
+        if plan is not None:
+            table = plan.table.reset_index(drop=True)
+            wide = table.merge(wide, on="coupon", how="left", validate="one_to_one")
+        return wide
+
+    def current_timecourse(self) -> pd.DataFrame:
+        """Current inspection readings, long: coupon, inspection, field, value."""
+        cur = self._current_long(inspections=True)
+        cols = ["coupon", "inspection", "field", "value"]
+        return cur[cols].reset_index(drop=True) if not cur.empty else pd.DataFrame(columns=cols)
+
+    # -- writing ----------------------------------------------------------------------
+    def add_readings(self, readings: Iterable[tuple[str, int, str, Any]], *, source: str,
+                     sha256: str, fingerprint: str) -> AddResult:
+        """Store one sheet's readings in one transaction (see the module notes).
+
+        Raises
+        ------
+        RecordLogError
+            The log holds readings of another plan (fingerprint differs).
+        """
+        readings = list(readings)
+        now = dt.datetime.now(dt.UTC).isoformat(timespec="seconds")
+        con = self._connect()
+        try:
+            con.execute("BEGIN IMMEDIATE")
+            seen = con.execute("SELECT id, ingested_at FROM ingests WHERE sha256 = ?",
+                               (sha256,)).fetchone()
+            if seen:
+                con.execute("ROLLBACK")
+                return AddResult("already_ingested", _added([]), 0, seen[0], seen[1])
+            fp = con.execute("SELECT value FROM log_info WHERE key='plan_fingerprint'"
+                             ).fetchone()
+            if fp and fp[0] != fingerprint:
+                con.execute("ROLLBACK")
+                raise RecordLogError(
+                    f"the record log {self.path} holds readings of plan {fp[0]}, this sheet "
+                    f"is for plan {fingerprint}. The trial's plan changed after readings "
+                    "were recorded: keep the old plan, or start a new trial folder.")
+            if not fp:
+                con.execute("INSERT INTO log_info VALUES ('plan_fingerprint', ?)",
+                            (fingerprint,))
+            current = {}
+            for c, n, f, num, text, rev in con.execute(
+                    "SELECT coupon, inspection, field, value_num, value_text, revision "
+                    "FROM readings ORDER BY revision"):
+                current[(c, n, f)] = (num, text, rev)
+            new, unchanged = [], 0
+            for coupon, inspection, name, value in readings:
+                old = current.get((coupon, inspection, name))
+                if old and _same(old[0], old[1], value):
+                    unchanged += 1
+                    continue
+                rev = old[2] + 1 if old else 1
+                current[(coupon, inspection, name)] = (*_split(value), rev)
+                new.append((coupon, int(inspection), name, value, rev))
+            cur = con.execute("INSERT INTO ingests (source, sha256, ingested_at, fingerprint, "
+                              "n_values) VALUES (?, ?, ?, ?, ?)",
+                              (source, sha256, now, fingerprint, len(new)))
+            ingest_id = cur.lastrowid
+            half = len(new) // 2
+            for i, (coupon, inspection, name, value, rev) in enumerate(new):
+                if i == half:
+                    _test_pause()
+                num, text = _split(value)
+                con.execute("INSERT INTO readings (ingest_id, coupon, inspection, field, "
+                            "value_num, value_text, revision) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                            (ingest_id, coupon, inspection, name, num, text, rev))
+            con.execute("COMMIT")
+        except sqlite3.DatabaseError as exc:
+            if con.in_transaction:
+                con.execute("ROLLBACK")
+            raise RecordLogError(f"could not write to the record log {self.path}: {exc}. "
+                                 "Nothing of this sheet was stored; try again.") from None
+        finally:
+            con.close()
+        return AddResult("accepted" if new else "no_change", _added(new), unchanged,
+                         ingest_id, now)
+
+
+_FIELD_KINDS = {f.name: f.kind for f in COUPON_FIELDS}
+
+
+def _added(rows: list) -> pd.DataFrame:
+    return pd.DataFrame(rows, columns=["coupon", "inspection", "field", "value", "revision"])
+
+
+def _typed(name: str, column: pd.Series) -> pd.Series:
+    if name in ("immersion_start", "immersion_end"):
+        return pd.to_datetime(column, format="ISO8601")
+    values = column.dropna()
+    if len(values) and all(isinstance(v, float) for v in values):
+        return column.astype(float)
+    if not len(values):
+        f = _FIELD_KINDS.get(name)
+        if f == "number" or name.startswith("mass_cycle_"):
+            return column.astype(float)
+    return column.astype(object)
+
+
+def _test_pause() -> None:
+    seconds = os.environ.get(SLEEP_HOOK)
+    if not seconds:
+        return
+    ready = os.environ.get(READY_HOOK)
+    if ready:
+        Path(ready).write_text("in transaction\n")
+    time.sleep(float(seconds))

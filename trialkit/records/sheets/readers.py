@@ -1,0 +1,239 @@
+"""Read the cells of a filled recording sheet (XLSX or CSV) without judging them.
+
+The readers find the stamp (metadata), the two heading rows and the data rows, and
+report only problems of the file as a whole: empty file, wrong encoding, not a workbook,
+no trialkit stamp, extra or missing tabs, merged cells, formulas with no saved value.
+Judging the values is :mod:`trialkit.records.sheets.validate`'s job.
+
+CSV files must be UTF-8 (with or without byte-order mark).  Commas, semicolons and tabs
+are recognised as separators; in a semicolon- or tab-separated file a decimal comma
+(``12,5``) is read as a decimal point, as spreadsheet programs set to such locales write
+it.  In a comma-separated file a number with a comma is refused (it is ambiguous).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from trialkit.problems import ProblemReport
+from trialkit.records.sheets.layout import (
+    INSTRUCTIONS_TAB,
+    META_TAB,
+    SHEET_FORMAT,
+    TAB_NAMES,
+)
+from trialkit.records.sheets.textsafe import unescape_text
+
+_SCAN_ROWS = 12
+
+
+@dataclass
+class RawTable:
+    """The cells of one tab (or one CSV file), not yet validated.
+
+    Attributes
+    ----------
+    tab : str
+        Tab name (XLSX) or the layout's tab name (CSV), used as "sheet" in problems.
+    layout : str
+        Layout name from the stamp (``"coupons"`` or ``"inspections"``).
+    meta : dict
+        The stamp: format, version, layout, fingerprint, seed, title.
+    headings, names : list of str
+        The heading row (words and units) and the machine-name row.
+    rows : list of (int, list)
+        Spreadsheet row number and cell values of each non-empty data row.
+    from_csv : bool
+        Text cells carry formula-injection escapes to undo.
+    decimal_comma : bool
+        Numbers may use a decimal comma.
+    column_letters : list of str
+        Column labels as the spreadsheet shows them (``A``, ``B`` ...).
+    """
+
+    tab: str
+    layout: str
+    meta: dict[str, str]
+    headings: list[str]
+    names: list[str]
+    rows: list[tuple[int, list[Any]]] = field(default_factory=list)
+    from_csv: bool = False
+    decimal_comma: bool = False
+
+
+def _blank(v: Any) -> bool:
+    return v is None or (isinstance(v, str) and not v.strip())
+
+
+def _find_name_row(rows: list[list[Any]]) -> int | None:
+    for i, row in enumerate(rows[:_SCAN_ROWS]):
+        if any(isinstance(v, str) and v.strip() == "coupon" for v in row):
+            return i
+    return None
+
+
+def read_sheet_file(path: Path, data: bytes, problems: ProblemReport) -> list[RawTable]:
+    """Read ``data`` (the bytes of ``path``) into raw tables, adding file-level problems."""
+    if not data.strip():
+        problems.add("", "the file is empty", check="empty_file",
+                     fix="export a sheet with 'trialkit sheet', fill it in and save it")
+        return []
+    suffix = path.suffix.lower()
+    if suffix in (".xlsx", ".xlsm") or data[:2] == b"PK":
+        return _read_xlsx(data, problems)
+    if suffix in (".csv", ".txt", ".tsv"):
+        return _read_csv(data, problems)
+    problems.add("", f"cannot read a {suffix or 'nameless'} file as a sheet", value=path.name,
+                 check="unknown_format", fix="give an .xlsx or .csv recording sheet")
+    return []
+
+
+# -- XLSX ---------------------------------------------------------------------------
+def _read_xlsx(data: bytes, problems: ProblemReport) -> list[RawTable]:
+    from openpyxl import load_workbook
+
+    try:
+        wb_values = load_workbook(io.BytesIO(data), data_only=True)
+        wb_formulas = load_workbook(io.BytesIO(data), data_only=False)
+    except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as exc:
+        problems.add("", "the file is not a readable XLSX workbook", value=type(exc).__name__,
+                     check="not_a_workbook",
+                     fix="open it in a spreadsheet program and save it as .xlsx")
+        return []
+    if META_TAB not in wb_values.sheetnames:
+        problems.add("", f"no {META_TAB!r} tab: this workbook was not exported by trialkit "
+                     "or the tab was deleted", check="no_metadata",
+                     fix="fill in a sheet exported with 'trialkit sheet'")
+        return []
+    meta: dict[str, str] = {}
+    for row in wb_values[META_TAB].iter_rows(values_only=True):
+        if row and row[0] is not None:
+            meta[str(row[0])] = "" if len(row) < 2 or row[1] is None else str(row[1])
+    if meta.get("format") != SHEET_FORMAT:
+        problems.add(META_TAB, "the metadata tab does not hold a trialkit stamp",
+                     value=meta.get("format", ""), check="no_metadata",
+                     fix="fill in a sheet exported with 'trialkit sheet'")
+        return []
+    wanted = {TAB_NAMES[name]: name for name in meta.get("layout", "").split(",")
+              if name in TAB_NAMES}
+    if not wanted:
+        problems.add(META_TAB, "the stamp names no known sheet layout",
+                     value=meta.get("layout", ""), check="unknown_layout",
+                     fix="fill in a sheet exported with 'trialkit sheet'")
+        return []
+    tables = []
+    for name in wb_values.sheetnames:
+        if name in (META_TAB, INSTRUCTIONS_TAB):
+            continue
+        ws = wb_values[name]
+        if name not in wanted:
+            if any(not _blank(v) for row in ws.iter_rows(values_only=True) for v in row):
+                problems.add(name, f"unexpected tab {name!r} with data in it", value=name,
+                             check="extra_sheet",
+                             fix=f"move its readings into {', '.join(map(repr, wanted))} "
+                                 "or delete the tab")
+            continue
+        table = _xlsx_tab(ws, wb_formulas[name], wanted[name], meta, problems)
+        if table is not None:
+            tables.append(table)
+    for tab in wanted:
+        if tab not in wb_values.sheetnames:
+            problems.add(tab, f"the tab {tab!r} is missing", check="missing_tab",
+                         fix="do not rename or delete the tabs of the sheet")
+    return tables
+
+
+def _xlsx_tab(ws: Any, ws_f: Any, layout: str, meta: dict[str, str],
+              problems: ProblemReport) -> RawTable | None:
+    from openpyxl.utils import get_column_letter
+
+    grid = [list(r) for r in ws.iter_rows(values_only=True)]
+    at = _find_name_row(grid)
+    if at is None or at == 0:
+        problems.add(ws.title, "no row of machine names (a cell 'coupon') near the top",
+                     check="no_header",
+                     fix="keep heading rows 3 and 4 of the exported sheet as they are")
+        return None
+    name_row = at + 1  # 1-based
+    for rng in ws.merged_cells.ranges:
+        if rng.max_row >= name_row - 1:
+            problems.add(ws.title, f"merged cells {rng.coord}", row=rng.min_row,
+                         column=get_column_letter(rng.min_col), value=rng.coord,
+                         check="merged_cells",
+                         fix="unmerge the cells and write the value into each cell")
+    names = ["" if v is None else str(v).strip() for v in grid[at]]
+    headings = ["" if v is None else str(v) for v in grid[at - 1]]
+    rows = []
+    for r_index in range(at + 1, len(grid)):
+        values = grid[r_index]
+        if all(_blank(v) for v in values):
+            continue
+        r = r_index + 1
+        for c, v in enumerate(values, start=1):
+            if v is None:
+                fcell = ws_f.cell(r, c)
+                if fcell.data_type == "f" or (isinstance(fcell.value, str)
+                                             and fcell.value.startswith("=")
+                                             and fcell.data_type != "s"):
+                    col = names[c - 1] if c - 1 < len(names) else get_column_letter(c)
+                    problems.add(ws.title, "formula with no saved value", row=r, column=col,
+                                 value=str(fcell.value), check="formula_not_saved",
+                                 fix="open the file in a spreadsheet program, let it compute "
+                                     "and save it, then read it in again")
+        rows.append((r, values))
+    return RawTable(ws.title, layout, meta, headings, names, rows)
+
+
+# -- CSV ----------------------------------------------------------------------------
+def _read_csv(data: bytes, problems: ProblemReport) -> list[RawTable]:
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        problems.add("", "the file is UTF-16 text; trialkit reads CSV in UTF-8",
+                     check="wrong_encoding", fix="save the file as 'CSV UTF-8'")
+        return []
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        problems.add("", f"the file is not UTF-8 text (byte {exc.start} is "
+                     f"0x{data[exc.start]:02x})", check="wrong_encoding",
+                     fix="save the file as 'CSV UTF-8' in your spreadsheet program")
+        return []
+    for delimiter in (",", ";", "\t"):
+        grid = list(csv.reader(io.StringIO(text, newline=""), delimiter=delimiter))
+        at = _find_name_row(grid)
+        if at is not None:
+            break
+    else:
+        problems.add("", "no row of machine names (a cell 'coupon') near the top",
+                     check="no_header",
+                     fix="keep the two heading rows of the exported sheet as they are")
+        return []
+    meta: dict[str, str] = {}
+    for row in grid[:at]:
+        if row and row[0].strip() == "# " + SHEET_FORMAT:
+            meta["format"] = SHEET_FORMAT
+            for cell in row[1:]:
+                key, sep, value = cell.partition("=")
+                if sep:
+                    meta[key.strip()] = unescape_text(value)
+    if not meta:
+        problems.add("", "no '# trialkit-sheet' stamp line above the headings",
+                     check="no_metadata",
+                     fix="fill in a sheet exported with 'trialkit sheet --format csv' and "
+                         "keep its first line")
+        return []
+    layout = meta.get("layout", "")
+    if layout not in TAB_NAMES or at == 0:
+        problems.add("", "the stamp names no known sheet layout", value=layout,
+                     check="unknown_layout", fix="fill in a sheet exported with trialkit")
+        return []
+    names = [v.strip() for v in grid[at]]
+    headings = [unescape_text(v) for v in grid[at - 1]]
+    rows = [(i + 1, list(values)) for i, values in enumerate(grid) if i > at
+            and not all(_blank(v) for v in values)]
+    return [RawTable(TAB_NAMES[layout], layout, meta, headings, names, rows, True,
+                     delimiter != ",")]
