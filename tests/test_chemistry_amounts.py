@@ -5,7 +5,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from trialkit.chemistry.amounts import basis_note, parse_amount, weigh
-from trialkit.chemistry.catalogue import default_catalogue
+from trialkit.chemistry.ingredient_table import default_catalogue
 from trialkit.exceptions import ChemistryError
 
 

@@ -5,7 +5,7 @@ from pathlib import Path
 
 import pytest
 
-from trialkit.chemistry.catalogue import default_catalogue
+from trialkit.chemistry.ingredient_table import default_catalogue
 from trialkit.exceptions import ChemistryError
 
 REF = Path(__file__).parent / "reference" / "chem"

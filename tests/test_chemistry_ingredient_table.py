@@ -2,8 +2,7 @@
 
 import pytest
 
-from trialkit.chemistry.catalogue import read_catalogue_text
-from trialkit.chemistry.ingredient_table import parse_ingredient
+from trialkit.chemistry.ingredient_table import parse_ingredient, read_catalogue_text
 from trialkit.exceptions import ChemistryError
 from trialkit.problems import ProblemReport
 

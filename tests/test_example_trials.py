@@ -35,9 +35,9 @@ def _files(folder: Path) -> dict[str, bytes]:
 def regenerated(request, tmp_path_factory):
     name = request.param
     out = tmp_path_factory.mktemp(name)
-    main = runpy.run_path(str(ROOT / name / "generate_readings.py"))["main"]
-    assert main(["--out", str(out)]) == 0
-    return name, out
+    main = runpy.run_path(str(ROOT / "generate_readings.py"))["main"]
+    assert main([str(ROOT / name), "--out", str(out)]) == 0
+    return name, out / name
 
 
 def test_checked_in_files_equal_what_the_generator_makes(regenerated):

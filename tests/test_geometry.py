@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from trialkit.exceptions import ResponseError
-from trialkit.responses.geometry import GeometryError, coupon_area_cm2
+from trialkit.trial.geometry import GeometryError, coupon_area_cm2
 
 
 def test_plate_hand_computed():

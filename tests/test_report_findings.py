@@ -91,7 +91,7 @@ def test_detectable_effects_from_design_evaluation(tmp_path):
 
     trial, plan, _ = rt.screening(tmp_path / "e")
     ev = evaluate_plan(plan, model="main", sd=2.0)
-    got = fd.detectable_effects(ev)
+    got = ev.detectable_effects()
     assert set(got) == {"chelator", "ph", "surfactant"}
     assert got["chelator"] == pytest.approx(
         float(ev.summary.set_index("term").loc["chelator", "detectable_effect"]))

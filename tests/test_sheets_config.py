@@ -5,8 +5,8 @@ from __future__ import annotations
 import pytest
 
 from trialkit.problems import ProblemReport
+from trialkit.records.config import SheetConfig, parse_sheet_section, sheet_config
 from trialkit.records.fields import COUPON_FIELDS
-from trialkit.records.sheets.config import SheetConfig, parse_sheet_section, sheet_config
 
 
 def parse(raw):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 from malformed_sheets.make_corpus import make_test_plan
 
-from trialkit.records.sheets.config import sheet_config
+from trialkit.records.config import sheet_config
 from trialkit.records.sheets.layout import (
     coupon_layout,
     inspection_layout,

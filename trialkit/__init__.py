@@ -136,7 +136,7 @@ _EXPORTS: dict[str, str] = {
     "DemoResult": "trialkit.demo.result",
     "fill_sheet": "trialkit.demo.fill",
     # responses
-    "coupon_area_cm2": "trialkit.responses.geometry",
+    "coupon_area_cm2": "trialkit.trial.geometry",
     "metal": "trialkit.responses.materials",
     "density_g_cm3": "trialkit.responses.materials",
     "corrosion_rate": "trialkit.responses.corrosion",

@@ -10,7 +10,7 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 
-from trialkit.analysis.trial_analysis import TWO_LEVEL_KINDS, TrialData, first_line
+from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialData, first_line
 from trialkit.exceptions import TrialkitError
 
 #: Random starts of the desirability search besides its 8 best grid points (each start

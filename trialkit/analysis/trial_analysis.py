@@ -1,5 +1,5 @@
-"""Gather what a report needs from a trial folder: trial, plan, record log, responses,
-fitted models, surfaces, sweeps, desirability, the recommended recipe.
+"""The analysis of a whole trial folder: trial, plan, record log, responses, fitted models,
+surfaces, sweeps, desirability, the recommended recipe, in one :class:`TrialData`.
 
 Every step may be missing (nothing recorded yet, an upstream piece not available, a model
 that cannot be fitted); each failure is kept as a plain sentence in ``notes`` so the
@@ -9,59 +9,13 @@ report can say what is not available and why, and the rest goes on.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
+from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialData, first_line
 from trialkit.exceptions import TrialkitError
-
-TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
-SURFACE_KINDS = ("central-composite", "box-behnken")
-
-
-@dataclass
-class TrialData:
-    """Everything gathered for one report (plain objects of the other stages)."""
-
-    folder: Path
-    trial: object
-    plan: object
-    log: object | None = None
-    history: pd.DataFrame | None = None
-    current: pd.DataFrame | None = None
-    responses: object | None = None
-    baths: pd.DataFrame | None = None
-    timecourse: pd.DataFrame | None = None
-    kinetics: dict = field(default_factory=dict)
-    fits: dict = field(default_factory=dict)
-    models: dict = field(default_factory=dict)
-    results: dict = field(default_factory=dict)  # response -> AnalysisResult
-    effects: dict = field(default_factory=dict)
-    surfaces: dict = field(default_factory=dict)
-    sweeps: dict = field(default_factory=dict)
-    desirability: object | None = None
-    detectable: dict = field(default_factory=dict)
-    recommendation: dict | None = None
-    recipe: object | None = None
-    confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
-    notes: dict = field(default_factory=dict)  # topic -> list of sentences
-
-    def note(self, topic: str, text: str) -> None:
-        self.notes.setdefault(topic, []).append(text)
-
-    @property
-    def specs(self) -> dict:
-        return {r.name: r for r in self.trial.responses}
-
-    def unit(self, response: str) -> str:
-        spec = self.specs.get(response)
-        return spec.unit if spec is not None else ""
-
-
-def first_line(exc: Exception) -> str:
-    return str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
 
 
 # -- trial, plan, record log, responses -------------------------------------------------
@@ -263,11 +217,10 @@ def _detectable(data: TrialData, spec) -> None:
         return
     try:
         from trialkit.planning.evaluation import evaluate_plan
-        from trialkit.report.findings import detectable_effects
 
         terms = " + ".join(t.name for t in fit.spec.terms if t.name != "block")
         ev = evaluate_plan(data.plan, model=terms, sd=float(np.sqrt(fit.sigma2)))
-        data.detectable[spec.name] = detectable_effects(ev)
+        data.detectable[spec.name] = ev.detectable_effects()
     except (ImportError, TrialkitError, ValueError, np.linalg.LinAlgError) as exc:
         data.note("analysis", f"{spec.name}: smallest detectable effects not available "
                               f"({first_line(exc)})")

@@ -11,9 +11,10 @@ Examples
 from trialkit.chemistry.amounts import Amount, parse_amount, weigh
 from trialkit.chemistry.bathspec import BathSection, parse_bath_section, parse_ingredient_section
 from trialkit.chemistry.capacity import Capacity, capacity_from_moles
-from trialkit.chemistry.catalogue import Catalogue, Ingredient, default_catalogue
+from trialkit.chemistry.catalogue import Catalogue, Ingredient
 from trialkit.chemistry.cost import BathCost, bath_cost
 from trialkit.chemistry.dosing import Dose, TitrationCurve, find_dose, titration_curve
+from trialkit.chemistry.ingredient_table import default_catalogue
 from trialkit.chemistry.mixing_sheet import MixingSheet, bill_of_materials, recipes_for_plan
 from trialkit.chemistry.recipe import BathRecipe, BathSpec, RecipeLine, make_recipe
 from trialkit.chemistry.speciation import SolutionResult, solve

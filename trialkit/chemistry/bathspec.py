@@ -36,8 +36,8 @@ from typing import Any
 
 from trialkit.chemistry.amounts import Amount, parse_amount
 from trialkit.chemistry.capacity import DEFAULT_RUST_MG_PER_CM2
-from trialkit.chemistry.catalogue import Catalogue, Ingredient, default_catalogue
-from trialkit.chemistry.ingredient_table import parse_ingredient
+from trialkit.chemistry.catalogue import Catalogue, Ingredient
+from trialkit.chemistry.ingredient_table import default_catalogue, parse_ingredient
 from trialkit.chemistry.volume import ASTM_G31_ML_PER_CM2, DEFAULT_CONTAINERS_L
 from trialkit.exceptions import TrialkitError
 from trialkit.problems import ProblemReport, did_you_mean

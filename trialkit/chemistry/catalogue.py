@@ -1,11 +1,13 @@
 """The ingredient catalogue: what each bath chemical is, weighs, does and costs.
 
-The catalogue ships as ``trialkit/data/ingredients.toml``; a trial file may add entries
+The catalogue ships as ``trialkit/data/ingredients.toml`` (read by
+:func:`trialkit.chemistry.ingredient_table.default_catalogue`); a trial file may add entries
 (``[[ingredient]]`` tables of the same form).  Molar masses are computed with molmass from
 the formula (IUPAC standard atomic weights), never typed in.
 
 Examples
 --------
+>>> from trialkit.chemistry.ingredient_table import default_catalogue
 >>> cat = default_catalogue()
 >>> edta = cat.get("Tetrasodium EDTA tetrahydrate")
 >>> round(edta.molar_mass_anhydrous, 2), round(edta.molar_mass_supplied, 2)
@@ -16,17 +18,15 @@ Examples
 
 from __future__ import annotations
 
-import tomllib
 from dataclasses import dataclass, field
 from functools import lru_cache
-from importlib import resources
 from typing import Any
 
 from trialkit.exceptions import ChemistryError
-from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.problems import did_you_mean
 
 __all__ = ["CURRENCIES", "FORMS", "HAZARDS", "ROLES", "SPECIES", "Catalogue", "Ingredient",
-           "Price", "default_catalogue", "read_catalogue_text"]
+           "Price"]
 
 #: Roles an ingredient may play in a bath.
 ROLES = ("chelator", "acid", "base", "salt", "surfactant", "solvent")
@@ -254,29 +254,3 @@ class Catalogue:
 
 def _key(name: str) -> str:
     return " ".join(str(name).lower().split())
-
-
-def read_catalogue_text(text: str, source: str) -> Catalogue:
-    """Build a catalogue from TOML text (``[[ingredient]]`` tables)."""
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ChemistryError(f"{source}: not valid TOML: {exc}") from None
-    from trialkit.chemistry.ingredient_table import parse_ingredient
-
-    problems = ProblemReport(source)
-    items = []
-    for i, raw in enumerate(data.get("ingredient", []), start=1):
-        ing = parse_ingredient(raw, problems, f"ingredient[{i}]")
-        if ing is not None:
-            items.append(ing)
-    problems.raise_if_any(ChemistryError, "the ingredient catalogue has problems")
-    return Catalogue(items)
-
-
-@lru_cache(maxsize=1)
-def default_catalogue() -> Catalogue:
-    """The catalogue shipped with trialkit (``trialkit/data/ingredients.toml``)."""
-    text = resources.files("trialkit").joinpath("data/ingredients.toml").read_text("utf-8")
-    return read_catalogue_text(text, "trialkit/data/ingredients.toml")
-

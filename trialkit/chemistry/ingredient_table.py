@@ -1,8 +1,11 @@
-"""Reading one ``[[ingredient]]`` table (shipped catalogue or trial file) with every
-problem collected."""
+"""Reading ``[[ingredient]]`` tables (the shipped catalogue or a trial file's) with every
+problem collected, and the shipped catalogue itself (:func:`default_catalogue`)."""
 
 from __future__ import annotations
 
+import tomllib
+from functools import lru_cache
+from importlib import resources
 from typing import Any
 
 from trialkit.chemistry.catalogue import (
@@ -11,10 +14,12 @@ from trialkit.chemistry.catalogue import (
     HAZARDS,
     ROLES,
     SPECIES,
+    Catalogue,
     Ingredient,
     Price,
     _molar_mass,
 )
+from trialkit.exceptions import ChemistryError
 from trialkit.problems import ProblemReport, did_you_mean
 
 
@@ -168,3 +173,27 @@ def _fraction(x: Any, where: str, problems: ProblemReport, what: str) -> float:
                      fix=f"write 99.5 % as {what} = 0.995")
         return 1.0
     return float(x)
+
+
+def read_catalogue_text(text: str, source: str) -> Catalogue:
+    """Build a catalogue from TOML text (``[[ingredient]]`` tables)."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ChemistryError(f"{source}: not valid TOML: {exc}") from None
+    problems = ProblemReport(source)
+    items = []
+    for i, raw in enumerate(data.get("ingredient", []), start=1):
+        ing = parse_ingredient(raw, problems, f"ingredient[{i}]")
+        if ing is not None:
+            items.append(ing)
+    problems.raise_if_any(ChemistryError, "the ingredient catalogue has problems")
+    return Catalogue(items)
+
+
+@lru_cache(maxsize=1)
+def default_catalogue() -> Catalogue:
+    """The catalogue shipped with trialkit (``trialkit/data/ingredients.toml``)."""
+    text = resources.files("trialkit").joinpath("data/ingredients.toml").read_text("utf-8")
+    return read_catalogue_text(text, "trialkit/data/ingredients.toml")
+

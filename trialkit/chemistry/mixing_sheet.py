@@ -143,12 +143,12 @@ def _fmt(x: Any, digits: int = 3) -> str:
 
 def coupon_area_cm2(coupons: Any) -> float | None:
     """Area of one coupon, cm², from ``[coupons]``
-    (:func:`trialkit.responses.geometry.coupon_area_cm2`); ``None`` when the trial gives
+    (:func:`trialkit.trial.geometry.coupon_area_cm2`); ``None`` when the trial gives
     no coupons or not enough dimensions."""
     if coupons is None:
         return None
     from trialkit.exceptions import TrialkitError
-    from trialkit.responses.geometry import coupon_area_cm2 as geometric
+    from trialkit.trial.geometry import coupon_area_cm2 as geometric
 
     try:
         return float(geometric(coupons))
@@ -252,7 +252,7 @@ def recipes_for_plan(plan: Any) -> MixingSheet:
 def bill_of_materials(recipes: list[BathRecipe], section: BathSection | None = None, *,
                       spare: float = 0.2) -> pd.DataFrame:
     """Total grams of each ingredient over all baths, with ``spare`` margin and packs."""
-    from trialkit.chemistry.catalogue import default_catalogue
+    from trialkit.chemistry.ingredient_table import default_catalogue
 
     cat = (section.catalogue if section is not None and section.catalogue is not None
            else default_catalogue())

@@ -22,10 +22,11 @@ from trialkit.chemistry.amounts import (
     weigh,
 )
 from trialkit.chemistry.capacity import DEFAULT_RUST_MG_PER_CM2, Capacity, capacity_from_moles
-from trialkit.chemistry.catalogue import Catalogue, Ingredient, default_catalogue
+from trialkit.chemistry.catalogue import Catalogue, Ingredient
 from trialkit.chemistry.cautions import cautions_for
 from trialkit.chemistry.cost import BathCost, bath_cost
 from trialkit.chemistry.dosing import Dose, find_dose, local_dose
+from trialkit.chemistry.ingredient_table import default_catalogue
 from trialkit.exceptions import ChemistryError
 
 #: Fraction of the dose given as the main addition when the curve is steep.

@@ -23,7 +23,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
     from trialkit.planning.plan import load_plan
-    from trialkit.records.sheets.config import sheet_config
+    from trialkit.records.config import sheet_config
 
     plan = load_plan(args.folder)
     config = sheet_config(plan.trial)

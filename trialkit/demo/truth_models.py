@@ -44,7 +44,6 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import asdict, dataclass, field, replace
-from pathlib import Path
 
 import numpy as np
 
@@ -373,48 +372,3 @@ def surface_desirability(truth: BathTruth, x: Mapping, *, hours: float = 8.0) ->
     d1 = one_sided_desirability(truth.removal_pct(x, hours), 50.0, 90.0, "higher")
     d2 = one_sided_desirability(truth.corrosion_mm_per_y(x), 0.05, 0.30, "lower")
     return math.sqrt(d1 * d2)
-
-
-def write_example(name: str, trial_folder: str | Path, out: str | Path) -> list[Path]:
-    """Plan an example trial and write its plan and invented readings into ``out``.
-
-    ``name`` is a key of :data:`EXAMPLES`.  Writes ``plan.csv``,
-    ``plan.json`` and ``readings/`` (``coupons.csv``, ``timecourse.csv`` if inspected,
-    ``confirmation.csv`` if the scenario has confirmation baths, ``truth.json``).
-    """
-    import json
-
-    from trialkit.demo.simulate import (
-        READINGS_FOLDER,
-        confirmation_plan,
-        simulate_readings,
-    )
-    from trialkit.planning.plan import load_plan
-
-    if name not in EXAMPLES:
-        raise SimulationError(f"no example scenario {name!r}; known: {', '.join(EXAMPLES)}")
-    sc = EXAMPLES[name]
-    out = Path(out)
-    plan = load_plan(trial_folder)
-    paths = [plan.write(out), out / "plan.json"]
-    sim = simulate_readings(plan, sc.truth, seed=sc.seed, inspections_h=sc.inspections_h,
-                            immersion_h=sc.immersion_h)
-    folder = out / READINGS_FOLDER
-    paths += sim.write(folder)
-    truth = {"scenario": name, **sim.truth, "true_baths": sim.to_dict()["true_baths"]}
-    if sc.confirmation_baths:
-        conf = simulate_readings(
-            confirmation_plan(plan, dict(sc.confirmation_recipe), baths=sc.confirmation_baths),
-            sc.truth, seed=sc.confirmation_seed, immersion_h=sc.immersion_h)
-        path = folder / "confirmation.csv"
-        path.write_text(conf.coupons.to_csv(index=False, lineterminator="\n"),
-                        encoding="utf-8", newline="")
-        paths.append(path)
-        truth["confirmation"] = {"recipe": dict(sc.confirmation_recipe),
-                                 "seed": sc.confirmation_seed,
-                                 "true_baths": conf.to_dict()["true_baths"]}
-    path = folder / "truth.json"
-    path.write_text(json.dumps(truth, indent=1, sort_keys=True) + "\n", encoding="utf-8",
-                    newline="")
-    paths.append(path)
-    return paths

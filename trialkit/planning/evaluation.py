@@ -119,6 +119,11 @@ class Evaluation:
                                  f"{list(self.summary.term)}")
         return float(row.power.iloc[0])
 
+    def detectable_effects(self) -> dict[str, float]:
+        """Smallest detectable effect per term (finite ones only)."""
+        return {str(r.term): float(r.detectable_effect) for r in self.summary.itertuples()
+                if np.isfinite(r.detectable_effect)}
+
     def model_matrix(self) -> np.ndarray:
         """The plan's model matrix: intercept, model columns, block contrasts last."""
         return _assemble(self._X, self._blocks)

@@ -229,7 +229,7 @@ class RecordLog:
         if fields is None:
             order = [f.name for f in COUPON_FIELDS]
             if plan is not None:
-                from trialkit.records.sheets.config import sheet_config
+                from trialkit.records.config import sheet_config
 
                 order = [f.name for f in sheet_config(plan.trial).coupon_fields]
             fields = order + sorted(set(wide.columns) - set(order))

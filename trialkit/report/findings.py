@@ -263,12 +263,3 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
         out.append(Finding(text, effects.response, ", ".join(quiet), "not_detected",
                            {"me": me}))
     return out
-
-
-def detectable_effects(evaluation) -> dict[str, float]:
-    """Smallest detectable effect per term from a design evaluation (empty if none)."""
-    summary = getattr(evaluation, "summary", None)
-    if summary is None or "detectable_effect" not in getattr(summary, "columns", ()):
-        return {}
-    return {str(r.term): float(r.detectable_effect) for r in summary.itertuples()
-            if r.detectable_effect is not None and np.isfinite(r.detectable_effect)}

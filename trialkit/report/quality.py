@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import pandas as pd
 
-from trialkit.analysis.trial_analysis import TrialData
+from trialkit.analysis.trial_data import TrialData
 from trialkit.report.document import Block
 
 ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from trialkit.analysis.trial_analysis import TrialData
+from trialkit.analysis.trial_data import TrialData
 from trialkit.report.document import Block
 
 PACKAGES = ("numpy", "scipy", "pandas", "statsmodels", "matplotlib", "seaborn", "jinja2",

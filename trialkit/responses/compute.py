@@ -7,7 +7,7 @@ the bath table summarises each response by mean, SD and n; the analysis works on
 
 Per coupon (standard corrosion-testing practice, ASTM G1 / G31):
 
-- area from the recorded area or from the dimensions (:mod:`trialkit.responses.geometry`);
+- area from the recorded area or from the dimensions (:mod:`trialkit.trial.geometry`);
 - mass loss ``mass_initial_g - mass_final_g`` and per area;
 - cleaning correction: repeated cleaning cycles extrapolated to zero cycles where two or
   more cycles are recorded, else a blank specimen's loss per area if given;
@@ -39,10 +39,10 @@ from trialkit.exceptions import ResponseError, TrialkitError, TrialkitWarning
 from trialkit.problems import ProblemReport
 from trialkit.responses import definitions as defs
 from trialkit.responses.corrosion import corrosion_rate, cycle_extrapolation
-from trialkit.responses.geometry import coupon_area_cm2
 from trialkit.responses.kinetics import RemovalFit, fit_baths
 from trialkit.responses.materials import metal as lookup_metal
 from trialkit.responses.rust_grade import d610_grades
+from trialkit.trial.geometry import coupon_area_cm2
 
 RESPONSES = defs.RESPONSES
 BATH_SUMMARY = defs.BATH_SUMMARY

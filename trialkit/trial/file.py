@@ -48,10 +48,14 @@ TRIAL_FILE_NAME = "trial.toml"
 SECTION_PARSERS: dict[str, str] = {
     "ingredient": "trialkit.chemistry.bathspec:parse_ingredient_section",
     "bath": "trialkit.chemistry.bathspec:parse_bath_section",
-    "sheet": "trialkit.records.sheets.config:parse_sheet_section",
+    "sheet": "trialkit.records.config:parse_sheet_section",
     "analysis": "trialkit.analysis.config:parse_analysis_section",
     "evaluation": "trialkit.planning.evaluation:parse_evaluation_section",
 }
+
+#: The [design] section is checked by the design catalogue of the planning stage, looked
+#: up by name like the sections above, so the trial stage imports nothing above it.
+DESIGN_CHECKER = "trialkit.planning.designs.options:check_design_section"
 
 TOP_LEVEL = ("trial", "factor", "design", "layout", "response", "coupons", *SECTION_PARSERS)
 TRIAL_KEYS = ("title", "seed", "question", "notes", "operator")
@@ -310,17 +314,7 @@ def _check_design(doc: dict, factors: list[Factor], p: ProblemReport) -> DesignS
     table = _table(doc, "design", p, required=True)
     if not table:
         return None
-    from trialkit.planning import designs
-
-    kind = table.get("kind")
-    if kind not in designs.DESIGN_KINDS:
-        p.add("design.kind", f"unknown design kind {kind!r}", value=kind, check="bad_design_kind",
-              fix=did_you_mean(str(kind), list(designs.DESIGN_KINDS)))
-        return None
-    options = {k: v for k, v in table.items() if k != "kind"}
-    if factors:
-        designs.check_design_options(factors, kind, options, p, where="design")
-    return DesignSpec(kind, options)
+    return _resolve(DESIGN_CHECKER)(table, factors, p)
 
 
 def _check_layout(table: Any, p: ProblemReport) -> Layout:
@@ -509,13 +503,18 @@ def _check_coupons(table: Any, p: ProblemReport) -> CouponSpec | None:
                       cleaning_cycles=cycles, description=str(table.get("description", "")))
 
 
-def _parse_extension(name: str, target: str, raw: Any, trial: Trial, p: ProblemReport) -> Any:
+def _resolve(target: str):
+    """The function named by ``"module:function"`` (``None`` if it does not exist)."""
     module_name, func_name = target.split(":")
     try:
         module = importlib.import_module(module_name)
     except ModuleNotFoundError:
-        return raw
-    parse = getattr(module, func_name, None)
+        return None
+    return getattr(module, func_name, None)
+
+
+def _parse_extension(name: str, target: str, raw: Any, trial: Trial, p: ProblemReport) -> Any:
+    parse = _resolve(target)
     if parse is None:
         return raw
     return parse(raw, trial, p, name)

@@ -60,6 +60,7 @@ from trialkit.planning.designs.twolevel import fraction_matrix
 from trialkit.problems import ProblemReport, did_you_mean
 from trialkit.trial.factors import FACTOR_LETTERS, Factor
 from trialkit.trial.retired_names import retired_key_hint, retired_value_hint
+from trialkit.trial.spec import DesignSpec
 
 DESIGN_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman",
                 "central-composite", "box-behnken", "sweep", "latin-hypercube", "optimal")
@@ -135,6 +136,23 @@ def check_design_options(factors: Sequence[Factor], kind: str, options: Mapping,
             any(len(f.levels) < 2 for f in cats):
         return  # the factors themselves are faulty; the trial-file checks report that
     _CHECKERS[kind](factors, cont, cats, opts, problems, where)
+
+
+def check_design_section(table: Mapping, factors: Sequence[Factor],
+                         problems: ProblemReport) -> DesignSpec | None:
+    """Check a trial file's ``[design]`` table; its :class:`DesignSpec`, or ``None``.
+
+    Called by the trial-file reader (:data:`trialkit.trial.file.DESIGN_CHECKER`).
+    """
+    kind = table.get("kind")
+    if kind not in DESIGN_KINDS:
+        problems.add("design.kind", f"unknown design kind {kind!r}", value=kind,
+                     check="bad_design_kind", fix=did_you_mean(str(kind), list(DESIGN_KINDS)))
+        return None
+    options = {k: v for k, v in table.items() if k != "kind"}
+    if factors:
+        check_design_options(factors, kind, options, problems, where="design")
+    return DesignSpec(kind, options)
 
 
 def _two_level_cats(cats, kind, problems, where):

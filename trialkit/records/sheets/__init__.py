@@ -4,7 +4,7 @@ openpyxl and jinja2 are imported only when a workbook or page is written or read
 that reading a trial file (which parses ``[sheet]`` here) stays fast.
 """
 
-from trialkit.records.sheets.config import SheetConfig, parse_sheet_section, sheet_config
+from trialkit.records.config import SheetConfig, parse_sheet_section, sheet_config
 from trialkit.records.sheets.export_csv import export_csv
 from trialkit.records.sheets.export_html import export_html
 from trialkit.records.sheets.export_xlsx import export_xlsx

@@ -11,7 +11,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from trialkit.records.sheets.config import PAPER_SIZES, SheetConfig, sheet_config
+from trialkit.records.config import PAPER_SIZES, SheetConfig, sheet_config
 from trialkit.records.sheets.layout import (
     cell_text,
     layouts,

@@ -19,7 +19,7 @@ from typing import Any
 
 import pandas as pd
 
-from trialkit.records.sheets.config import SheetConfig, sheet_config
+from trialkit.records.config import SheetConfig, sheet_config
 from trialkit.records.sheets.layout import (
     INSTRUCTIONS_TAB,
     META_TAB,

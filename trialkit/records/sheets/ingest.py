@@ -21,7 +21,7 @@ import pandas as pd
 
 from trialkit.exceptions import SheetError
 from trialkit.problems import ProblemReport
-from trialkit.records.sheets.config import SheetConfig, sheet_config
+from trialkit.records.config import SheetConfig, sheet_config
 from trialkit.records.sheets.readers import read_sheet_file
 from trialkit.records.sheets.validate import Reading, validate_table
 

@@ -18,8 +18,8 @@ from typing import Any
 
 import pandas as pd
 
+from trialkit.records.config import SheetConfig, sheet_config
 from trialkit.records.fields import Field
-from trialkit.records.sheets.config import SheetConfig, sheet_config
 
 #: Format tag written into every sheet's metadata.
 SHEET_FORMAT = "trialkit-sheet"

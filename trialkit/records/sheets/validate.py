@@ -20,7 +20,7 @@ from typing import Any
 import pandas as pd
 
 from trialkit.problems import ProblemReport, did_you_mean
-from trialkit.records.sheets.config import SheetConfig
+from trialkit.records.config import SheetConfig
 from trialkit.records.sheets.layout import (
     COUPON_LAYOUT,
     Column,
