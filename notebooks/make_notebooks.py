@@ -489,9 +489,10 @@ The report gathers the plan, the readings, the models, the recommended recipe an
 confirm it, with the safety cautions. It is one self-contained HTML file.
 """),
         code('''\
-from trialkit.report.build import build_report
+import trialkit
 
-report = build_report(folder, baths=baths)
+analysis = trialkit.analyze(folder, baths=baths)   # computed once: the report renders it
+report = trialkit.build_report(analysis)
 path = report.write(folder / "report.html")
 print(path)
 report'''),

@@ -247,28 +247,26 @@ def _scratch() -> Path:
 
 
 def analysed(kind: str):
-    """(TrialData, inputs) of one invented or example trial, gathered and analysed once
-    per test session: kind is "screening", "surface", "sweep" or "example:<name>"."""
-    from trialkit.analysis.trial_analysis import analyse, load_inputs
+    """(TrialAnalysis, inputs) of one invented or example trial, analysed once per test
+    session by trialkit.analyze (the object the report renders): kind is "screening",
+    "surface", "sweep" or "example:<name>"."""
+    from trialkit.analysis.trial_analysis import analyze
 
     key = ("analysed", kind)
     if key not in _CACHE:
         base = _scratch() / kind.replace(":", "-")
         if kind.startswith("example:"):
             folder, resp, tc = example(kind.split(":", 1)[1], base)
-            data = analyse(load_inputs(folder, responses=resp, timecourse=tc))
             inputs = {"responses": resp, "timecourse": tc}
             conf = folder / "readings" / "confirmation.csv"
-            inputs_build = dict(inputs, confirmation=pd.read_csv(conf) if conf.exists()
-                                else None)
+            confirmation = pd.read_csv(conf) if conf.exists() else None
+            data = analyze(folder, confirmation=confirmation, **inputs)
         else:
             out = {"screening": screening, "surface": surface, "sweep": sweep}[kind](base)
             tc = out[3] if kind == "sweep" else None
-            data = analyse(load_inputs(base, baths=out[2], timecourse=tc))
             inputs = {"baths": out[2], "timecourse": tc}
-            inputs_build = inputs
+            data = analyze(base, **inputs)
         _CACHE[key] = (data, inputs)
-        _CACHE[("build", kind)] = inputs_build
     return _CACHE[key]
 
 
@@ -279,7 +277,7 @@ def report_of(kind: str):
     key = ("report", kind)
     if key not in _CACHE:
         data, _ = analysed(kind)
-        _CACHE[key] = build_report(data.folder, **_CACHE[("build", kind)])
+        _CACHE[key] = build_report(data)
     return _CACHE[key]
 
 

@@ -170,3 +170,28 @@ def test_xlsx_table_gives_same_anova_as_csv(tmp_path, capsys):
     b = json.loads(_main(capsys, xlsx, *args).stdout)
     assert [r["sum_sq"] for r in a["anova"]] == pytest.approx([r["sum_sq"] for r in b["anova"]],
                                                               rel=1e-12)
+
+
+def test_whole_trial_is_the_object_the_report_renders(tmp_path, capsys):
+    # issue 13: one analysis of the whole trial, read by the CLI, the demo and the report
+    from trialkit.analysis.trial_analysis import analyze
+    from trialkit.demo.findings import demo_findings
+    from trialkit.demo.run import run_demo
+    from trialkit.report.build import build_report
+
+    run_demo(tmp_path, trials=["chelator-sweep"], until="responses")  # a real record log
+    folder = tmp_path / "chelator-sweep"
+    out = _main(capsys, folder, "--all", "--json")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    same = analyze(folder)
+    assert data["fingerprint"] == same.plan.fingerprint
+    assert set(data["responses"]) == {r.name for r in same.trial.responses}
+    best = data["responses"]["time_to_clean"]["sweep"]["best"]
+    assert best == pytest.approx(demo_findings(same)["time_to_clean"]["best"], rel=1e-12)
+    report = build_report(same)
+    assert report.data["recommendation"]["settings"] == data["recommendation"]["settings"]
+    text = _main(capsys, folder, "--all").stdout
+    assert text.startswith("TrialAnalysis of ") and "recommended: chelator" in text
+    bad = _main(capsys, tmp_path / "nope.csv", "--all")
+    assert bad.returncode == 2 and "needs a trial folder" in bad.stderr

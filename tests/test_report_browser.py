@@ -125,9 +125,10 @@ def test_script_in_title_stays_text_in_the_browser(tmp_path):
     chromium()
     title = "Bath <script>document.title='pwned';console.error('ran')</script> trial"
     folder = rt.write_trial(tmp_path / "x", rt.SCREENING, title=title)
+    from trialkit.analysis.trial_analysis import analyze
     from trialkit.report.build import build_report
 
-    page = build_report(folder).write(tmp_path / "x.html")
+    page = build_report(analyze(folder)).write(tmp_path / "x.html")
     result, console = check_page(page, tmp_path)
     assert result["title"] == title  # shown literally, as text
     assert console == []

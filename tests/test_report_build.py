@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 import report_trials as rt
 
+from trialkit.analysis.trial_analysis import analyze
 from trialkit.commands._output import _clean
 from trialkit.report.build import SECTION_TITLES, build_report
 from trialkit.report.document import ReportError
@@ -109,7 +110,7 @@ def test_reproducibility_lists_files_with_sha256():
 
 def test_folder_without_readings_says_so(tmp_path):
     rt.write_trial(tmp_path / "empty", rt.SCREENING)
-    report = build_report(tmp_path / "empty")
+    report = build_report(analyze(tmp_path / "empty"))
     assert [s.key for s in report.sections] == KEYS
     assert report.section("brief").available
     for key in ("readings", "matters", "models", "recipe", "confirm"):
@@ -124,7 +125,7 @@ def test_user_text_is_shown_as_text(tmp_path):
     title = "Bath <script>alert('x')</script> & <b>bold</b>"
     folder = rt.write_trial(tmp_path / "x", rt.SCREENING, title=title,
                             notes="<img src=x onerror=alert(1)>")
-    report = build_report(folder)
+    report = build_report(analyze(folder))
     html = report.to_html()
     assert "<script" not in html.lower()
     assert "<img src=x" not in html
@@ -202,7 +203,7 @@ def test_report_from_the_record_log(tmp_path):
     log.add_readings(rows, source="sheet-day1.csv", sha256="a" * 64, fingerprint=plan.fingerprint)
     log.add_readings([("B02-R1", 0, "coverage_after_pct", 12.5)], source="sheet-fix.csv",
                      sha256="b" * 64, fingerprint=plan.fingerprint)
-    report = build_report(folder)
+    report = build_report(analyze(folder))
     sec = report.section("readings")
     pairs = dict(next(b.items for b in sec.blocks if b.kind == "pairs"))
     assert pairs["Corrections since first entry"] == "1"

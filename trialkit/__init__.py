@@ -126,7 +126,9 @@ _EXPORTS: dict[str, str] = {
     "NoiseModel": "trialkit.demo.truth_models",
     "ExampleScenario": "trialkit.demo.truth_models",
     "SimulationError": "trialkit.demo.truth_models",
-    # report
+    # the analysis of a whole trial, and its report
+    "analyze": "trialkit.analysis.trial_analysis",
+    "TrialAnalysis": "trialkit.analysis.trial_data",
     "build_report": "trialkit.report",
     "write_report": "trialkit.report",
     "Report": "trialkit.report",

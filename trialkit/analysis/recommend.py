@@ -10,7 +10,7 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 
-from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialData, first_line
+from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
 
 #: Random starts of the desirability search besides its 8 best grid points (each start
@@ -18,7 +18,7 @@ from trialkit.exceptions import TrialkitError
 DESIRABILITY_TRIES = 4
 
 
-def desirability(data: TrialData) -> None:
+def desirability(data: TrialAnalysis) -> None:
     """The best compromise of every response the trial wants something of (surface
     designs only)."""
     if len(data.fits) < 2 or data.sweeps or data.trial.design.kind in TWO_LEVEL_KINDS:
@@ -66,7 +66,7 @@ def _corners(trial) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def recommend(data: TrialData) -> None:
+def recommend(data: TrialAnalysis) -> None:
     """The recommended settings, the predictions there and the recipe to mix them."""
     wanted = [n for n in data.fits if data.specs[n].is_wanted]
     if not wanted:
@@ -130,7 +130,7 @@ def _undetected_factors(fit, settings: dict) -> list[str]:
             if terms.get(name) and not any(t in significant for t in terms[name])]
 
 
-def _recipe(data: TrialData) -> None:
+def _recipe(data: TrialAnalysis) -> None:
     section = (data.trial.sections or {}).get("bath")
     try:
         from trialkit.chemistry.bathspec import BathSection
@@ -151,7 +151,7 @@ def _recipe(data: TrialData) -> None:
         data.note("recipe", f"the recipe could not be worked out: {first_line(exc)}")
 
 
-def check_confirmation(data: TrialData, confirmation) -> None:
+def check_confirmation(data: TrialAnalysis, confirmation) -> None:
     """Compare confirmation baths with the prediction intervals of each fitted model.
 
     ``confirmation``: a :class:`trialkit.responses.compute.Responses` of the confirmation baths

@@ -1,5 +1,5 @@
 """The analysis of a whole trial folder: trial, plan, record log, responses, fitted models,
-surfaces, sweeps, desirability, the recommended recipe, in one :class:`TrialData`.
+surfaces, sweeps, desirability, the recommended recipe, in one :class:`TrialAnalysis`.
 
 Every step may be missing (nothing recorded yet, an upstream piece not available, a model
 that cannot be fitted); each failure is kept as a plain sentence in ``notes`` so the
@@ -14,13 +14,50 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialData, first_line
+from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
+
+
+def analyze(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
+            timecourse: pd.DataFrame | None = None, confirmation=None,
+            n_boot: int | None = None) -> TrialAnalysis:
+    """Analyse the trial in ``folder`` once: the object the report, the demo, the notebooks
+    and the command line all read.
+
+    Parameters
+    ----------
+    folder : path
+        Trial folder (holding ``trial.toml``) or the trial file itself.
+    responses : trialkit.responses.compute.Responses, optional
+        Computed responses; by default computed from the folder's record log.
+    baths : DataFrame, optional
+        Instead of ``responses``: one row per bath with the plan's columns and one column
+        per trial response (by its name).
+    timecourse : DataFrame, optional
+        Coverage readings over time (``bath, elapsed_h, coverage_pct``).
+    confirmation : Responses or DataFrame, optional
+        Confirmation baths (their responses, or their coupon readings) run at one
+        setting; checked against the prediction intervals.
+    n_boot : int, optional
+        Bootstrap resamples for the best point's interval (default 0: none).
+
+    Examples
+    --------
+    >>> import trialkit
+    >>> result = trialkit.analyze("example_trials/chelator-sweep")  # doctest: +SKIP
+    >>> result.to_dict()["recommendation"]["settings"]  # doctest: +SKIP
+    """
+    from trialkit.analysis.recommend import check_confirmation
+
+    data = analyse(load_inputs(folder, responses=responses, baths=baths,
+                               timecourse=timecourse), n_boot=n_boot)
+    check_confirmation(data, confirmation)
+    return data
 
 
 # -- trial, plan, record log, responses -------------------------------------------------
 def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
-                timecourse: pd.DataFrame | None = None) -> TrialData:
+                timecourse: pd.DataFrame | None = None) -> TrialAnalysis:
     """Trial, plan, record log and responses of a trial folder."""
     from trialkit.planning.plan import make_plan
     from trialkit.trial.file import find_trial_file, load_trial
@@ -28,7 +65,7 @@ def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | Non
     path = find_trial_file(folder)
     trial = load_trial(path)
     plan = make_plan(trial)
-    data = TrialData(path.parent, trial, plan)
+    data = TrialAnalysis(path.parent, trial, plan)
     _check_saved_plan(data)
     _load_log(data)
     if responses is None and baths is None and data.log is not None:
@@ -51,7 +88,7 @@ def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | Non
     return data
 
 
-def _check_saved_plan(data: TrialData) -> None:
+def _check_saved_plan(data: TrialAnalysis) -> None:
     import json
 
     pj = data.folder / "plan.json"
@@ -67,7 +104,7 @@ def _check_saved_plan(data: TrialData) -> None:
                           "the plan was written")
 
 
-def _load_log(data: TrialData) -> None:
+def _load_log(data: TrialAnalysis) -> None:
     try:
         from trialkit.records import log as store
     except ImportError:
@@ -86,7 +123,7 @@ def _load_log(data: TrialData) -> None:
         data.note("readings", f"the record log could not be read: {first_line(exc)}")
 
 
-def _bath_table(data: TrialData, responses, baths: pd.DataFrame | None) -> pd.DataFrame | None:
+def _bath_table(data: TrialAnalysis, responses, baths: pd.DataFrame | None) -> pd.DataFrame | None:
     if baths is not None:
         return baths.copy()
     if responses is None:
@@ -106,7 +143,7 @@ def _bath_table(data: TrialData, responses, baths: pd.DataFrame | None) -> pd.Da
     return table
 
 
-def _timecourse(data: TrialData, timecourse: pd.DataFrame | None) -> None:
+def _timecourse(data: TrialAnalysis, timecourse: pd.DataFrame | None) -> None:
     fits = dict(getattr(data.responses, "kinetics", {}) or {})
     if timecourse is None and data.log is not None:
         try:
@@ -146,7 +183,7 @@ def _aim(spec) -> str:
     return spec.aim if spec.aim in ("higher", "lower") else "higher"
 
 
-def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
+def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
     """Analyse every response that has values with :func:`trialkit.analysis.pipeline.
     analyze_table` (the same analysis as ``trialkit analyze``), the trial's ``[analysis]``
     settings applied; Lenth's effects for two-level designs, desirability, recommendation.
@@ -200,7 +237,7 @@ def analyse(data: TrialData, *, n_boot: int | None = None) -> TrialData:
     return data
 
 
-def _effects(data: TrialData, spec) -> None:
+def _effects(data: TrialAnalysis, spec) -> None:
     from trialkit.analysis.effects import two_level_effects
 
     try:
@@ -211,7 +248,7 @@ def _effects(data: TrialData, spec) -> None:
 
 
 
-def _detectable(data: TrialData, spec) -> None:
+def _detectable(data: TrialAnalysis, spec) -> None:
     fit = data.fits[spec.name]
     if not (fit.df_resid > 0 and math.isfinite(fit.sigma2) and fit.sigma2 > 0):
         return

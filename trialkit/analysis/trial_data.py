@@ -1,6 +1,6 @@
-"""What the analysis of a whole trial holds: :class:`TrialData`, filled in by
-:mod:`trialkit.analysis.trial_analysis` and :mod:`trialkit.analysis.recommend`, read by the
-report, the demo and the command line.
+"""What the analysis of a whole trial holds: :class:`TrialAnalysis`, filled in once by
+:func:`trialkit.analysis.trial_analysis.analyze` (with :mod:`trialkit.analysis.recommend`)
+and read by the report, the demo, the notebooks and the command line.
 """
 
 from __future__ import annotations
@@ -15,8 +15,14 @@ SURFACE_KINDS = ("central-composite", "box-behnken")
 
 
 @dataclass
-class TrialData:
-    """Everything gathered for one report (plain objects of the other stages)."""
+class TrialAnalysis:
+    """The analysis of one trial folder (plain objects of the other stages).
+
+    ``results`` holds each response's :class:`trialkit.analysis.pipeline.AnalysisResult`,
+    ``recommendation`` the recommended settings with their predictions, ``notes`` a plain
+    sentence for everything that could not be done and why.  :meth:`to_dict` gives plain
+    data for JSON.
+    """
 
     folder: Path
     trial: object
@@ -51,6 +57,44 @@ class TrialData:
     def unit(self, response: str) -> str:
         spec = self.specs.get(response)
         return spec.unit if spec is not None else ""
+
+    def recommendation_dict(self) -> dict | None:
+        """The recommendation as plain data: ``settings``, ``source``, ``predictions``."""
+        rec = self.recommendation
+        if rec is None:
+            return None
+        return {"settings": rec["settings"], "source": rec["source"],
+                "predictions": rec["predictions"].to_dict("records")}
+
+    def to_dict(self) -> dict:
+        """Plain data: the trial, every response's analysis, the recommendation, notes."""
+        return {
+            "trial": getattr(self.trial, "title", ""),
+            "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
+            "responses": {name: res.to_dict() for name, res in self.results.items()},
+            "recommendation": self.recommendation_dict(),
+            "confirmation": {k: v.to_dict() for k, v in self.confirmations.items()},
+            "notes": {k: list(v) for k, v in self.notes.items()},
+        }
+
+    def __repr__(self) -> str:
+        lines = [f"TrialAnalysis of {getattr(self.trial, 'title', self.folder)!s} "
+                 f"(plan {self.plan.fingerprint})"]
+        for name, res in self.results.items():
+            lines.append(f"  {name}: modelled on {res.fit.spec.to_text()}")
+        rec = self.recommendation
+        if rec is not None:
+            settings = ", ".join(f"{k} {v:.3g}" if isinstance(v, float) else f"{k} {v}"
+                                 for k, v in rec["settings"].items())
+            lines.append(f"  recommended: {settings}")
+        for topic, sentences in self.notes.items():
+            lines += [f"  note ({topic}): {s}" for s in sentences]
+        return "\n".join(lines)
+
+    def _repr_html_(self) -> str:
+        import html
+
+        return "<pre>" + html.escape(repr(self)) + "</pre>"
 
 
 def first_line(exc: Exception) -> str:

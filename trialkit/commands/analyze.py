@@ -1,7 +1,9 @@
 """``trialkit analyze DIR_OR_TABLE``: ANOVA, effects, surfaces and the best recipe.
 
 Thin: reads the trial folder or table, calls :func:`trialkit.analysis.pipeline.analyze_table`
-and prints its console summary or JSON.
+and prints its console summary or JSON.  With ``--all`` (trial folders) it prints the
+analysis of the whole trial, :func:`trialkit.analysis.trial_analysis.analyze`: the object
+the report renders.
 """
 
 from __future__ import annotations
@@ -41,6 +43,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--compromise", action="store_true",
                         help="trial folders: best Derringer-Suich compromise of every "
                         "response that has lower and upper limits")
+    parser.add_argument("--all", dest="whole_trial", action="store_true",
+                        help="trial folders: every response, the recommendation and the "
+                        "notes, as the report shows them")
     parser.add_argument("--json", action="store_true", help="print JSON")
 
 
@@ -55,6 +60,8 @@ def run(args: argparse.Namespace) -> int:
     )
 
     path = Path(args.source)
+    if args.whole_trial:
+        return _whole_trial(args, path)
     if path.is_dir():
         source = from_trial_folder(path)
         if args.factor:
@@ -88,6 +95,20 @@ def run(args: argparse.Namespace) -> int:
         print_json(out)
     else:
         print(result.text())
+    return 0
+
+
+def _whole_trial(args: argparse.Namespace, path: Path) -> int:
+    from trialkit.analysis.trial_analysis import analyze
+    from trialkit.exceptions import AnalysisError
+
+    if not path.is_dir():
+        raise AnalysisError(f"--all needs a trial folder; {path} is not one")
+    result = analyze(path, n_boot=args.bootstrap)
+    if args.json:
+        print_json(result.to_dict())
+    else:
+        print(repr(result))
     return 0
 
 

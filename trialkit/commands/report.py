@@ -52,6 +52,7 @@ def _bath_results(path: str, folder: str):
 
 
 def run(args: argparse.Namespace) -> int:
+    from trialkit.analysis.trial_analysis import analyze
     from trialkit.report.build import build_report
     from trialkit.report.document import ReportError
 
@@ -70,8 +71,8 @@ def run(args: argparse.Namespace) -> int:
         if not Path(args.confirmation).exists():
             raise ResponseError(f"confirmation file {args.confirmation!r} not found")
         confirmation = pd.read_csv(args.confirmation)
-    report = build_report(args.folder, baths=baths, confirmation=confirmation,
-                          n_boot=args.bootstrap)
+    report = build_report(analyze(args.folder, baths=baths, confirmation=confirmation,
+                                  n_boot=args.bootstrap))
     out = report.write(args.out, markdown=args.markdown)
     if args.json:
         from trialkit.commands._output import print_json

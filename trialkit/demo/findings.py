@@ -1,92 +1,58 @@
-"""Key findings of one demo trial: :func:`analyse_demo_trial` (plain data for the result).
+"""Key findings of one demo trial, read off its :class:`TrialAnalysis` (plain data).
 
-The report does the full analysis; these few numbers go into the demo's result and its
-``analysis.json`` so that a run can be checked and compared at a glance.
+The report renders the same analysis in full; these few numbers go into the demo's result
+and its ``analysis.json`` so that a run can be checked and compared at a glance, and they
+cannot disagree with the report because both read one object.
 """
 
 from __future__ import annotations
 
-from typing import Any
-
-import pandas as pd
-
-from trialkit.exceptions import TrialkitError
-
-TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
-#: Alpha of the demo's significance statements.
-ALPHA = 0.05
+from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis
 
 
-def _message(exc: BaseException) -> str:
-    text = str(exc).strip()
-    return text.splitlines()[0] if text else type(exc).__name__
+def _error_for(data: TrialAnalysis, name: str) -> str:
+    said = [s.split(": ", 1)[-1] for s in data.notes.get("analysis", [])
+            if s.startswith(f"{name}: ")]
+    return said[0] if said else "not analysed"
 
 
-def _bath_table(plan: Any, responses: Any) -> pd.DataFrame:
-    table = plan.baths.copy()
-    table["bath"] = table["bath"].astype(str)
-    for spec in plan.trial.responses:
-        try:
-            values = responses.bath_values(spec.measure or spec.name)
-        except TrialkitError:
-            continue
-        table[spec.name] = table["bath"].map(values.to_dict())
-    return table[~table["point"].isin(["control", "reference"])].reset_index(drop=True)
+def demo_findings(data: TrialAnalysis) -> dict:
+    """Key findings per response with an aim of higher or lower (plain data).
 
-
-def analyse_demo_trial(plan: Any, responses: Any, *, alpha: float = ALPHA,
-                       n_boot: int = 400) -> dict:
-    """Key findings per response of a demo trial (plain data).
-
-    Sweeps: the best level and its Fieller interval; two-level designs: the factors whose
-    main effect is significant at ``alpha`` (main-effects model); surfaces: the best point
-    of the quadratic surface and its bootstrap interval.  A response that cannot be
-    analysed gets ``{"error": sentence}``.
+    Sweeps: the best level, its Fieller interval and the lean level; two-level designs:
+    the p-value of every factor in the trial's model and the factors significant at the
+    trial's alpha; surfaces: the best point of the fitted surface (with its bootstrap
+    interval when the analysis drew one).  A response that could not be analysed gets
+    ``{"error": sentence}``.
     """
-    from trialkit.analysis.model import fit_model
-    from trialkit.analysis.pipeline import analyze_table
-
-    trial = plan.trial
-    table = _bath_table(plan, responses)
+    trial = data.trial
     kind = trial.design.kind
-    cont = [f for f in trial.factors if f.is_continuous]
     out: dict = {}
     for spec in trial.responses:
-        if spec.aim not in ("higher", "lower") or spec.name not in table:
+        if spec.aim not in ("higher", "lower"):
             continue
-        if table[spec.name].notna().sum() < 3:
-            out[spec.name] = {"error": "fewer than three baths have a value"}
-            continue
-        try:
-            if kind == "sweep":
-                res = analyze_table(table, spec.name, trial.factors, sweep=cont[0].name,
-                                    aim=spec.aim, alpha=alpha, n_boot=0,
-                                    seed=int(trial.seed or 0))
-                sw = res.sweep
-                out[spec.name] = {"factor": sw.factor.name, "best": float(sw.best),
-                                  "interval": [float(sw.fieller_low), float(sw.fieller_high)],
-                                  "lean_level": float(sw.lean_level)}
-            elif kind in TWO_LEVEL_KINDS:
-                fit = fit_model(table, spec.name, trial.factors, "main", alpha=alpha)
-                p = fit.anova(2).summary.set_index("term")["p"]
-                p = p[[f.name for f in trial.factors if f.name in p.index]]
-                out[spec.name] = {"p_values": {k: float(v) for k, v in p.items()},
-                                  "active": [k for k, v in p.items() if v < alpha]}
-            else:
-                res = analyze_table(table, spec.name, trial.factors, model="quadratic",
-                                    aim=spec.aim, alpha=alpha, n_boot=n_boot,
-                                    seed=int(trial.seed or 0))
-                if res.surface is None:
-                    out[spec.name] = {"error": "no second-order surface could be fitted"}
-                    continue
-                s = res.surface
-                boot = s.bootstrap
-                out[spec.name] = {
-                    "optimum": {k: float(v) for k, v in s.optimum["settings"].items()},
-                    "kind": s.kind,
-                    "interval": ({} if boot is None else
-                                 {r.factor: [float(r.low), float(r.high)]
-                                  for r in boot.itertuples()})}
-        except TrialkitError as exc:
-            out[spec.name] = {"error": _message(exc)}
+        name = spec.name
+        res = data.results.get(name)
+        if res is None:
+            out[name] = {"error": _error_for(data, name)}
+        elif res.sweep is not None:
+            sw = res.sweep
+            out[name] = {"factor": sw.factor.name, "best": float(sw.best),
+                         "interval": [float(sw.fieller_low), float(sw.fieller_high)],
+                         "lean_level": float(sw.lean_level)}
+        elif kind in TWO_LEVEL_KINDS:
+            table = res.fit.anova(res.anova_type).summary.set_index("term")["p"]
+            p = {f.name: float(table[f.name]) for f in trial.factors if f.name in table.index}
+            out[name] = {"p_values": p, "active": [k for k, v in p.items() if v < res.fit.alpha]}
+        elif res.surface is not None:
+            s = res.surface
+            boot = s.bootstrap
+            out[name] = {
+                "optimum": {k: float(v) for k, v in s.optimum["settings"].items()},
+                "kind": s.kind,
+                "interval": ({} if boot is None else
+                             {r.factor: [float(r.low), float(r.high)]
+                              for r in boot.itertuples()})}
+        else:
+            out[name] = {"error": "no sweep, screening or surface model for this design"}
     return out

@@ -31,7 +31,7 @@ from typing import Any
 
 import pandas as pd
 
-from trialkit.demo.findings import analyse_demo_trial
+from trialkit.demo.findings import demo_findings
 from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data, settings_text
 from trialkit.exceptions import TrialkitError
 
@@ -120,6 +120,7 @@ class _Runner:
         self.plan = None
         self.config = None
         self.responses = None
+        self.analysis = None
         self.blocked: str | None = None
 
     def record(self, name: str, status: str, detail: str = "") -> None:
@@ -278,7 +279,11 @@ class _Runner:
         return f"{len(baths)} baths, {n} problems in the readings{extra}"
 
     def _analysis(self) -> str:
-        findings = analyse_demo_trial(self.plan, self.responses)
+        from trialkit.analysis.trial_analysis import analyze
+
+        # computed once, from the responses computed once: the report renders this object
+        self.analysis = analyze(self.t.folder, responses=self.responses)
+        findings = demo_findings(self.analysis)
         self.t.numbers["findings"] = findings
         path = self.t.folder / "analysis.json"
         path.write_text(json.dumps(plain_data(findings), indent=1, sort_keys=True) + "\n",
@@ -301,7 +306,7 @@ class _Runner:
             from trialkit.report.build import build_report
         except ImportError:
             raise _Skip("the report module is not in this build", blocks=False) from None
-        report = build_report(self.t.folder)
+        report = build_report(self.analysis)
         out = report.write(self.t.folder / "report.html")
         self.t.paths["report"] = out
         rec = report.data.get("recommendation")

@@ -13,8 +13,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from trialkit.analysis.recommend import check_confirmation
-from trialkit.analysis.trial_analysis import TrialData, analyse, load_inputs
+from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report import figure_list as figs
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import effects_findings, model_findings, pretty_unit
@@ -36,36 +35,19 @@ NOT_THE_LAST_WORD = ("This recommendation summarises a bench trial. It is not a 
                      "licensed practice, which take precedence.")
 
 
-def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | None = None,
-                 timecourse: pd.DataFrame | None = None, confirmation=None,
-                 n_boot: int = 0) -> Report:
-    """The report of the trial in ``folder``.
+def build_report(data: TrialAnalysis) -> Report:
+    """The report of an analysed trial (it renders; it computes nothing).
 
     Parameters
     ----------
-    folder : path
-        Trial folder (holding ``trial.toml``) or the trial file itself.
-    responses : trialkit.responses.compute.Responses, optional
-        Computed responses; by default computed from the folder's record log.
-    baths : DataFrame, optional
-        Instead of ``responses``: one row per bath with the plan's columns and one column
-        per trial response (by its name).
-    timecourse : DataFrame, optional
-        Coverage readings over time (``bath, elapsed_h, coverage_pct``).
-    confirmation : Responses or DataFrame, optional
-        Confirmation baths (their responses, or their coupon readings) run at one
-        setting; checked against the prediction intervals.
-    n_boot : int
-        Bootstrap resamples for the best point's interval (0: none).
+    data : TrialAnalysis
+        From :func:`trialkit.analyze` (``trialkit.analysis.trial_analysis.analyze``).
 
     Returns
     -------
     Report
         ``write(path)`` writes the self-contained HTML page.
     """
-    data = analyse(load_inputs(folder, responses=responses, baths=baths,
-                               timecourse=timecourse), n_boot=n_boot)
-    check_confirmation(data, confirmation)
     findings = _findings(data)
     sections = [
         Section("brief", SECTION_TITLES["brief"], _brief(data)),
@@ -79,25 +61,22 @@ def build_report(folder: str | Path, *, responses=None, baths: pd.DataFrame | No
     ]
     trial = data.trial
     sub = f"Trial report · plan {data.plan.fingerprint} · seed {trial.seed}"
-    rec = data.recommendation
     payload = {"findings": [f.to_dict() for f in findings],
-               "recommendation": None if rec is None else {
-                   "settings": rec["settings"], "source": rec["source"],
-                   "predictions": rec["predictions"].to_dict("records")},
+               "recommendation": data.recommendation_dict(),
                "confirmation": {k: v.to_dict() for k, v in data.confirmations.items()},
                "fingerprint": data.plan.fingerprint, "seed": trial.seed,
                "notes": {k: list(v) for k, v in data.notes.items()}}
     return Report(trial.title, sections, sub, payload)
 
 
-def write_report(folder: str | Path, out: str | Path, *, markdown: str | Path | None = None,
-                 **kw) -> Path:
-    """Build the report of ``folder`` and write it to ``out`` (HTML) and ``markdown``."""
-    return build_report(folder, **kw).write(out, markdown=markdown)
+def write_report(data: TrialAnalysis, out: str | Path, *,
+                 markdown: str | Path | None = None) -> Path:
+    """Render the report of ``data`` and write it to ``out`` (HTML) and ``markdown``."""
+    return build_report(data).write(out, markdown=markdown)
 
 
 # -- sections ---------------------------------------------------------------------------
-def _notes(data: TrialData, *topics: str) -> list[Block]:
+def _notes(data: TrialAnalysis, *topics: str) -> list[Block]:
     return [Block.note(t) for topic in topics for t in data.notes.get(topic, [])]
 
 
@@ -108,7 +87,7 @@ def _levels(f) -> str:
     return ", ".join(map(str, f.levels))
 
 
-def _brief(data: TrialData) -> list[Block]:
+def _brief(data: TrialAnalysis) -> list[Block]:
     t, p = data.trial, data.plan
     lay = t.layout
     baths = p.baths
@@ -136,7 +115,7 @@ def _brief(data: TrialData) -> list[Block]:
     return blocks + _notes(data, "plan")
 
 
-def _findings(data: TrialData) -> list:
+def _findings(data: TrialAnalysis) -> list:
     out = []
     for name, fit in data.fits.items():
         unit = data.unit(name)
@@ -179,7 +158,7 @@ def _size(x: float, unit: str) -> str:
     return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {pretty_unit(unit)}".rstrip()
 
 
-def _matters(data: TrialData, findings) -> list[Block]:
+def _matters(data: TrialAnalysis, findings) -> list[Block]:
     if not data.fits:
         why = "no responses to analyse yet" if data.baths is None else \
             "no model could be fitted to the responses"
@@ -204,7 +183,7 @@ def _matters(data: TrialData, findings) -> list[Block]:
     return blocks + _notes(data, "analysis", "kinetics")
 
 
-def _models(data: TrialData) -> list[Block]:
+def _models(data: TrialAnalysis) -> list[Block]:
     if not data.fits:
         return [Block.note("no model was fitted (see above)")]
     blocks = []
@@ -231,7 +210,7 @@ def _models(data: TrialData) -> list[Block]:
     return blocks
 
 
-def _diagnostic_text(data: TrialData, name: str) -> list[Block]:
+def _diagnostic_text(data: TrialAnalysis, name: str) -> list[Block]:
     res = data.results.get(name)
     out = []
     red = getattr(res, "reduction", None)
@@ -266,7 +245,7 @@ def _diagnostic_text(data: TrialData, name: str) -> list[Block]:
     return out
 
 
-def _recipe(data: TrialData) -> list[Block]:
+def _recipe(data: TrialAnalysis) -> list[Block]:
     rec = data.recommendation
     if rec is None:
         return [Block.note("no recommendation: no response has been analysed yet")] + \
@@ -300,7 +279,7 @@ def _recipe(data: TrialData) -> list[Block]:
     return blocks + _notes(data, "recipe")
 
 
-def _confirm(data: TrialData) -> list[Block]:
+def _confirm(data: TrialAnalysis) -> list[Block]:
     rec = data.recommendation
     if rec is None:
         return [Block.note("nothing to confirm until a recipe is recommended")]
@@ -342,7 +321,7 @@ def _confirm(data: TrialData) -> list[Block]:
                          "intervals)")]
 
 
-def _safety(data: TrialData) -> list[Block]:
+def _safety(data: TrialAnalysis) -> list[Block]:
     from trialkit.chemistry.cautions import cautions_for
 
     items = list(data.recipe.cautions) if data.recipe is not None else []

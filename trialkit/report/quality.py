@@ -6,14 +6,14 @@ from __future__ import annotations
 
 import pandas as pd
 
-from trialkit.analysis.trial_data import TrialData
+from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report.document import Block
 
 ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")
 ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")
 
 
-def readings_blocks(data: TrialData) -> list[Block]:
+def readings_blocks(data: TrialAnalysis) -> list[Block]:
     """How complete the readings are: counts, missing readings, revisions, flags."""
     blocks: list[Block] = []
     if data.log is None:

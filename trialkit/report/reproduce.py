@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from trialkit.analysis.trial_data import TrialData
+from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report.document import Block
 
 PACKAGES = ("numpy", "scipy", "pandas", "statsmodels", "matplotlib", "seaborn", "jinja2",
@@ -34,7 +34,7 @@ def _version(name: str) -> str:
         return "not installed"
 
 
-def reproduce_blocks(data: TrialData) -> list[Block]:
+def reproduce_blocks(data: TrialAnalysis) -> list[Block]:
     """Versions, seed, fingerprint and every source file with its SHA-256."""
     import trialkit
 
