@@ -6,38 +6,19 @@ import json
 
 import pytest
 from scipy import stats
+from trial_texts import trial_text
 
 from trialkit.cli import main
-
-TRIAL = """
-[trial]
-title = "{title}"
-seed = 4
-notes = "invented example"
-[[factor]]
-name = "chelator"
-unit = "% w/v"
-low = 2
-high = 10
-[[factor]]
-name = "ph"
-low = 5.5
-high = 7.5
-[design]
-kind = "full-factorial"
-[layout]
-replicates = {replicates}
-controls = ["untreated"]
-{extra}
-"""
 
 
 def _write(tmp_path, name, replicates=2, extra="", title=None):
     folder = tmp_path / name
     folder.mkdir()
     path = folder / "trial.toml"
-    path.write_text(TRIAL.format(title=title or name, replicates=replicates, extra=extra),
-                    encoding="utf-8")
+    path.write_text(trial_text("chelator", "ph", title=title or name, seed=4,
+                               notes="invented example",
+                               layout=f"replicates = {replicates}\ncontrols = [\"untreated\"]",
+                               extra=extra), encoding="utf-8")
     return path
 
 

@@ -8,6 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 from scipy import stats
+from trial_texts import FACTORS, trial_text
 
 from trialkit.exceptions import ModelSpecError, PlanError
 from trialkit.planning.evaluation import design_model, evaluate_design, evaluate_plan
@@ -15,34 +16,10 @@ from trialkit.planning.plan import make_plan
 from trialkit.trial.factors import Factor
 from trialkit.trial.file import parse_trial_text
 
-TWO_FACTOR = """
-[trial]
-title = "Chelator and pH, invented example"
-seed = 5
-[[factor]]
-name = "chelator"
-unit = "% w/v"
-low = 2
-high = 10
-[[factor]]
-name = "ph"
-low = 5.5
-high = 7.5
-[[factor]]
-name = "temperature"
-unit = "degC"
-low = 20
-high = 40
-[design]
-kind = "full-factorial"
-[layout]
-replicates = {replicates}
-blocks = {blocks}
-center_points = {center}
-controls = {controls}
-coupons_per_bath = 2
-witness_coupons = 1
-"""
+TWO_FACTOR = trial_text(
+    "chelator", "ph", "temperature",
+    layout="replicates = {replicates}\nblocks = {blocks}\ncenter_points = {center}\n"
+           "controls = {controls}\ncoupons_per_bath = 2\nwitness_coupons = 1")
 
 
 def _plan(replicates=1, blocks=1, center=0, controls="[]", extra=""):
@@ -194,7 +171,7 @@ def test_fractional_plan_reports_resolution_aliases_and_unestimable_interactions
     # (e-Handbook 5.3.3.4.3 fraction table, carried by the designs module)
     text = TWO_FACTOR.format(replicates=1, blocks=1, center=0, controls="[]").replace(
         'kind = "full-factorial"', 'kind = "fractional-factorial"\nresolution = 4') + \
-        '[[factor]]\nname = "agitation"\nunit = "rpm"\nlow = 0\nhigh = 200\n'
+        FACTORS["agitation"]
     plan = make_plan(parse_trial_text(text))
     main = evaluate_plan(plan, model="main", sd=1.0, effects=2.0)
     assert main.resolution == 4 and main.aliases

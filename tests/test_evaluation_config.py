@@ -3,6 +3,7 @@ real files in tmp_path."""
 
 import numpy as np
 import pytest
+from trial_texts import trial_text
 
 from trialkit.exceptions import TrialFileError
 from trialkit.planning.evaluation import evaluate_plan
@@ -10,29 +11,9 @@ from trialkit.planning.evaluation_config import EvaluationSettings
 from trialkit.planning.plan import make_plan
 from trialkit.trial.file import load_trial
 
-TWO_FACTOR = """
-[trial]
-title = "Chelator, pH, temperature, invented example"
-seed = 5
-[[factor]]
-name = "chelator"
-unit = "% w/v"
-low = 2
-high = 10
-[[factor]]
-name = "ph"
-low = 5.5
-high = 7.5
-[[factor]]
-name = "temperature"
-unit = "degC"
-low = 20
-high = 40
-[design]
-kind = "full-factorial"
-[layout]
-replicates = 2
-"""
+TWO_FACTOR = trial_text("chelator", "ph", "temperature",
+                        title="Chelator, pH, temperature, invented example",
+                        layout="replicates = 2")
 
 
 def test_evaluation_section_is_used(tmp_path):
