@@ -25,6 +25,7 @@ from trialkit.planning.designs.options import DESIGN_OPTIONS
 from trialkit.planning.designs.space import LHS_SPREADS
 from trialkit.planning.evaluation import evaluate_design
 from trialkit.trial import file as trialfile
+from trialkit.trial import section_checks
 from trialkit.trial.factors import Factor
 from trialkit.trial.retired_names import RETIRED_KEYS, RETIRED_VALUES
 
@@ -68,8 +69,8 @@ def test_the_retired_tables_name_every_retired_word():
 
 
 def test_trial_file_keys_and_values_use_the_new_names():
-    assert _hits(list(trialfile.AIMS) + list(LHS_SPREADS), RETIRED_VALUE_NAMES) == []
-    words = list(trialfile.RESPONSE_KEYS) + list(trialfile.TOP_LEVEL)
+    assert _hits(list(section_checks.AIMS) + list(LHS_SPREADS), RETIRED_VALUE_NAMES) == []
+    words = list(section_checks.RESPONSE_KEYS) + list(trialfile.TOP_LEVEL)
     for kind, options in DESIGN_OPTIONS.items():
         words += [k for k in options if (kind, k) not in KEYS_STILL_USED_ELSEWHERE]
     words += [k for k in OPTION_DESCRIPTIONS if ("optimal", k) not in KEYS_STILL_USED_ELSEWHERE]
@@ -86,7 +87,7 @@ def test_bundled_trial_files_use_the_new_names(path):
     # an optimal design's "criterion" (D or I) is the published term and stays
     assert _hits(keys, RETIRED_KEY_NAMES - {"criterion"}) == []
     assert _hits(values, RETIRED_VALUE_NAMES) == []
-    assert all(r.get("aim") in trialfile.AIMS for r in doc.get("response", []))
+    assert all(r.get("aim") in section_checks.AIMS for r in doc.get("response", []))
 
 
 def test_command_line_options_use_the_new_names():

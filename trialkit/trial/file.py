@@ -27,17 +27,22 @@ Examples
 from __future__ import annotations
 
 import importlib
-import re
 import tomllib
 from pathlib import Path
 from typing import Any
 
 from trialkit.exceptions import TrialFileError
-from trialkit.problems import ProblemReport, did_you_mean
-from trialkit.trial.factors import CATEGORICAL, CONTINUOUS, FACTOR_KINDS, Factor
-from trialkit.trial.retired_names import retired_key_hint, retired_value_hint
+from trialkit.problems import ProblemReport
+from trialkit.trial.factors import Factor
+from trialkit.trial.section_checks import (
+    check_block_fit,
+    check_coupons,
+    check_factors,
+    check_layout,
+    check_responses,
+    unknown_keys,
+)
 from trialkit.trial.spec import CouponSpec, DesignSpec, Layout, ResponseSpec, Trial
-from trialkit.units import UnitError, check_unit, to_unit
 
 __all__ = ["CouponSpec", "DesignSpec", "Layout", "ResponseSpec", "Trial", "find_trial_file",
            "load_trial", "parse_trial_text", "SECTION_PARSERS", "TRIAL_FILE_NAME"]
@@ -59,17 +64,6 @@ DESIGN_CHECKER = "trialkit.planning.designs.options:check_design_section"
 
 TOP_LEVEL = ("trial", "factor", "design", "layout", "response", "coupons", *SECTION_PARSERS)
 TRIAL_KEYS = ("title", "seed", "question", "notes", "operator")
-FACTOR_KEYS = ("name", "kind", "unit", "low", "high", "levels", "description")
-LAYOUT_KEYS = ("replicates", "blocks", "block_label", "center_points", "controls",
-               "coupons_per_bath", "witness_coupons")
-RESPONSE_KEYS = ("name", "unit", "aim", "unacceptable", "satisfactory", "ideal", "shape",
-                 "priority", "measure", "description")
-COUPON_KEYS = ("shape", "length", "width", "thickness", "diameter", "holes", "area", "metal",
-               "cleaning_cycles", "description")
-COUPON_SHAPES = ("plate", "disc", "cylinder", "bar", "given")
-CONTROL_KINDS = ("untreated", "reference")
-AIMS = ("higher", "lower", "on-target", "record-only")
-NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
 
 
 # -- public entry points -----------------------------------------------------------------
@@ -122,43 +116,16 @@ def parse_trial_text(text: str, source: str | Path = "<text>") -> Trial:
 
 
 # -- checks ------------------------------------------------------------------------------
-def _unknown_keys(table: dict, allowed: tuple[str, ...], where: str, p: ProblemReport,
-                  section: str = "") -> None:
-    for key in table:
-        if key not in allowed:
-            hint = retired_key_hint(section, key)
-            p.add(f"{where}.{key}" if where else key,
-                  f"retired key {key!r}" if hint else f"unknown key {key!r}", value=key,
-                  fix=hint or did_you_mean(key, list(allowed)),
-                  check="retired_key" if hint else "unknown_key")
 
 
-def _int(table: dict, key: str, where: str, p: ProblemReport, default: int, minimum: int) -> int:
-    value = table.get(key, default)
-    if isinstance(value, bool) or not isinstance(value, int):
-        p.add(f"{where}.{key}", f"{key} must be a whole number", value=value,
-              fix=f"write e.g. {key} = {max(default, minimum)}", check="not_integer")
-        return default
-    if value < minimum:
-        p.add(f"{where}.{key}", f"{key} must be at least {minimum}", value=value,
-              fix=f"use {minimum} or more", check="too_small")
-        return default
-    return value
 
 
-def _number(value: Any, where: str, p: ProblemReport, what: str) -> float | None:
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        p.add(where, f"{what} must be a number", value=value,
-              fix="write a plain number without quotes or units (the unit has its own key)",
-              check="not_number")
-        return None
-    return float(value)
 
 
 def _check_document(doc: dict, p: ProblemReport, path: Path | None) -> Trial:
-    _unknown_keys(doc, TOP_LEVEL, "", p)
+    unknown_keys(doc, TOP_LEVEL, "", p)
     head = _table(doc, "trial", p, required=True)
-    _unknown_keys(head, TRIAL_KEYS, "trial", p)
+    unknown_keys(head, TRIAL_KEYS, "trial", p)
     title = head.get("title", "")
     if not isinstance(title, str) or not title.strip():
         p.add("trial.title", "the trial needs a title", value=title,
@@ -174,13 +141,13 @@ def _check_document(doc: dict, p: ProblemReport, path: Path | None) -> Trial:
               fix="write e.g. seed = 20261201", check="bad_seed")
         seed = 0
 
-    factors = _check_factors(doc.get("factor", []), p)
+    factors = check_factors(doc.get("factor", []), p)
     design = _check_design(doc, factors, p)
-    layout = _check_layout(doc.get("layout", {}), p)
-    responses = _check_responses(doc.get("response", []), p)
-    coupons = _check_coupons(doc["coupons"], p) if "coupons" in doc else None
+    layout = check_layout(doc.get("layout", {}), p)
+    responses = check_responses(doc.get("response", []), p)
+    coupons = check_coupons(doc["coupons"], p) if "coupons" in doc else None
     if layout.blocks > 1 and layout.replicates % layout.blocks and design is not None:
-        _check_block_fit(design, factors, layout, p)
+        check_block_fit(design, factors, layout, p)
 
     trial = Trial(path=path, title=title, seed=int(seed), factors=tuple(factors),
                   design=design or DesignSpec("full-factorial"), layout=layout,
@@ -207,107 +174,10 @@ def _table(doc: dict, key: str, p: ProblemReport, required: bool = False) -> dic
     return value
 
 
-def _named_tables(raw: Any, section: str, allowed: tuple[str, ...], example: str,
-                  p: ProblemReport):
-    """Yield ``(table, name, where)`` for each well-formed ``[[section]]`` with a unique name."""
-    seen: set[str] = set()
-    for i, table in enumerate(raw, start=1):
-        where = f"{section}[{i}]"
-        if not isinstance(table, dict):
-            p.add(where, f"each {section} must be a [[{section}]] table", check="not_table")
-            continue
-        _unknown_keys(table, allowed, where, p, section)
-        name = table.get("name")
-        if not isinstance(name, str) or not NAME_PATTERN.match(name):
-            p.add(f"{where}.name", f"a {section} name must start with a letter and use only "
-                  "letters, digits and _", value=name, check="bad_name",
-                  fix=f'write e.g. name = "{example}"')
-            continue
-        where = f"{section}[{i}] ({name})"
-        if name.lower() in seen:
-            p.add(f"{where}.name", f"{section} name {name!r} is used twice", value=name,
-                  check="duplicate_name", fix=f"give every {section} its own name")
-        seen.add(name.lower())
-        yield table, name, where
 
 
-def _check_factors(raw: Any, p: ProblemReport) -> list[Factor]:
-    if not isinstance(raw, list) or not raw:
-        p.add("factor", "the trial needs at least one [[factor]]", check="no_factors",
-              fix='add [[factor]] with name, unit, low and high (or levels = ["a", "b"])')
-        return []
-    factors: list[Factor] = []
-    for table, name, where in _named_tables(raw, "factor", FACTOR_KEYS, "chelator", p):
-        f = _check_one_factor(table, name, where, p)
-        if f is not None:
-            factors.append(f)
-    return factors
 
 
-def _check_one_factor(table: dict, name: str, where: str, p: ProblemReport) -> Factor | None:
-    kind = table.get("kind")
-    levels = table.get("levels", [])
-    if kind is None:
-        kind = CATEGORICAL if levels and all(isinstance(v, str) for v in levels) else CONTINUOUS
-    if kind not in FACTOR_KINDS:
-        p.add(f"{where}.kind", f"unknown factor kind {kind!r}", value=kind, check="bad_kind",
-              fix=did_you_mean(str(kind), list(FACTOR_KINDS)))
-        return None
-    unit = table.get("unit", "")
-    if unit:
-        try:
-            unit = check_unit(str(unit))
-        except UnitError as exc:
-            p.add(f"{where}.unit", str(exc), value=unit, check="unknown_unit",
-                  fix="use a unit pint knows (g/L, degC, min, h) or '% w/v', '% w/w', 'pH'")
-    description = str(table.get("description", ""))
-    if kind == CONTINUOUS:
-        ok = True
-        for key in ("low", "high"):
-            if key not in table:
-                p.add(f"{where}.{key}", f"a continuous factor needs {key}", check="missing_key",
-                      fix=f"add {key} = <number in {unit or 'its unit'}>")
-                ok = False
-        if not ok:
-            return None
-        low = _number(table["low"], f"{where}.low", p, "low")
-        high = _number(table["high"], f"{where}.high", p, "high")
-        if low is None or high is None:
-            return None
-        if low >= high:
-            p.add(f"{where}.low", f"low must be below high for {name!r}",
-                  value=f"low = {low:g}, high = {high:g}", check="low_not_below_high",
-                  fix="swap low and high, or widen the range")
-            return None
-        nums: list[float] = []
-        if levels:
-            if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in levels):
-                p.add(f"{where}.levels", "levels of a continuous factor must be numbers",
-                      value=levels, check="bad_levels",
-                      fix='for text levels write kind = "categorical"')
-                return None
-            nums = [float(v) for v in levels]
-            if len(set(nums)) != len(nums) or any(v < low or v > high for v in nums):
-                p.add(f"{where}.levels", f"levels must be distinct and within {low:g}..{high:g}",
-                      value=levels, check="bad_levels", fix="remove repeats; widen low/high")
-                return None
-        return Factor.continuous(name, low, high, unit=unit, levels=sorted(nums),
-                                 description=description)
-    for key in ("low", "high"):
-        if key in table:
-            p.add(f"{where}.{key}", f"a {kind} factor has levels, not {key}", check="bad_key",
-                  fix="remove low/high or make the factor continuous")
-    if not isinstance(levels, list) or len(levels) < 2:
-        p.add(f"{where}.levels", f"a {kind} factor needs at least two levels", value=levels,
-              check="too_few_levels", fix='write levels = ["none", "added"]')
-        return None
-    labels = [str(v) for v in levels]
-    if len(set(labels)) != len(labels):
-        p.add(f"{where}.levels", "levels must be distinct", value=levels,
-              check="duplicate_level", fix="remove the repeated level")
-        return None
-    make = Factor.categorical if kind == CATEGORICAL else Factor.ordinal
-    return make(name, labels, description=description)
 
 
 def _check_design(doc: dict, factors: list[Factor], p: ProblemReport) -> DesignSpec | None:
@@ -317,190 +187,18 @@ def _check_design(doc: dict, factors: list[Factor], p: ProblemReport) -> DesignS
     return _resolve(DESIGN_CHECKER)(table, factors, p)
 
 
-def _check_layout(table: Any, p: ProblemReport) -> Layout:
-    if not isinstance(table, dict):
-        p.add("layout", "[layout] must be a table", check="not_table")
-        return Layout()
-    _unknown_keys(table, LAYOUT_KEYS, "layout", p)
-    controls = table.get("controls", [])
-    if isinstance(controls, str):
-        controls = [controls]
-    good_controls: list[str] = []
-    if not isinstance(controls, list):
-        p.add("layout.controls", "controls must be a list", value=controls, check="bad_controls",
-              fix='write controls = ["untreated", "reference"]')
-    else:
-        for c in controls:
-            if c not in CONTROL_KINDS:
-                p.add("layout.controls", f"unknown control {c!r}", value=c, check="bad_control",
-                      fix=did_you_mean(str(c), list(CONTROL_KINDS)))
-            elif c in good_controls:
-                p.add("layout.controls", f"control {c!r} listed twice", value=c,
-                      check="duplicate_control", fix="list each control once")
-            else:
-                good_controls.append(c)
-    layout = Layout(
-        replicates=_int(table, "replicates", "layout", p, 1, 1),
-        blocks=_int(table, "blocks", "layout", p, 1, 1),
-        block_label=str(table.get("block_label", "block")),
-        center_points=_int(table, "center_points", "layout", p, 0, 0),
-        controls=tuple(good_controls),
-        coupons_per_bath=_int(table, "coupons_per_bath", "layout", p, 1, 0),
-        witness_coupons=_int(table, "witness_coupons", "layout", p, 0, 0),
-    )
-    if layout.coupons_per_bath + layout.witness_coupons == 0:
-        p.add("layout.coupons_per_bath", "every bath needs at least one coupon", value=0,
-              check="no_coupons", fix="set coupons_per_bath = 1 (or witness_coupons = 1)")
-    return layout
 
 
-def _check_block_fit(design: DesignSpec, factors: list[Factor], layout: Layout,
-                     p: ProblemReport) -> None:
-    two_level = design.kind in ("full-factorial", "fractional-factorial", "plackett-burman")
-    power_of_two = layout.blocks & (layout.blocks - 1) == 0
-    if not (two_level and power_of_two):
-        p.add("layout.blocks", f"{layout.blocks} blocks with {layout.replicates} replicate(s) "
-              f"cannot be laid out for a {design.kind} design",
-              value=f"blocks = {layout.blocks}, replicates = {layout.replicates}",
-              check="blocks_do_not_fit",
-              fix="make replicates a multiple of blocks (each block then holds whole "
-                  "replicates), or use 2, 4 or 8 blocks with a two-level design")
 
 
-def _check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
-    if not isinstance(raw, list):
-        p.add("response", "responses must be [[response]] tables", check="not_table")
-        return []
-    out: list[ResponseSpec] = []
-    for table, name, where in _named_tables(raw, "response", RESPONSE_KEYS, "removal", p):
-        unit = str(table.get("unit", ""))
-        if unit:
-            try:
-                unit = check_unit(unit)
-            except UnitError as exc:
-                p.add(f"{where}.unit", str(exc), value=unit, check="unknown_unit",
-                      fix="use a unit pint knows, e.g. 'g/m**2', 'mm/yr', 'h', or '%'")
-        aim = table.get("aim", "higher")
-        if aim not in AIMS:
-            p.add(f"{where}.aim", f"unknown aim {aim!r}", value=aim, check="bad_aim",
-                  fix=(retired_value_hint("response.aim", aim)
-                       or did_you_mean(str(aim), list(AIMS))))
-            aim = "record-only"
-        nums: dict[str, float | None] = {}
-        for key in ("satisfactory", "ideal", "shape", "priority"):
-            nums[key] = (_number(table[key], f"{where}.{key}", p, key)
-                         if key in table else None)
-        unacceptable = _unacceptable(table, aim, where, p)
-        if aim == "on-target" and nums["ideal"] is None:
-            p.add(f"{where}.ideal", 'aim = "on-target" needs the ideal value',
-                  check="missing_ideal", fix="add ideal = <value>")
-        if aim == "on-target" and "satisfactory" in table:
-            p.add(f"{where}.satisfactory", "an on-target aim is fully satisfied only at its "
-                  "ideal", value=table["satisfactory"], check="satisfactory_on_target",
-                  fix="remove satisfactory; give ideal and unacceptable = [below, above]")
-        _check_aim_limits(aim, unacceptable, nums, where, p)
-        for key in ("shape", "priority"):
-            if nums[key] is not None and nums[key] <= 0:
-                p.add(f"{where}.{key}", f"{key} must be positive", value=nums[key],
-                      check="not_positive", fix=f"use e.g. {key} = 1")
-                nums[key] = None
-        out.append(ResponseSpec(
-            name=name, unit=unit, aim=aim, unacceptable=unacceptable,
-            satisfactory=nums["satisfactory"], ideal=nums["ideal"],
-            shape=nums["shape"] or 1.0, priority=nums["priority"] or 1.0,
-            measure=str(table.get("measure", name)),
-            description=str(table.get("description", ""))))
-    return out
 
 
-def _unacceptable(table: dict, aim: str, where: str,
-                  p: ProblemReport) -> float | tuple[float, float] | None:
-    """The ``unacceptable`` limit: one number, or [below, above] for an on-target aim."""
-    if "unacceptable" not in table:
-        return None
-    value = table["unacceptable"]
-    if aim == "on-target":
-        if not isinstance(value, list) or len(value) != 2:
-            p.add(f"{where}.unacceptable", "an on-target aim needs two unacceptable values, "
-                  "one below and one above the ideal", value=value, check="bad_unacceptable",
-                  fix="write unacceptable = [<below>, <above>]")
-            return None
-        pair = [_number(v, f"{where}.unacceptable", p, "unacceptable") for v in value]
-        return None if None in pair else (pair[0], pair[1])
-    return _number(value, f"{where}.unacceptable", p, "unacceptable")
 
 
-def _check_aim_limits(aim: str, unacceptable, nums: dict, where: str,
-                      p: ProblemReport) -> None:
-    """The unacceptable value must lie on the far side of the satisfactory one."""
-    good, ideal = nums["satisfactory"], nums["ideal"]
-    if aim == "on-target" and isinstance(unacceptable, tuple) and ideal is not None:
-        if not unacceptable[0] < ideal < unacceptable[1]:
-            p.add(f"{where}.unacceptable", "the ideal must lie between the two unacceptable "
-                  "values", value=f"unacceptable = {list(unacceptable)}, ideal = {ideal:g}",
-                  check="ideal_outside_limits", fix="write unacceptable = [<below>, <above>]")
-    if aim not in ("higher", "lower") or unacceptable is None or good is None:
-        return
-    if (aim == "higher" and not unacceptable < good) or (aim == "lower"
-                                                         and not unacceptable > good):
-        side = "below" if aim == "higher" else "above"
-        p.add(f"{where}.unacceptable", f"for aim {aim!r} the unacceptable value must lie "
-              f"{side} the satisfactory one",
-              value=f"unacceptable = {unacceptable:g}, satisfactory = {good:g}",
-              check="limits_reversed", fix="swap unacceptable and satisfactory")
 
 
-def _length_mm(value: Any, where: str, p: ProblemReport) -> float | None:
-    try:
-        mm = to_unit(value, "mm", default_unit="mm")
-    except UnitError as exc:
-        p.add(where, str(exc), value=value, check="bad_length",
-              fix='write a length such as 50 (mm) or "2 in"')
-        return None
-    if mm <= 0:
-        p.add(where, "lengths must be positive", value=value, check="not_positive",
-              fix="give the dimension in mm, above zero")
-        return None
-    return mm
 
 
-def _check_coupons(table: Any, p: ProblemReport) -> CouponSpec | None:
-    if not isinstance(table, dict):
-        p.add("coupons", "[coupons] must be a table", check="not_table")
-        return None
-    _unknown_keys(table, COUPON_KEYS, "coupons", p)
-    shape = table.get("shape", "plate")
-    if shape not in COUPON_SHAPES:
-        p.add("coupons.shape", f"unknown coupon shape {shape!r}", value=shape,
-              check="bad_shape", fix=did_you_mean(str(shape), list(COUPON_SHAPES)))
-        return None
-    dims = {k: _length_mm(table[k], f"coupons.{k}", p)
-            for k in ("length", "width", "thickness", "diameter") if k in table}
-    holes_raw = table.get("holes", [])
-    holes = tuple(h for h in (_length_mm(h, "coupons.holes", p) for h in holes_raw)
-                  if h is not None) if isinstance(holes_raw, list) else ()
-    area = None
-    if "area" in table:
-        try:
-            area = to_unit(table["area"], "cm**2", default_unit="cm**2")
-        except UnitError as exc:
-            p.add("coupons.area", str(exc), value=table["area"], check="bad_area",
-                  fix='write an area such as 30 (cm²) or "0.003 m**2"')
-    needed = {"plate": ("length", "width", "thickness"), "bar": ("length", "width", "thickness"),
-              "disc": ("diameter", "thickness"), "cylinder": ("diameter", "length"),
-              "given": ()}[shape]
-    if shape == "given" and area is None:
-        p.add("coupons.area", 'shape = "given" needs area', check="missing_key",
-              fix='add area = "30 cm**2"')
-    for key in needed:
-        if key not in table and area is None:
-            p.add(f"coupons.{key}", f"a {shape} coupon needs {key} (or give area)",
-                  check="missing_key", fix=f"add {key} = <mm>")
-    cycles = _int(table, "cleaning_cycles", "coupons", p, 0, 0)
-    return CouponSpec(shape=shape, length_mm=dims.get("length"), width_mm=dims.get("width"),
-                      thickness_mm=dims.get("thickness"), diameter_mm=dims.get("diameter"),
-                      holes=holes, area_cm2=area, metal=str(table.get("metal", "carbon steel")),
-                      cleaning_cycles=cycles, description=str(table.get("description", "")))
 
 
 def _resolve(target: str):
