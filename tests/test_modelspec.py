@@ -10,7 +10,8 @@ from hypothesis import strategies as st
 
 from trialkit.exceptions import AnalysisError, ModelSpecError, TrialkitError
 from trialkit.trial.factors import Factor
-from trialkit.trial.model_grammar import Term, coded_frame, model_matrix, parse_model
+from trialkit.trial.model_grammar import Term, parse_model
+from trialkit.trial.model_matrix import coded_frame, model_matrix
 
 FACTORS = (
     Factor.continuous("chelator", 2.0, 10.0, unit="% w/v"),

@@ -10,7 +10,8 @@ from scipy import stats
 
 from trialkit.planning import power as pw
 from trialkit.trial.factors import Factor
-from trialkit.trial.model_grammar import model_matrix, parse_model
+from trialkit.trial.model_grammar import parse_model
+from trialkit.trial.model_matrix import model_matrix
 
 FACTORS = (Factor.continuous("chelator", 2, 10, unit="% w/v"),
            Factor.continuous("ph", 5, 8),

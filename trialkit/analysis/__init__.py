@@ -9,8 +9,14 @@ Modules: :mod:`~trialkit.analysis.model` (fit), :mod:`~trialkit.analysis.anova` 
 :mod:`~trialkit.analysis.desirability`, :mod:`~trialkit.analysis.confirm`,
 :mod:`~trialkit.analysis.pipeline` (everything for one response),
 :mod:`~trialkit.analysis.config` (the ``[analysis]`` trial-file section).
+:mod:`~trialkit.analysis.trial_analysis` analyses a whole trial folder once
+(``trialkit.analyze``) into a :class:`~trialkit.analysis.trial_data.TrialAnalysis`, with the
+recommendation of :mod:`~trialkit.analysis.recommend`.
 Public names are imported on first use so that importing this package stays light
 (``confirm`` is not re-exported here: it is also the name of its module).
+
+May import: ``trialkit.responses`` and the stages before it; never figures, the report
+or the demo.
 """
 
 from __future__ import annotations

@@ -94,7 +94,7 @@ def prepare(table: pd.DataFrame, response: str, factors: Sequence[Factor],
         Text in the response column, a factor column missing, fewer than two levels of a
         factor among the usable rows.
     """
-    from trialkit.trial.model_grammar import coded_frame
+    from trialkit.trial.model_matrix import coded_frame
 
     missing = [f.name for f in factors if f.name not in table.columns]
     if missing:

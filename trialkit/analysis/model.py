@@ -35,15 +35,8 @@ from trialkit.analysis.linear import LeastSquares, least_squares
 from trialkit.analysis.natural import natural_coefficients
 from trialkit.exceptions import AnalysisError
 from trialkit.trial.factors import Factor
-from trialkit.trial.model_grammar import (
-    INTERCEPT,
-    ModelMatrix,
-    ModelSpec,
-    Term,
-    coded_frame,
-    model_matrix,
-    parse_model,
-)
+from trialkit.trial.model_grammar import INTERCEPT, ModelSpec, Term, parse_model
+from trialkit.trial.model_matrix import ModelMatrix, coded_frame, model_matrix
 
 BLOCK = "block"
 

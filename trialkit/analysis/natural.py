@@ -11,7 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from trialkit.trial.model_grammar import INTERCEPT, LEVEL_SEPARATOR, ModelMatrix, level_label
+from trialkit.trial.model_grammar import INTERCEPT
+from trialkit.trial.model_matrix import LEVEL_SEPARATOR, ModelMatrix, level_label
 
 Monomial = tuple[tuple[str, int], ...]  # ((factor or contrast column, power), ...)
 

@@ -190,7 +190,7 @@ def default_model(table: pd.DataFrame, response: str, factors: Sequence[Factor])
     """The largest of quadratic / interactions / main that the data can estimate with
     residual degrees of freedom left (e.g. a two-level design with centre points cannot
     separate the squares, so it gets interactions); else main."""
-    from trialkit.trial.model_grammar import model_matrix
+    from trialkit.trial.model_matrix import model_matrix
 
     column = response_column(table, response)
     prep = prepare(table, column, factors)

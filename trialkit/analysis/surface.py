@@ -41,7 +41,7 @@ from scipy import optimize, stats
 from trialkit.analysis.data import finite
 from trialkit.analysis.linear import batched_refit
 from trialkit.exceptions import AnalysisError
-from trialkit.trial.model_grammar import model_matrix
+from trialkit.trial.model_matrix import model_matrix
 
 AIMS = ("higher", "lower")
 RIDGE_RATIO = 1e-3

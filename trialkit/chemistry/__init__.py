@@ -1,5 +1,7 @@
 """Bath chemistry: ingredient catalogue, PHREEQC speciation, recipes, cost and capacity.
 
+May import: ``trialkit.planning``, ``trialkit.trial`` and the shared modules.
+
 Examples
 --------
 >>> from trialkit.chemistry import BathSpec, make_recipe

@@ -4,7 +4,8 @@ Every function takes a result object (or the figure data of :mod:`trialkit.figur
 made from one), draws it and returns the matplotlib Axes (one panel) or Figure (several
 panels).  Nothing statistical is computed here: lines, bands, margins and optima are read
 from the objects given.  One consistent style: the Okabe & Ito (2008) colour-blind-safe
-palette, units on every axis, titles that say in words what is shown.
+palette (:mod:`trialkit.figures.style`), units on every axis, titles that say in words
+what is shown; :mod:`trialkit.figures.output` turns figures into PNG, SVG and files.
 
 Examples
 --------
@@ -23,71 +24,36 @@ Examples
 
 from __future__ import annotations
 
-import base64
-import io
-from collections.abc import Sequence
-from pathlib import Path
-
-import matplotlib
 import matplotlib.pyplot as plt
 import numpy as np
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
-from trialkit.exceptions import TrialkitError
+from trialkit.figures.output import close, figure_of, png_data_uri, save, to_png, to_svg
+from trialkit.figures.style import (
+    BLACK,
+    BLUE,
+    GREEN,
+    MARKERS,
+    ORANGE,
+    PALETTE,
+    SEQUENTIAL,
+    SKY,
+    STYLE,
+    VERMILION,
+    PlotError,
+    fit_like,
+    label,
+    need,
+    new_axes,
+    pretty,
+    style_axes,
+)
 
-#: Okabe & Ito (2008), "Color Universal Design": colours told apart with any colour vision.
-PALETTE = ("#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
-           "#000000")
-BLUE, ORANGE, GREEN, VERMILION, PURPLE, SKY, YELLOW, BLACK = PALETTE
-MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
-#: Sequential colour map readable in grey and with colour-vision deficiency.
-SEQUENTIAL = "cividis"
-STYLE = {"axes.prop_cycle": matplotlib.cycler(color=PALETTE), "axes.grid": True,
-         "grid.alpha": 0.3, "axes.spines.top": False, "axes.spines.right": False,
-         "font.size": 10, "axes.titlesize": 11, "figure.dpi": 100, "savefig.dpi": 110,
-         "svg.fonttype": "none"}
-
-
-class PlotError(TrialkitError):
-    """A figure was asked of an object it cannot draw."""
-
-
-def pretty(unit: str | None) -> str:
-    """A unit as a reader writes it: ``g/m**2`` -> ``g/m²``, ``degC`` -> ``°C``."""
-    return str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C")
-
-
-def label(name: str, unit: str | None) -> str:
-    """Axis label with its unit: ``"removal (%)"``; ``"(no unit)"`` when there is none."""
-    unit = pretty(unit)
-    return f"{name} ({unit})" if unit else f"{name} (no unit)"
-
-
-def _ax(ax: Axes | None, figsize=(6.0, 4.0)) -> Axes:
-    if ax is not None:
-        return ax
-    with plt.rc_context(STYLE):
-        fig = plt.figure(figsize=figsize)
-        return fig.add_subplot(1, 1, 1)
-
-
-def _style(ax: Axes) -> None:
-    ax.grid(True, alpha=0.3)
-    ax.spines["top"].set_visible(False)
-    ax.spines["right"].set_visible(False)
-
-
-def _need(obj, attrs: Sequence[str], what: str):
-    missing = [a for a in attrs if not hasattr(obj, a)]
-    if missing:
-        raise PlotError(f"{what} needs an object with {list(attrs)}; got "
-                        f"{type(obj).__name__} lacking {missing}. Pass the analysis result "
-                        "or its figure data from trialkit.figures.views.")
-
-
-def _fit_like(obj) -> bool:
-    return hasattr(obj, "predict") and hasattr(obj, "spec")
+__all__ = ["PALETTE", "PlotError", "close", "contour", "desirability_contour",
+           "effect_margins", "figure_of", "half_normal", "interaction", "kinetics", "label",
+           "main_effects", "png_data_uri", "pretty", "residual_panels", "save", "surface3d",
+           "sweep", "to_png", "to_svg"]
 
 
 # -- main effects and interactions ----------------------------------------------------
@@ -98,11 +64,11 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
     ``result``: a fitted model (``ModelFit``) or :class:`trialkit.figures.views.EffectLines`.
     The observed baths are drawn as points.
     """
-    if _fit_like(result):
+    if fit_like(result):
         from trialkit.figures.views import effect_lines
 
         result = effect_lines(result, unit=unit)
-    _need(result, ("panels", "response"), "main_effects")
+    need(result, ("panels", "response"), "main_effects")
     k = len(result.panels)
     cols = k if k <= 3 else 3
     rows = -(-k // cols)
@@ -115,7 +81,7 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
         extra.remove()
     unit = unit or getattr(result, "unit", "")
     for ax, p in zip(axes, result.panels, strict=True):
-        _style(ax)
+        style_axes(ax)
         if p.continuous:
             x = p.line.x.astype(float)
             ax.fill_between(x, p.line.ci_low, p.line.ci_high, color=BLUE, alpha=0.18,
@@ -150,7 +116,7 @@ def interaction(result, x: str | None = None, trace: str | None = None, *, unit:
     Non-parallel lines show an interaction.  ``result``: a ``ModelFit`` (give ``x`` and
     ``trace``) or a :class:`trialkit.figures.views.LinePanel` with a ``trace``.
     """
-    if _fit_like(result):
+    if fit_like(result):
         if not (x and trace):
             raise PlotError("interaction of a fitted model needs x= and trace= factor names")
         from trialkit.figures.views import interaction_lines
@@ -159,9 +125,9 @@ def interaction(result, x: str | None = None, trace: str | None = None, *, unit:
         result = interaction_lines(result, x, trace, unit=unit)
     else:
         name = getattr(result, "response", "response")
-    _need(result, ("line", "points", "trace"), "interaction")
-    ax = _ax(ax)
-    _style(ax)
+    need(result, ("line", "points", "trace"), "interaction")
+    ax = new_axes(ax)
+    style_axes(ax)
     for i, (lev, grp) in enumerate(result.line.groupby("trace", sort=False)):
         c, m = PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)]
         if isinstance(lev, float):
@@ -197,11 +163,11 @@ def effect_margins(effects, *, unit: str = "", ax: Axes | None = None) -> Axes:
 
     ``effects``: :class:`trialkit.analysis.effects.EffectsResult`.
     """
-    _need(effects, ("summary", "lenth"), "effect_margins")
+    need(effects, ("summary", "lenth"), "effect_margins")
     df = effects.summary.sort_values("alias_order", kind="mergesort")
     lr = effects.lenth
-    ax = _ax(ax, (6.0, max(2.5, 0.32 * len(df) + 1.4)))
-    _style(ax)
+    ax = new_axes(ax, (6.0, max(2.5, 0.32 * len(df) + 1.4)))
+    style_axes(ax)
     y = -np.arange(len(df), dtype=float)  # first alias-table entry on top
     ax.axvspan(-lr.sme, lr.sme, color=SKY, alpha=0.12, lw=0)
     ax.axvspan(-lr.me, lr.me, color=SKY, alpha=0.25, lw=0)
@@ -237,10 +203,10 @@ def half_normal(effects, *, unit: str = "", ax: Axes | None = None) -> Axes:
 
     Effects beyond the margin are labelled; the others should lie near a line through 0.
     """
-    _need(effects, ("summary", "lenth"), "half_normal")
+    need(effects, ("summary", "lenth"), "half_normal")
     df = effects.summary
-    ax = _ax(ax)
-    _style(ax)
+    ax = new_axes(ax)
+    style_axes(ax)
     sig = df.significant.to_numpy(bool)
     ax.plot(df.abs_effect[~sig], df.half_normal_quantile[~sig], ls="none", marker="o",
             color=SKY, mec=BLACK, label="within the noise")
@@ -268,13 +234,13 @@ def residual_panels(result, diagnostics=None, *, unit: str = "",
     an ``AnalysisResult`` of :func:`trialkit.analysis.pipeline.analyze_table`, or a
     ``ResidualView``.
     """
-    if hasattr(result, "fit") and hasattr(result, "diagnostics") and not _fit_like(result):
+    if hasattr(result, "fit") and hasattr(result, "diagnostics") and not fit_like(result):
         result, diagnostics = result.fit, result.diagnostics
-    if _fit_like(result):
+    if fit_like(result):
         from trialkit.figures.views import residual_view
 
         result = residual_view(result, diagnostics, unit=unit)
-    _need(result, ("table", "response"), "residual_panels")
+    need(result, ("table", "response"), "residual_panels")
     t = result.table
     unit = unit or getattr(result, "unit", "")
     if fig is None:
@@ -282,7 +248,7 @@ def residual_panels(result, diagnostics=None, *, unit: str = "",
             fig = plt.figure(figsize=(11.0, 3.6))
     a1, a2, a3 = fig.subplots(1, 3)
     for ax in (a1, a2, a3):
-        _style(ax)
+        style_axes(ax)
     a1.plot(t.fitted, t.residual, ls="none", marker="o", color=BLUE, mec=BLACK)
     a1.axhline(0, color=BLACK, lw=1)
     if "flagged" in t:
@@ -318,7 +284,7 @@ def _surface(view, x=None, y=None, unit: str = ""):
         from trialkit.figures.surface_views import as_surface_view
 
         view = as_surface_view(view, x, y, **({"unit": unit} if unit else {}))
-    _need(view, ("grid_x", "grid_y", "z", "points", "x", "y"), "contour")
+    need(view, ("grid_x", "grid_y", "z", "points", "x", "y"), "contour")
     return view
 
 
@@ -331,7 +297,7 @@ def contour(view, x: str | None = None, y: str | None = None, *, unit: str = "",
     :class:`trialkit.figures.surface_views.SurfaceView`.
     """
     v = _surface(view, x, y, unit)
-    ax = _ax(ax, (6.0, 4.6))
+    ax = new_axes(ax, (6.0, 4.6))
     cs = ax.contourf(v.grid_x, v.grid_y, v.z, levels=12, cmap=SEQUENTIAL)
     lines = ax.contour(v.grid_x, v.grid_y, v.z, levels=12, colors="white", linewidths=0.5)
     ax.clabel(lines, fontsize=7, fmt="%.3g")
@@ -394,9 +360,9 @@ def sweep(view, *, unit: str = "", ax: Axes | None = None) -> Axes:
         from trialkit.figures.surface_views import as_sweep_view
 
         view = as_sweep_view(view, unit=unit)
-    _need(view, ("curve", "observed", "best", "lean_level", "factor"), "sweep")
-    ax = _ax(ax)
-    _style(ax)
+    need(view, ("curve", "observed", "best", "lean_level", "factor"), "sweep")
+    ax = new_axes(ax)
+    style_axes(ax)
     c = view.curve
     ax.fill_between(c.x, c.ci_low, c.ci_high, color=BLUE, alpha=0.18,
                     label="95 % confidence band")
@@ -420,10 +386,10 @@ def kinetics(view, *, ax: Axes | None = None) -> Axes:
 
     ``view``: :class:`trialkit.figures.views.KineticsView`.
     """
-    _need(view, ("readings", "curves", "time_to_90"), "kinetics")
+    need(view, ("readings", "curves", "time_to_90"), "kinetics")
     n = view.curves.bath.nunique()
-    ax = _ax(ax, (8.6, 4.6) if n > 6 else (6.4, 4.2))
-    _style(ax)
+    ax = new_axes(ax, (8.6, 4.6) if n > 6 else (6.4, 4.2))
+    style_axes(ax)
     for i, (bath, grp) in enumerate(view.curves.groupby("bath", sort=True)):
         col, m = PALETTE[i % len(PALETTE)], MARKERS[(i // len(PALETTE)) % len(MARKERS)]
         t90 = view.time_to_90.get(str(bath), float("nan"))
@@ -447,45 +413,3 @@ def kinetics(view, *, ax: Axes | None = None) -> Axes:
     return ax
 
 
-# -- output ---------------------------------------------------------------------------
-def figure_of(obj) -> Figure:
-    """The Figure of an Axes or Figure."""
-    return obj if isinstance(obj, Figure) else obj.figure
-
-
-def to_png(obj, dpi: int = 110) -> bytes:
-    """PNG bytes of a figure (or of the figure holding an Axes)."""
-    buf = io.BytesIO()
-    figure_of(obj).savefig(buf, format="png", dpi=dpi, bbox_inches="tight")
-    return buf.getvalue()
-
-
-def to_svg(obj) -> str:
-    """SVG text of a figure."""
-    buf = io.StringIO()
-    figure_of(obj).savefig(buf, format="svg", bbox_inches="tight")
-    return buf.getvalue()
-
-
-def png_data_uri(obj, dpi: int = 110) -> str:
-    """``data:image/png;base64,...`` for embedding in a self-contained page."""
-    return "data:image/png;base64," + base64.b64encode(to_png(obj, dpi)).decode("ascii")
-
-
-def save(obj, path: str | Path) -> Path:
-    """Save as SVG or PNG, chosen by the file's suffix."""
-    path = Path(path)
-    suffix = path.suffix.lower()
-    if suffix not in (".svg", ".png"):
-        raise PlotError(f"figures are saved as .svg or .png; got {path.name!r}. Use a file "
-                        "name ending in .svg or .png.")
-    figure_of(obj).savefig(path, format=suffix[1:], bbox_inches="tight")
-    return path
-
-
-def close(obj=None) -> None:
-    """Close a figure (or all figures)."""
-    if obj is None:
-        plt.close("all")
-    else:
-        plt.close(figure_of(obj))

@@ -99,7 +99,7 @@ class DesignModel:
     """
 
     def __init__(self, factors: Sequence[Factor], terms: Sequence[Term]):
-        from trialkit.trial.model_grammar import level_label
+        from trialkit.trial.model_matrix import level_label
 
         self.factors = tuple(factors)
         self.terms = tuple(terms)
