@@ -86,7 +86,8 @@ def test_folder_route_as_subprocess(trial_folder):
 
 
 def test_trial_folder_route_json(trial_folder, capsys):
-    code = main(["analyze", str(trial_folder), "--json", "--bootstrap", "0"])
+    code = main(["analyze", str(trial_folder), "--response", "removal", "--json",
+                 "--bootstrap", "0"])
     cap = capsys.readouterr()
     assert code == 0, cap.err
     d = json.loads(cap.out)

@@ -58,16 +58,177 @@ def desirability(data: TrialAnalysis) -> None:
     data.desirability = best
 
 
-def _corners(trial) -> pd.DataFrame:
-    axes = [[f.low, f.center, f.high] if f.is_continuous else list(f.levels)
+def _candidates(trial, points: int) -> pd.DataFrame:
+    """Settings to choose among: ``points`` levels of each continuous factor across its
+    range (3: low, middle, high) crossed with every level of each categorical factor."""
+    axes = [list(np.linspace(f.low, f.high, points)) if f.is_continuous else list(f.levels)
             for f in trial.factors]
     rows = [dict(zip([f.name for f in trial.factors], combo, strict=True))
             for combo in itertools.product(*axes)]
     return pd.DataFrame(rows)
 
 
+def _plain_settings(row) -> dict:
+    return {k: (float(v) if isinstance(v, (int, float, np.floating)) else str(v))
+            for k, v in dict(row).items()}
+
+
+def limit_shortfall(spec, value: float) -> float:
+    """How far ``value`` lies on the wrong side of the response's stated unacceptable
+    value (0 when it keeps the limit or no limit is stated)."""
+    limit = spec.unacceptable
+    if limit is None or not np.isfinite(value):
+        return 0.0
+    if spec.aim == "on-target":
+        lo, hi = limit
+        return float(max(lo - value, value - hi, 0.0))
+    if spec.aim == "higher":
+        return float(max(limit - value, 0.0))
+    if spec.aim == "lower":
+        return float(max(value - limit, 0.0))
+    return 0.0
+
+
+def _limit_text(spec) -> str:
+    limit = spec.unacceptable
+    unit = f" {spec.unit}" if spec.unit else ""
+    if isinstance(limit, tuple):
+        return f"({limit[0]:g} to {limit[1]:g}{unit})"
+    return f"{limit:g}{unit}"
+
+
+def _fmt(value: float, unit: str) -> str:
+    return f"{value:.3g}{(' ' + unit) if unit else ''}"
+
+
+def _settings_text(settings: dict) -> str:
+    return ", ".join(f"{k} = {v:.3g}" if isinstance(v, float) else f"{k} = {v}"
+                     for k, v in settings.items())
+
+
+def _limited(data: TrialAnalysis) -> list[str]:
+    return [n for n in data.fits
+            if data.specs[n].is_wanted and data.specs[n].unacceptable is not None]
+
+
+def _breaks(data: TrialAnalysis, names: list[str], grid: pd.DataFrame) -> np.ndarray:
+    """Per candidate row, the largest shortfall (in units of each limit's own size)."""
+    worst = np.zeros(len(grid))
+    for name in names:
+        spec = data.specs[name]
+        pred = data.fits[name].predict(grid).predicted.to_numpy()
+        short = np.array([limit_shortfall(spec, v) for v in pred])
+        worst = np.maximum(worst, short)
+    return worst
+
+
+def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
+    """The settings the trial's main question points to, before any limit is applied."""
+    spec = data.specs[primary]
+    if data.desirability is not None:
+        return dict(data.desirability.settings), (
+            "best compromise of all responses (Derringer–Suich desirability "
+            f"D = {data.desirability.overall:.2f})")
+    if primary in data.surfaces:
+        return dict(data.surfaces[primary].optimum["settings"]), (
+            f"best point of the fitted surface of {primary} inside the design region "
+            f"(the surface is a {data.surfaces[primary].kind})")
+    if primary in data.sweeps:
+        sw = data.sweeps[primary]
+        return {sw.factor.name: float(sw.lean_level)}, (
+            f"the practical lean level of the sweep: the lowest {sw.factor.name} whose "
+            f"predicted {primary} is within {sw.tolerance:.3g} {spec.unit} of the best "
+            f"(best at {sw.best:.3g} {sw.factor.unit})")
+    grid = _candidates(data.trial, 3)
+    pred = data.fits[primary].predict(grid).predicted.to_numpy()
+    k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
+    settings = _plain_settings(grid.iloc[k])
+    what = ("best of the low, middle and high settings" if any(
+        f.is_continuous for f in data.trial.factors) else "best combination of levels")
+    source = (f"{what} for {primary} by the fitted model (a screening model: confirm "
+              "before relying on it)" if data.trial.design.kind in TWO_LEVEL_KINDS and any(
+                  f.is_continuous for f in data.trial.factors)
+              else f"{what} for {primary} by the fitted model")
+    quiet = _undetected_factors(data.fits[primary], settings)
+    if quiet:
+        source += ("; " + ", ".join(quiet) + " had no detectable effect on "
+                   f"{primary}, so either setting will do there (the one shown is the "
+                   "fitted best, within noise)")
+    return settings, source
+
+
+def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
+                 limited: list[str], reasons: list[str]) -> tuple[dict, str]:
+    """Move ``settings`` to the best candidate that keeps every stated limit, saying why."""
+    here = pd.DataFrame([settings])
+    values = {n: float(data.fits[n].predict(here).predicted.iloc[0]) for n in limited}
+    broken = [(n, limit_shortfall(data.specs[n], values[n])) for n in limited]
+    broken = [(n, s) for n, s in broken if s > 0]
+    if not broken:
+        return settings, source
+    said = "; ".join(f"{n} is predicted {_fmt(values[n], data.unit(n))}, "
+                     f"{_fmt(s, data.unit(n))} beyond its unacceptable value "
+                     f"{_limit_text(data.specs[n])}" for n, s in broken)
+    points = 3 if data.trial.design.kind in TWO_LEVEL_KINDS else 21
+    grid = _candidates(data.trial, points if len(data.trial.factors) <= 3 else 3)
+    ok = _breaks(data, limited, grid) == 0
+    if not ok.any():
+        reasons.append(f"No setting in the trial's region keeps every stated limit: at the "
+                       f"{source.split(' (')[0]} {said}. The recommendation below breaks "
+                       "that limit; widen the region or revisit the limit.")
+        return settings, source
+    spec = data.specs[primary]
+    pred = data.fits[primary].predict(grid[ok]).predicted.to_numpy()
+    k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
+    new = _plain_settings(grid[ok].iloc[k])
+    reasons.append(f"Passed over {_settings_text(settings)} ({source.split(' (')[0]}): "
+                   f"there {said}. Recommended instead: the best {primary} among the "
+                   "settings that keep every stated limit.")
+    return new, (f"best {primary} among the settings that keep every stated limit "
+                 f"(of {len(grid)} candidate settings, {int(ok.sum())} keep them)")
+
+
+def _flag_unlimited(data: TrialAnalysis, rows: list[dict], reasons: list[str]) -> None:
+    """Flag responses without a stated limit that are predicted clearly worse than the
+    best bath of the trial."""
+    if data.baths is None:
+        return
+    treated = data.baths[~data.baths["point"].isin(["control", "reference"])]
+    for name in _limited(data):  # the best bath to compare with keeps the stated limits
+        if name in treated:
+            spec = data.specs[name]
+            keeps = treated[name].map(lambda v, s=spec: limit_shortfall(s, float(v)) == 0)
+            treated = treated[keeps.fillna(False).astype(bool)]
+    for row in rows:
+        spec = data.specs[row["response"]]
+        if not spec.is_wanted or spec.aim == "on-target" or spec.unacceptable is not None:
+            continue
+        observed = treated[row["response"]].dropna().astype(float) \
+            if row["response"] in treated else pd.Series(dtype=float)
+        if observed.empty:
+            continue
+        best = observed.max() if spec.aim == "higher" else observed.min()
+        worse = best > row["ci_high"] if spec.aim == "higher" else best < row["ci_low"]
+        if worse:
+            unit = data.unit(row["response"])
+            reasons.append(
+                f"{row['response']} is predicted {_fmt(row['predicted'], unit)} here "
+                f"(95 % CI {_fmt(row['ci_low'], unit)} to {_fmt(row['ci_high'], unit)}), "
+                f"clearly worse than the trial's best bath that keeps the stated limits "
+                f"({_fmt(best, unit)}); give "
+                f"{row['response']} a limit (unacceptable = ...) in the trial file if that "
+                "matters, and the recommendation will keep it.")
+
+
 def recommend(data: TrialAnalysis) -> None:
-    """The recommended settings, the predictions there and the recipe to mix them."""
+    """The recommended settings, the predictions there and the recipe to mix them.
+
+    The settings come from the trial's main response (highest priority) or the best
+    compromise of all; they are then moved, if need be, to the best settings that keep
+    every stated limit (``unacceptable`` values), saying which limit and by how much.
+    Every response with an aim is predicted there; those without a limit that are
+    clearly worse than the trial's best bath are flagged.
+    """
     wanted = [n for n in data.fits if data.specs[n].is_wanted]
     if not wanted:
         data.note("recipe", "every response is record-only (no aim higher, lower or "
@@ -76,35 +237,10 @@ def recommend(data: TrialAnalysis) -> None:
         return
     # the response the trial cares most about: highest priority, first among equals
     primary = max(wanted, key=lambda n: (data.specs[n].priority, -wanted.index(n)))
-    spec = data.specs[primary]
-    if data.desirability is not None:
-        settings = dict(data.desirability.settings)
-        source = ("best compromise of all responses (Derringer–Suich desirability "
-                  f"D = {data.desirability.overall:.2f})")
-    elif primary in data.surfaces:
-        settings = dict(data.surfaces[primary].optimum["settings"])
-        source = (f"best point of the fitted surface of {primary} inside the design region "
-                  f"(the surface is a {data.surfaces[primary].kind})")
-    elif primary in data.sweeps:
-        sw = data.sweeps[primary]
-        settings = {sw.factor.name: float(sw.lean_level)}
-        source = (f"the practical lean level of the sweep: the lowest {sw.factor.name} whose "
-                  f"predicted {primary} is within {sw.tolerance:.3g} {spec.unit} of the best "
-                  f"(best at {sw.best:.3g} {sw.factor.unit})")
-    else:
-        grid = _corners(data.trial)
-        pred = data.fits[primary].predict(grid).predicted.to_numpy()
-        k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
-        settings = grid.iloc[k].to_dict()
-        settings = {kk: (float(v) if isinstance(v, (int, float, np.floating)) else str(v))
-                    for kk, v in settings.items()}
-        source = (f"best of the low, middle and high settings for {primary} by the fitted "
-                  "model (a screening model: confirm before relying on it)")
-        quiet = _undetected_factors(data.fits[primary], settings)
-        if quiet:
-            source += ("; " + ", ".join(quiet) + " had no detectable effect on "
-                       f"{primary}, so either setting will do there (the one shown is the "
-                       "fitted best, within noise)")
+    reasons: list[str] = []
+    settings, source = _primary_choice(data, primary)
+    limited = _limited(data)
+    settings, source = _keep_limits(data, primary, settings, source, limited, reasons)
     rows = []
     for name, fit in data.fits.items():
         p1 = fit.predict(settings, n_new=1).iloc[0]
@@ -114,8 +250,12 @@ def recommend(data: TrialAnalysis) -> None:
                      "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
                      "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),
                      "pi3_high": float(p3.pi_high)})
+    met = all(limit_shortfall(data.specs[r["response"]], r["predicted"]) == 0
+              for r in rows if r["response"] in limited)
+    _flag_unlimited(data, rows, reasons)
     data.recommendation = {"settings": settings, "source": source,
-                           "predictions": pd.DataFrame(rows)}
+                           "predictions": pd.DataFrame(rows), "limits_met": met,
+                           "reasons": reasons, "primary": primary}
     _recipe(data)
 
 

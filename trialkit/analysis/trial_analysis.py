@@ -230,11 +230,35 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             _effects(data, spec)
         if res.sweep is None:
             _detectable(data, spec)
+    _comparisons(data)
     from trialkit.analysis.recommend import desirability, recommend
 
     desirability(data)
     recommend(data)
     return data
+
+
+def _comparisons(data: TrialAnalysis) -> None:
+    """Tukey comparisons of the levels of every categorical factor, and Dunnett
+    comparisons of every treatment with the untreated and reference baths."""
+    from trialkit.analysis.comparisons import level_comparisons, versus_controls
+
+    cats = [f for f in data.trial.factors if not f.is_continuous]
+    for name, fit in data.fits.items():
+        if not data.specs[name].is_wanted:
+            continue
+        for f in cats:
+            try:
+                data.comparisons += level_comparisons(fit, f, name, alpha=fit.alpha)
+            except TrialkitError as exc:
+                data.note("analysis", f"{name}: levels of {f.name} not compared "
+                                      f"({first_line(exc)})")
+        try:
+            data.versus_controls += versus_controls(data.baths, name, data.trial.factors,
+                                                    alpha=fit.alpha)
+        except (TrialkitError, ValueError) as exc:
+            data.note("analysis", f"{name}: treatments not compared with the controls "
+                                  f"({first_line(exc)})")
 
 
 def _effects(data: TrialAnalysis, spec) -> None:

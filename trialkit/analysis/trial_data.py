@@ -45,6 +45,8 @@ class TrialAnalysis:
     recommendation: dict | None = None
     recipe: object | None = None
     confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
+    comparisons: list = field(default_factory=list)  # Tukey, levels of categorical factors
+    versus_controls: list = field(default_factory=list)  # Dunnett, against the controls
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -59,12 +61,22 @@ class TrialAnalysis:
         return spec.unit if spec is not None else ""
 
     def recommendation_dict(self) -> dict | None:
-        """The recommendation as plain data: ``settings``, ``source``, ``predictions``."""
+        """The recommendation as plain data: ``settings``, ``predicted`` (every response
+        with an aim: ``response, value, low, high``, a 95 % confidence interval of the
+        mean), ``limits_met``, ``reasons`` (sentences), ``source``, ``predictions`` (all
+        intervals of every fitted response)."""
         rec = self.recommendation
         if rec is None:
             return None
+        table = rec["predictions"]
+        wanted = table[table["aim"] != "record-only"]
         return {"settings": rec["settings"], "source": rec["source"],
-                "predictions": rec["predictions"].to_dict("records")}
+                "predicted": [{"response": r.response, "value": r.predicted,
+                               "low": r.ci_low, "high": r.ci_high, "unit": r.unit}
+                              for r in wanted.itertuples()],
+                "limits_met": bool(rec.get("limits_met", True)),
+                "reasons": list(rec.get("reasons", [])),
+                "predictions": table.to_dict("records")}
 
     def to_dict(self) -> dict:
         """Plain data: the trial, every response's analysis, the recommendation, notes."""
@@ -73,6 +85,8 @@ class TrialAnalysis:
             "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
             "responses": {name: res.to_dict() for name, res in self.results.items()},
             "recommendation": self.recommendation_dict(),
+            "comparisons": list(self.comparisons),
+            "versus_controls": list(self.versus_controls),
             "confirmation": {k: v.to_dict() for k, v in self.confirmations.items()},
             "notes": {k: list(v) for k, v in self.notes.items()},
         }
@@ -87,6 +101,11 @@ class TrialAnalysis:
             settings = ", ".join(f"{k} {v:.3g}" if isinstance(v, float) else f"{k} {v}"
                                  for k, v in rec["settings"].items())
             lines.append(f"  recommended: {settings}")
+            lines += [f"    {r}" for r in rec.get("reasons", [])]
+        if self.comparisons or self.versus_controls:
+            lines.append(f"  {len(self.comparisons)} comparisons of levels (Tukey), "
+                         f"{len(self.versus_controls)} of treatments with the controls "
+                         "(Dunnett); see to_dict()")
         for topic, sentences in self.notes.items():
             lines += [f"  note ({topic}): {s}" for s in sentences]
         return "\n".join(lines)

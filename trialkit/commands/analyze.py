@@ -1,9 +1,12 @@
 """``trialkit analyze DIR_OR_TABLE``: ANOVA, effects, surfaces and the best recipe.
 
 Thin: reads the trial folder or table, calls :func:`trialkit.analysis.pipeline.analyze_table`
-and prints its console summary or JSON.  With ``--all`` (trial folders) it prints the
-analysis of the whole trial, :func:`trialkit.analysis.trial_analysis.analyze`: the object
-the report renders.
+and prints its console summary or JSON.  On a trial folder with no ``--response`` (and no
+other single-response option), or with ``--all``, it prints the analysis of the whole
+trial, :func:`trialkit.analysis.trial_analysis.analyze`, the object the report renders:
+``recommendation`` (``settings``, ``predicted``, ``limits_met``, ``reasons``),
+``comparisons`` (Tukey, levels of categorical factors), ``versus_controls`` (Dunnett) and
+``responses`` (each response's analysis).
 """
 
 from __future__ import annotations
@@ -18,7 +21,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("source", metavar="DIR_OR_TABLE",
                         help="a trial folder, or a CSV/XLSX table with one row per bath")
     parser.add_argument("--response", metavar="NAME",
-                        help="response to analyse (default: the trial's first response)")
+                        help="response to analyse (trial folders: default every response, "
+                        "with the recommendation; tables: name the column)")
     parser.add_argument("--factor", metavar="NAME[:categorical]", action="append",
                         default=[], help="factor column of a plain table (repeat); add "
                         ":categorical or :ordinal for text levels")
@@ -60,7 +64,9 @@ def run(args: argparse.Namespace) -> int:
     )
 
     path = Path(args.source)
-    if args.whole_trial:
+    single = (args.response or args.model or args.sweep or args.reduce or args.aim
+              or args.factor or args.compromise or args.threshold is not None)
+    if args.whole_trial or (path.is_dir() and not single):
         return _whole_trial(args, path)
     if path.is_dir():
         source = from_trial_folder(path)

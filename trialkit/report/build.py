@@ -15,6 +15,7 @@ import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report import figure_list as figs
+from trialkit.report.comparison_text import comparison_blocks
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import effects_findings, model_findings, pretty_unit
 from trialkit.report.quality import readings_blocks
@@ -175,6 +176,7 @@ def _matters(data: TrialAnalysis, findings) -> list[Block]:
                 [f.text for f in lenth], f"{name}: the two-level effects judged by Lenth's "
                 "method (no model needed; useful when the model has few residual degrees "
                 "of freedom)"))
+        blocks += comparison_blocks(data, name)
         blocks += figs.effect_figures(data, name)
     other = [f.text for f in findings if f.response not in data.fits]
     if other:
@@ -253,6 +255,9 @@ def _recipe(data: TrialAnalysis) -> list[Block]:
     settings = ", ".join(f"{k} = {v:.3g}" if isinstance(v, float) else f"{k} = {v}"
                          for k, v in rec["settings"].items())
     blocks = [Block.para(f"Recommended settings: {settings}. Chosen as the {rec['source']}.")]
+    if rec.get("reasons"):
+        blocks.append(Block.bullets(list(rec["reasons"]), "Why these settings, and what to "
+                                                          "watch"))
     pred = rec["predictions"][["response", "unit", "predicted", "ci_low", "ci_high", "pi_low",
                                "pi_high"]].assign(unit=lambda d: d.unit.map(pretty_unit))
     blocks.append(Block.frame(pred, "Predicted responses at the recommended settings (95 % "

@@ -1,0 +1,131 @@
+"""The recommendation answers the trial's question: stated limits are kept (and the
+passed-over recipe named), other responses flagged, levels and controls compared.
+
+Invented salts trial (not measurements): four chelating salts, three baths each, plus
+untreated and reference baths; one salt removes the most rust but attacks the steel
+about twenty times more than the others."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from trialkit.analysis.recommend import limit_shortfall
+from trialkit.analysis.trial_analysis import analyze
+from trialkit.cli import main
+from trialkit.planning.plan import make_plan
+from trialkit.trial.file import load_trial
+from trialkit.trial.spec import ResponseSpec
+
+SALTS = """
+[trial]
+title = "Which chelating salt, invented example"
+question = "Which salt removes rust fastest without attacking the steel?"
+seed = 12
+[[factor]]
+name = "salt"
+levels = ["tetrasodium EDTA", "disodium EDTA", "sodium citrate", "strong salt"]
+[design]
+kind = "full-factorial"
+[layout]
+replicates = 3
+controls = ["untreated", "reference"]
+[[response]]
+name = "removal"
+unit = "%"
+aim = "higher"
+measure = "removal_pct"
+[[response]]
+name = "attack"
+unit = "mm/yr"
+aim = "lower"
+{attack_limits}
+measure = "corrosion_rate_mm_per_y"
+"""
+MEANS = {"tetrasodium EDTA": (78.0, 0.05), "disodium EDTA": (70.0, 0.06),
+         "sodium citrate": (60.0, 0.04), "strong salt": (92.0, 1.1),
+         "control": (3.0, 0.08), "reference": (97.0, 2.5)}
+
+
+def _trial(tmp_path, limits: str):
+    folder = tmp_path / "salts"
+    folder.mkdir()
+    (folder / "trial.toml").write_text(SALTS.format(attack_limits=limits), encoding="utf-8")
+    plan = make_plan(load_trial(folder))
+    rng = np.random.default_rng(5)
+    baths = plan.baths.copy()
+    keys = [s if p not in ("control", "reference") else p
+            for s, p in zip(baths["salt"], baths["point"], strict=True)]
+    baths["removal"] = [MEANS[k][0] + rng.normal(0, 2.5) for k in keys]
+    baths["attack"] = [MEANS[k][1] * np.exp(rng.normal(0, 0.08)) for k in keys]
+    return folder, baths
+
+
+def test_a_stated_attack_limit_is_kept_and_the_fastest_salt_passed_over(tmp_path):
+    folder, baths = _trial(tmp_path, "satisfactory = 0.05\nunacceptable = 0.3")
+    rec = analyze(folder, baths=baths).to_dict()["recommendation"]
+    assert rec["settings"] == {"salt": "tetrasodium EDTA"}
+    assert rec["limits_met"] is True
+    why = " ".join(rec["reasons"])
+    assert "Passed over salt = strong salt" in why and "attack is predicted" in why
+    # the best bath that keeps the limit is the comparison, so removal is not flagged
+    assert not any(r.startswith("removal is predicted") for r in rec["reasons"])
+    assert "beyond its unacceptable value 0.3 mm/yr" in why
+    attack = next(p for p in rec["predicted"] if p["response"] == "attack")
+    assert attack["value"] <= 0.3
+
+
+def test_without_limits_the_attack_is_flagged_not_hidden(tmp_path):
+    folder, baths = _trial(tmp_path, "")
+    rec = analyze(folder, baths=baths).to_dict()["recommendation"]
+    assert rec["settings"] == {"salt": "strong salt"}   # fastest, and nothing forbids it
+    flagged = [r for r in rec["reasons"] if r.startswith("attack is predicted")]
+    assert flagged and "clearly worse than the trial's best bath" in flagged[0]
+    assert {p["response"] for p in rec["predicted"]} == {"removal", "attack"}
+
+
+def test_output_contract_of_analyze_on_a_trial_folder(tmp_path, capsys):
+    folder, baths = _trial(tmp_path, "satisfactory = 0.05\nunacceptable = 0.3")
+    table = tmp_path / "baths.csv"
+    baths.to_csv(table, index=False)
+    data = analyze(folder, baths=baths).to_dict()
+    assert set(data) >= {"recommendation", "comparisons", "versus_controls", "responses"}
+    rec = data["recommendation"]
+    assert set(rec) >= {"settings", "predicted", "limits_met", "reasons"}
+    assert all(set(p) >= {"response", "value", "low", "high"} for p in rec["predicted"])
+    pairs = [c for c in data["comparisons"] if c["response"] == "removal"]
+    assert len(pairs) == 6                       # 4 levels: every pair, Tukey
+    assert set(pairs[0]) >= {"factor", "response", "level_a", "level_b", "difference",
+                             "low", "high", "p_adjusted", "method"}
+    strong = next(c for c in pairs if {c["level_a"], c["level_b"]} ==
+                  {"strong salt", "sodium citrate"})
+    assert strong["p_adjusted"] < 0.01
+    vs = [v for v in data["versus_controls"] if v["response"] == "removal"]
+    assert {v["control"] for v in vs} == {"untreated", "reference"}
+    assert len(vs) == 8                          # 4 salts x 2 control kinds
+    assert all(v["low"] > 0 for v in vs if v["control"] == "untreated")
+    assert json.loads(json.dumps(data, default=str))  # plain data
+
+
+def test_the_command_line_prints_the_same_object(tmp_path, capsys):
+    # a trial folder and no --response: the whole trial (readings come from the log,
+    # so this folder without one says so instead of failing)
+    folder, _ = _trial(tmp_path, "")
+    assert main(["analyze", str(folder), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["recommendation"] is None and "readings" in data["notes"]
+
+
+@pytest.mark.parametrize("aim, limit, value, short", [
+    ("higher", 50.0, 40.0, 10.0), ("higher", 50.0, 60.0, 0.0),
+    ("lower", 0.3, 0.5, 0.2), ("lower", 0.3, 0.1, 0.0),
+    ("on-target", (6.0, 7.5), 8.0, 0.5), ("on-target", (6.0, 7.5), 5.0, 1.0),
+])
+def test_limit_shortfall(aim, limit, value, short):
+    spec = ResponseSpec("r", aim=aim, unacceptable=limit)
+    assert limit_shortfall(spec, value) == pytest.approx(short)
+    assert limit_shortfall(ResponseSpec("r", aim=aim), value) == 0.0
+    assert pd.isna(float("nan")) and limit_shortfall(spec, float("nan")) == 0.0
