@@ -161,3 +161,20 @@ def test_duplicate_ingredient_and_adjuster_listed_as_ingredient(tmp_path):
     text = text.replace('adjust_with = "citric acid"', 'adjust_with = "tetrasodium EDTA"')
     checks, _ = checks_of(write(tmp_path, text))
     assert checks == ["duplicate_ingredient", "adjuster_is_ingredient"]
+
+
+def test_an_acid_and_a_base_as_adjusters(tmp_path):
+    # issue 16: comparing salts at equal pH needs acid for some baths and base for others
+    text = HEAD + GOOD_BATH.replace('adjust_with = "citric acid"',
+                                    'adjust_with = ["sodium hydroxide", "citric acid"]')
+    bath = load_trial(write(tmp_path, text)).sections["bath"]
+    assert bath.adjust_with == ("citric acid", "sodium hydroxide")   # (acid, base)
+    assert bath.to_dict()["adjust_with"] == ["citric acid", "sodium hydroxide"]
+
+
+@pytest.mark.parametrize("value", ['["citric acid", "acetic acid"]',
+                                   '["citric acid", "sodium hydroxide", "vinegar"]'])
+def test_two_adjusters_must_be_an_acid_and_a_base(tmp_path, value):
+    text = HEAD + GOOD_BATH.replace('adjust_with = "citric acid"', f"adjust_with = {value}")
+    checks, message = checks_of(write(tmp_path, text))
+    assert "bad_adjuster" in checks and "acid and" in message

@@ -3,7 +3,9 @@
 ``[bath]`` describes the base recipe and which factor sets which quantity::
 
     [bath]
-    adjust_with = "citric acid"     # pH adjuster (catalogue name)
+    adjust_with = "citric acid"     # pH adjuster (catalogue name), or an acid and a base:
+                                    # ["citric acid", "sodium hydroxide"], each bath taking
+                                    # the one its starting pH needs
     target_ph = 6.5                 # or set by a factor (set_by below)
     temperature = "25 degC"
     volume_per_area = "20 mL/cm2"   # ASTM G31 minimum ratio; or volume = "2 L"
@@ -65,7 +67,7 @@ class ReferenceBath:
     """The reference bath (``controls = ["reference"]``)."""
 
     ingredients: tuple[tuple[str, Amount], ...]
-    adjust_with: str | None = None
+    adjust_with: str | tuple[str, ...] | None = None
     target_ph: float | None = None
     temperature_c: float | None = None
 
@@ -75,7 +77,7 @@ class BathSection:
     """The parsed ``[bath]`` section."""
 
     ingredients: tuple[IngredientRule, ...]
-    adjust_with: str | None = None
+    adjust_with: str | tuple[str, ...] | None = None
     target_ph: float | None = None
     temperature_c: float = 25.0
     volume_l: float | None = None
@@ -92,7 +94,8 @@ class BathSection:
             "ingredients": [{"name": r.name, "amount": None if r.amount is None else
                              str(r.amount), "factor": r.factor,
                              "present_when": list(r.present_when)} for r in self.ingredients],
-            "adjust_with": self.adjust_with, "target_ph": self.target_ph,
+            "adjust_with": (list(self.adjust_with) if isinstance(self.adjust_with, tuple)
+                            else self.adjust_with), "target_ph": self.target_ph,
             "temperature_c": self.temperature_c, "volume_l": self.volume_l,
             "ml_per_cm2": self.ml_per_cm2, "containers_l": list(self.containers_l),
             "rust_mg_per_cm2": self.rust_mg_per_cm2, "spare": self.spare,
@@ -149,10 +152,11 @@ def parse_bath_section(raw: Any, trial: Any, problems: ProblemReport,
     for name in sorted({n for n in names if names.count(n) > 1}):
         problems.add(f"{where}.ingredient", "the same ingredient is listed twice", value=name,
                      check="duplicate_ingredient", fix="give each ingredient once")
-    if adjust_with is not None and adjust_with in names:
-        problems.add(f"{where}.adjust_with", "the pH adjuster is also a base-recipe "
-                     "ingredient", value=adjust_with, check="adjuster_is_ingredient",
-                     fix="list it once, as adjust_with (its dose is computed)")
+    for adj in adjuster_names(adjust_with):
+        if adj in names:
+            problems.add(f"{where}.adjust_with", "the pH adjuster is also a base-recipe "
+                         "ingredient", value=adj, check="adjuster_is_ingredient",
+                         fix="list it once, as adjust_with (its dose is computed)")
     target = raw.get("target_ph")
     if target is not None and (not _num(target) or not 0 < target < 14):
         problems.add(f"{where}.target_ph", "target pH must be a number between 0 and 14",
@@ -292,7 +296,32 @@ def _check_set_by(qty: str, fname: Any, where: str, factors: dict, problems: Pro
                      value=f.unit, check="bad_factor_unit", fix='use unit = "pH"')
 
 
-def _adjuster(name: Any, where: str, cat: Catalogue, problems: ProblemReport) -> str | None:
+def adjuster_names(adjust_with) -> tuple[str, ...]:
+    """The adjuster names of an ``adjust_with`` value (one name, or an acid and a base)."""
+    if adjust_with is None:
+        return ()
+    return (adjust_with,) if isinstance(adjust_with, str) else tuple(adjust_with)
+
+
+def _adjuster(name: Any, where: str, cat: Catalogue, problems: ProblemReport
+              ) -> str | tuple[str, ...] | None:
+    """One pH adjuster, or a pair: one acid and one base (``role`` in the catalogue)."""
+    if isinstance(name, list):
+        if len(name) != 2:
+            problems.add(where, "adjust_with takes one adjuster, or two: an acid and a base",
+                         value=name, check="bad_adjuster",
+                         fix='write adjust_with = ["citric acid", "sodium hydroxide"]')
+            return None
+        got = [_adjuster(n, f"{where}[{i}]", cat, problems) for i, n in enumerate(name, 1)]
+        if any(g is None for g in got):
+            return None
+        roles = sorted(cat.get(g).role for g in got)
+        if roles != ["acid", "base"]:
+            problems.add(where, "two adjusters must be one acid and one base", value=name,
+                         check="bad_adjuster", fix="give an acid and a base of the catalogue "
+                         f"(these are: {', '.join(roles)})")
+            return None
+        return tuple(sorted(got, key=lambda g: cat.get(g).role))  # (acid, base)
     if name is None:
         return None
     if not isinstance(name, str) or name not in cat:

@@ -47,8 +47,9 @@ class BathSpec:
         Bath volume, litres.
     ingredients : tuple of (name, amount)
         Catalogue name and amount (text such as ``"5 % w/v"`` or an :class:`Amount`).
-    adjust_with : str or None
-        Catalogue name of the pH adjuster.
+    adjust_with : str, tuple of str, or None
+        Catalogue name of the pH adjuster; or an acid and a base, of which each bath
+        takes the one its starting pH needs.
     target_ph : float or None
         pH to reach with the adjuster.
     temperature_c : float
@@ -62,7 +63,7 @@ class BathSpec:
     bath: str
     volume_l: float
     ingredients: tuple = ()
-    adjust_with: str | None = None
+    adjust_with: str | tuple[str, ...] | None = None
     target_ph: float | None = None
     temperature_c: float = 25.0
     area_cm2: float | None = None
@@ -73,7 +74,9 @@ class BathSpec:
         """Identity of the mixture (baths with equal keys are mixed the same way)."""
         ings = tuple((n.lower(), str(a)) for n, a in self.ingredients)
         ph = None if self.target_ph is None else round(float(self.target_ph), 6)
-        return (ings, (self.adjust_with or "").lower(), ph,
+        adjusters = (self.adjust_with,) if isinstance(self.adjust_with, str) \
+            else tuple(self.adjust_with or ())
+        return (ings, "|".join(adjusters).lower(), ph,
                 round(float(self.temperature_c), 6), round(float(self.volume_l), 9))
 
 
@@ -213,7 +216,7 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
     if spec.target_ph is not None:
         if not spec.adjust_with:
             raise ChemistryError(f"{label}: a target pH needs a pH adjuster (adjust_with)")
-        adj = cat.get(spec.adjust_with)
+        adj = _adjuster_for(spec, base, t, cat, label, notes)
         if adj.name in seen:
             raise ChemistryError(f"{label}: {adj.name} is both an ingredient and the pH "
                                  "adjuster; give it once, as the adjuster")
@@ -256,6 +259,25 @@ def make_recipe(spec: BathSpec, catalogue: Catalogue | None = None, *,
         notes=notes, dose=dose, cross_check=xcheck,
         phreeqc_calls=speciation.call_count() - calls0, baths=(spec.bath,),
     )
+
+
+def _adjuster_for(spec: BathSpec, base: dict, t: float, cat: Catalogue, label: str,
+                  notes: list[str]) -> Ingredient:
+    """The adjuster this bath needs: the only one, or of an acid and a base the one that
+    moves its starting pH towards the target (the note says which and why)."""
+    if isinstance(spec.adjust_with, str):
+        return cat.get(spec.adjust_with)
+    names = tuple(spec.adjust_with)
+    if len(names) == 1:
+        return cat.get(names[0])
+    start = speciation.solve([base], t, label=label)[0].ph
+    want = "acid" if start > float(spec.target_ph) else "base"
+    chosen = next((cat.get(n) for n in names if cat.get(n).role == want), cat.get(names[0]))
+    way = "down" if want == "acid" else "up"
+    notes.append(f"before adjustment the bath is at pH {start:.2f} (predicted), so it is "
+                 f"brought {way} to pH {float(spec.target_ph):g} with {chosen.name}, the "
+                 f"{want} of adjust_with")
+    return chosen
 
 
 def _line(ing: Ingredient, grams: float, basis: str, moles: float, ml: float | None,
