@@ -13,12 +13,22 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--json", action="store_true", help="print the plan summary as JSON")
 
 
+def _refuse_relabelling(plan, out: Path) -> None:
+    """A plan written beside readings of another plan would re-label them: refuse."""
+    from trialkit.records import log as store
+
+    path = Path(out) / store.LOG_FILE
+    if path.exists():
+        store.RecordLog(path).check_plan(plan)
+
+
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
     from trialkit.planning.plan import load_plan
 
     plan = load_plan(args.trial)
     out = Path(args.out) if args.out else plan.trial.folder
+    _refuse_relabelling(plan, out)
     path = plan.write(out)
     if args.json:
         data = plan.to_dict()

@@ -161,6 +161,29 @@ class RecordLog:
         finally:
             con.close()
 
+    def plan_fingerprint(self) -> str | None:
+        """Fingerprint of the plan the stored readings were recorded against (None when
+        nothing is stored yet)."""
+        con = self._connect()
+        try:
+            row = con.execute("SELECT value FROM log_info WHERE key='plan_fingerprint'"
+                              ).fetchone()
+        finally:
+            con.close()
+        return row[0] if row else None
+
+    def check_plan(self, plan: Any) -> None:
+        """Refuse a plan other than the one the readings were recorded against, so that no
+        reading is ever re-labelled (a 40 degC bath reported as 45 degC)."""
+        fp = self.plan_fingerprint()
+        if fp and fp != plan.fingerprint:
+            raise RecordLogError(
+                f"the readings in {self.path.name} were recorded against plan {fp}, but the "
+                f"trial file now gives plan {plan.fingerprint}: it was edited after readings "
+                "were recorded. Nothing was changed and nothing is re-labelled. Undo the "
+                "edit to trial.toml (the readings and their plan are listed by 'trialkit "
+                "history'), or copy trial.toml into a new trial folder for the changed trial.")
+
     def ingest_of(self, sha256: str) -> tuple[int, str, str] | None:
         """``(id, source, ingested_at)`` of an earlier ingest of this file, or None."""
         con = self._connect()
@@ -222,6 +245,8 @@ class RecordLog:
             ``coupon`` (plus plan columns) and one column per field; numbers as float,
             ``immersion_start``/``immersion_end`` as datetimes, text as object.
         """
+        if plan is not None:
+            self.check_plan(plan)
         cur = self._current_long(inspections=False)
         wide = (cur.pivot(index="coupon", columns="field", values="value")
                 if not cur.empty else pd.DataFrame(index=pd.Index([], name="coupon")))

@@ -1,0 +1,61 @@
+"""Editing the trial file after readings are recorded never re-labels them: re-planning is
+refused with the reason, and the analysis says why it does not use the readings."""
+
+from __future__ import annotations
+
+import hashlib
+
+from trial_texts import trial_text
+
+from trialkit.analysis.trial_analysis import analyze
+from trialkit.cli import main
+from trialkit.planning.plan import load_plan
+from trialkit.records.log import LOG_FILE, RecordLog
+
+TEXT = trial_text("chelator", "temperature", layout="replicates = 2",
+                  extra='[[response]]\nname = "removal"\nunit = "%"\naim = "higher"\n'
+                        'measure = "removal_pct"\n')
+
+
+def _recorded(tmp_path):
+    folder = tmp_path / "trial"
+    folder.mkdir()
+    (folder / "trial.toml").write_text(TEXT, encoding="utf-8")
+    assert main(["plan", str(folder)]) == 0
+    plan = load_plan(folder)
+    rows = [(c, 0, "mass_initial_g", 10.0 + i / 100) for i, c in enumerate(plan.table.coupon)]
+    RecordLog.for_folder(folder).add_readings(rows, source="day1.csv", sha256="d" * 64,
+                                              fingerprint=plan.fingerprint)
+    return folder, plan
+
+
+def _digest(path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def test_replanning_an_edited_trial_with_readings_is_refused(tmp_path, capsys):
+    folder, plan = _recorded(tmp_path)
+    (folder / "trial.toml").write_text(TEXT.replace("high = 40", "high = 45"),
+                                       encoding="utf-8")   # 40 degC baths would become 45
+    log, csv = folder / LOG_FILE, folder / "plan.csv"
+    before = (_digest(log), _digest(csv))
+    capsys.readouterr()
+    assert main(["plan", str(folder)]) == 2
+    err = capsys.readouterr().err
+    assert f"recorded against plan {plan.fingerprint}" in err
+    assert "Nothing was changed and nothing is re-labelled" in err
+    assert (_digest(log), _digest(csv)) == before
+    # the responses refuse too, and the analysis says why it does not use the readings
+    assert main(["responses", str(folder)]) == 2
+    assert "edited after readings were recorded" in capsys.readouterr().err
+    result = analyze(folder)
+    said = " ".join(sum(result.notes.values(), []))
+    assert "edited after readings were recorded" in said
+    assert result.baths is None and result.recommendation is None
+    assert (_digest(log), _digest(csv)) == before
+
+
+def test_the_same_trial_plans_again_beside_its_readings(tmp_path):
+    folder, plan = _recorded(tmp_path)
+    assert main(["plan", str(folder)]) == 0          # unchanged: same plan, allowed
+    assert RecordLog.for_folder(folder).plan_fingerprint() == plan.fingerprint
