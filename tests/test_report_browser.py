@@ -38,7 +38,13 @@ window.addEventListener("load", function () {
     widths: imgs.map(function (i) { return i.naturalWidth; }),
     sections: Array.prototype.map.call(document.querySelectorAll("section[id]"),
                                        function (s) { return s.id; }),
-    title: document.querySelector("h1") ? document.querySelector("h1").textContent : ""
+    title: document.querySelector("h1") ? document.querySelector("h1").textContent : "",
+    answer_top: document.getElementById("answer") ?
+      document.getElementById("answer").getBoundingClientRect().top + window.scrollY : -1,
+    page_width: document.documentElement.clientWidth,
+    widest_table: Math.max.apply(null, [0].concat(Array.prototype.map.call(
+      document.querySelectorAll("table"), function (t) {
+        return t.getBoundingClientRect().right; })))
   };
   document.getElementById("tk-check-result").textContent = JSON.stringify(out);
 });
@@ -75,7 +81,8 @@ def check_page(page: Path, tmp_path: Path) -> tuple[dict, list[str]]:
     text = page.read_text(encoding="utf-8")
     probe.write_text(text.replace("</body>", CHECK + "</body>"), encoding="utf-8")
     res = _run(["--enable-logging=stderr", "--v=0", "--virtual-time-budget=10000",
-                "--dump-dom", probe.as_uri()], tmp_path / "profile-check")
+                "--window-size=1280,800", "--dump-dom", probe.as_uri()],
+               tmp_path / "profile-check")
     m = re.search(r'<pre id="tk-check-result">(.*?)</pre>', res.stdout, re.S)
     assert m and m.group(1), f"the checking script did not run:\n{res.stderr[-2000:]}"
     console = [msg for _, msg in CONSOLE.findall(res.stderr)]
@@ -108,6 +115,10 @@ def test_report_in_chromium(kind, tmp_path):
     assert result["images"] == n_fig > 0
     assert result["broken"] == []
     assert min(result["widths"]) > 100
+    # issue 17: the answer is the first section and starts on the first 1280 x 800 screen
+    assert result["sections"][0] == "answer"
+    assert 0 < result["answer_top"] < 800
+    assert result["widest_table"] <= result["page_width"]
     assert result["sections"] == list(SECTION_TITLES)
     assert result["title"] == report.title
     assert console == [], console

@@ -232,3 +232,23 @@ def test_screening_report_also_judges_effects_by_lenth():
     block = next(b for b in sec.blocks if b.kind == "list" and b.text.startswith("removal: "))
     assert "Lenth" in block.text
     assert block.items == [f.text for f in effects_findings(data.effects["removal"], unit="%")]
+
+
+@pytest.mark.parametrize("kind", ["example:chelator-sweep", "example:five-factor-screen",
+                                  "example:surface-follow-up"])
+def test_the_answer_comes_first(kind):
+    # issue 17: the recommended recipe with its amounts, what matters, how sure, next step
+    report = rt.report_of(kind)
+    data, _ = rt.analysed(kind)
+    first = report.sections[0]
+    assert first.key == "answer" and first.available
+    text = " ".join(b.text for b in first.blocks) + " ".join(
+        str(i) for b in first.blocks for i in b.items)
+    assert text.startswith("Recommended: ")
+    for name in data.recommendation["settings"]:
+        assert name in text
+    assert "To mix one bath of" in text and " g tetrasodium EDTA" in text
+    assert "How sure:" in text and "Evidence: " in text and "Next step:" in text
+    lists = [b for b in first.blocks if b.kind == "list" and b.text == "What matters"]
+    assert lists and 1 <= len(lists[0].items) <= 5
+    assert report.section("models").folded and "<details" in report.to_html()

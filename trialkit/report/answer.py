@@ -9,7 +9,7 @@ trial when the best lies at the edge of the region).  Written from the numbers o
 
 from __future__ import annotations
 
-from trialkit.analysis.trial_data import TrialAnalysis
+from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis
 from trialkit.report.document import Block
 from trialkit.report.findings import pretty_unit
 
@@ -77,9 +77,10 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
                                  "The full steps and cautions are below."))
     said = [f.text for f in findings if f.response == primary and f.kind in TELLING]
     said += [f.text for f in findings if f.response != primary and f.kind in TELLING]
-    said += list(rec.get("reasons", []))[:2]
     if said:
         blocks.append(Block.bullets(said[:MAX_SENTENCES], "What matters"))
+    if rec.get("reasons"):
+        blocks.append(Block.bullets(list(rec["reasons"])[:2], "Why these settings"))
     pred = rec["predictions"].set_index("response")
     if primary in pred.index:
         p = pred.loc[primary]
@@ -91,7 +92,12 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
             f"{unit}; a single new bath {p['pi_low']:.3g} to {p['pi_high']:.3g} {unit}). "
             f"Evidence: {word} ({why})."))
     edge = _at_edge(data)
-    if edge:
+    if data.trial.design.kind in TWO_LEVEL_KINDS:
+        step = ("Next step: a screen tests only the ends of each range, so its best setting "
+                "is a corner. Follow it with a response-surface trial over the factors that "
+                "matter, centred near these settings, before settling on a recipe; or mix "
+                "three confirmation baths here if this corner will do.")
+    elif edge:
         step = (f"Next step: the best lies at the edge of the trial's region for "
                 f"{', '.join(edge)}; the best may lie beyond it. Plan a follow-up trial that "
                 "extends the range there before settling on a recipe.")

@@ -15,6 +15,7 @@ import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report import figure_list as figs
+from trialkit.report.answer import answer_blocks
 from trialkit.report.comparison_text import comparison_blocks
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import effects_findings, model_findings, pretty_unit
@@ -22,6 +23,7 @@ from trialkit.report.quality import readings_blocks
 from trialkit.report.reproduce import reproduce_blocks
 
 SECTION_TITLES = {
+    "answer": "The answer",
     "brief": "The trial in brief",
     "readings": "How complete the readings are",
     "matters": "What matters",
@@ -51,10 +53,11 @@ def build_report(data: TrialAnalysis) -> Report:
     """
     findings = _findings(data)
     sections = [
+        Section("answer", SECTION_TITLES["answer"], answer_blocks(data, findings)),
         Section("brief", SECTION_TITLES["brief"], _brief(data)),
         Section("readings", SECTION_TITLES["readings"], readings_blocks(data)),
         Section("matters", SECTION_TITLES["matters"], _matters(data, findings)),
-        Section("models", SECTION_TITLES["models"], _models(data)),
+        Section("models", SECTION_TITLES["models"], _models(data), folded=True),
         Section("recipe", SECTION_TITLES["recipe"], _recipe(data)),
         Section("confirm", SECTION_TITLES["confirm"], _confirm(data)),
         Section("safety", SECTION_TITLES["safety"], _safety(data)),

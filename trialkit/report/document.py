@@ -105,6 +105,7 @@ class Section:
     key: str
     title: str
     blocks: list[Block] = field(default_factory=list)
+    folded: bool = False  # shown closed (HTML <details>) for readers who want it
 
     @property
     def available(self) -> bool:
