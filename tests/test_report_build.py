@@ -252,3 +252,17 @@ def test_the_answer_comes_first(kind):
     lists = [b for b in first.blocks if b.kind == "list" and b.text == "What matters"]
     assert lists and 1 <= len(lists[0].items) <= 5
     assert report.section("models").folded and "<details" in report.to_html()
+
+
+def test_data_quality_notes_are_grouped_and_quote_no_extrapolated_times():
+    # issue 17: one row per kind of note with the baths it concerns
+    report = rt.report_of("example:chelator-sweep")
+    tables = [b.table for b in report.section("readings").blocks
+              if b.kind == "table" and b.text.startswith("Worth a look")]
+    assert tables
+    table = tables[0]
+    assert not table["note"].str.contains("would reach it at").any()
+    assert table["note"].is_unique
+    # the three untreated controls never reach 90 %: one row names all three
+    row = table[table["note"].str.startswith("90 % removal not reached")]
+    assert len(row) == 1 and len(row["concerns"].iloc[0].split(", ")) == 3

@@ -4,6 +4,8 @@ which values were corrected after first entry and which were flagged.
 
 from __future__ import annotations
 
+import re
+
 import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
@@ -13,15 +15,56 @@ ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end
 ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")
 
 
+#: What a note says about a time beyond the readings: dropped, not quoted as a number.
+_BEYOND = re.compile(r"; the model would reach it at [^;]*;")
+_WHO = re.compile(r"^(?P<who>[A-Za-z0-9_.-]+): (?P<what>.*)$", re.S)
+
+
+def grouped_notes(notes: list[str]) -> pd.DataFrame:
+    """One row per kind of note with the baths or coupons it concerns.
+
+    Notes of the form ``"B06: 90 % removal not reached ..."`` are grouped by what they
+    say; a time the model would reach beyond the readings is not quoted (it is an
+    extrapolation, not a result).
+
+    Examples
+    --------
+    >>> grouped_notes(["B06: 90 % removal not reached within the readings (last at 72 h); "
+    ...                "the model would reach it at 4.1e+03 h; not reported as a result.",
+    ...                "B13: 90 % removal not reached within the readings (last at 72 h); "
+    ...                "the model would reach it at 2.7e+03 h; not reported as a result."]
+    ...               ).to_dict("records")  # doctest: +NORMALIZE_WHITESPACE
+    [{'note': '90 % removal not reached within the readings (last at 72 h); not reported
+    as a result.', 'concerns': 'B06, B13'}]
+    """
+    groups: dict[str, list[str]] = {}
+    for text in notes:
+        m = _WHO.match(text)
+        who, what = (m.group("who"), m.group("what")) if m else ("", text)
+        what = _BEYOND.sub(";", what)
+        groups.setdefault(what, [])
+        if who:
+            groups[what].append(who)
+    return pd.DataFrame([{"note": k, "concerns": ", ".join(dict.fromkeys(v))}
+                         for k, v in groups.items()], columns=["note", "concerns"])
+
+
 def readings_blocks(data: TrialAnalysis) -> list[Block]:
     """How complete the readings are: counts, missing readings, revisions, flags."""
-    blocks: list[Block] = []
     if data.log is None:
         if data.baths is not None and data.responses is None:
             return [Block.note("the readings were given as a table of bath results, not "
                                "through the record log, so missing readings and revisions "
                                "cannot be checked")]
-        return blocks + [Block.note(t) for t in data.notes.get("readings", [])]
+        return ([Block.note(t) for t in data.notes.get("readings", [])]
+                + _response_notes(data))
+    return _log_blocks(data) + _response_notes(data) + [
+        Block.note(t) for k in ("readings", "responses") for t in data.notes.get(k, [])]
+
+
+def _log_blocks(data: TrialAnalysis) -> list[Block]:
+    """Counts, missing readings and corrections from the record log."""
+    blocks: list[Block] = []
     hist, cur = data.history, data.current
     n_rev = int((hist.revision > 1).sum()) if len(hist) else 0
     blocks.append(Block.pairs([
@@ -54,6 +97,12 @@ def readings_blocks(data: TrialAnalysis) -> list[Block]:
         blocks.append(Block.frame(rev[["coupon", "field", "value", "revision", "source"]]
                                   .head(40).reset_index(drop=True),
                                   "Values corrected after first entry (every revision kept)"))
+    return blocks
+
+
+def _response_notes(data: TrialAnalysis) -> list[Block]:
+    """Values the responses left out, and notes worth a look, grouped."""
+    blocks: list[Block] = []
     probs = list(getattr(data.responses, "problems", []) or [])
     if probs:
         blocks.append(Block.frame(pd.DataFrame([{"where": p.where, "reading": p.column,
@@ -62,6 +111,6 @@ def readings_blocks(data: TrialAnalysis) -> list[Block]:
                                   "Flagged values (left out of the results)"))
     warns = list(getattr(data.responses, "warnings", []) or [])
     if warns:
-        blocks.append(Block.bullets(warns, "Worth a look"))
-    notes = [t for k in ("readings", "responses") for t in data.notes.get(k, [])]
-    return blocks + [Block.note(t) for t in notes]
+        blocks.append(Block.frame(grouped_notes(warns), "Worth a look: one row per kind of "
+                                                        "note, with the baths it concerns"))
+    return blocks
