@@ -34,7 +34,7 @@ def test_recipe_writes_csv_and_html(tmp_path, cli):
     (tmp_path / "trial.toml").write_text(TRIAL, encoding="utf-8")
     r = cli("recipe", str(tmp_path / "trial.toml"))
     assert r.returncode == 0, r.stderr
-    csv = pd.read_csv(tmp_path / "mixing_sheet.csv")
+    csv = pd.read_csv(tmp_path / "mixing_sheet.csv", skiprows=1)  # after the caution line
     assert set(csv.bath) == {"B01", "B02", "B03"}
     html = (tmp_path / "mixing_sheet.html").read_text()
     assert "<h1>Mixing sheet: invented example</h1>" in html

@@ -160,5 +160,5 @@ def test_05_surface_optimum_interval_covers_the_truth_and_cost_pulls_cheaper(tmp
     assert r["cost_at_three"] < r["cost_at_two"]
     page = (tmp_path / r["report"]).read_text(encoding="utf-8")
     assert "invented" in page.lower()
-    assert r["sections"] == ["brief", "readings", "matters", "models", "recipe", "confirm",
-                             "safety", "reproduce"]
+    assert r["sections"] == ["answer", "brief", "readings", "matters", "models", "recipe",
+                             "confirm", "safety", "reproduce"]

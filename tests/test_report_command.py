@@ -19,7 +19,8 @@ def test_report_command_writes_html_and_markdown(tmp_path, cli):
     assert data["html"] == str(out) and out.exists() and md.exists()
     page = out.read_text(encoding="utf-8")
     assert page.startswith("<!DOCTYPE html>") and trial.title in page
-    assert [s["key"] for s in data["sections"]][:3] == ["brief", "readings", "matters"]
+    assert [s["key"] for s in data["sections"]][:4] == ["answer", "brief", "readings",
+                                                        "matters"]
     chel = next(f for f in data["findings"] if f["term"] == "chelator"
                 and f["response"] == "removal")
     assert chel["text"] in html.unescape(page)

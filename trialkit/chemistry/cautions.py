@@ -31,16 +31,36 @@ BY_HAZARD = {
 }
 
 
-def cautions_for(hazards: set[str] | list[str], *, acidic_bath: bool = False) -> list[str]:
-    """Cautions for a bath whose ingredients carry ``hazards``.
+#: Above this a bath counts as heated (room temperature; common practice).
+ROOM_TEMPERATURE_C = 25.0
+HEATED = ("Heated bath: hot solution scalds, so heat it in a controlled way (a thermostatic "
+          "water bath or heater, never an open flame under a plastic tank), expect more "
+          "fumes and ventilate well, and mark the level: evaporation concentrates the bath, "
+          "so top it up with water to the mark.")
+
+
+def cautions_for(hazards: set[str] | list[str], *, acidic_bath: bool = False,
+                 temperature_c: float | None = None) -> list[str]:
+    """Cautions for a bath whose ingredients carry ``hazards``, at ``temperature_c``.
+
+    Only the hazards given are warned about (a bath without acid gets no acid caution);
+    a bath warmer than :data:`ROOM_TEMPERATURE_C` gets the heated-bath caution; the
+    general cautions (protection, safety data sheets, ventilation, disposal of spent
+    baths, pH meter) always follow.
 
     Examples
     --------
     >>> any("hydrogen" in c for c in cautions_for(["acidic"]))
+    True
+    >>> any("hydrogen" in c for c in cautions_for(["alkaline"]))
+    False
+    >>> any(c.startswith("Heated bath") for c in cautions_for([], temperature_c=40))
     True
     """
     keys = set(hazards)
     if acidic_bath:
         keys.add("acidic")
     out = [BY_HAZARD[k] for k in BY_HAZARD if k in keys]
+    if temperature_c is not None and float(temperature_c) > ROOM_TEMPERATURE_C:
+        out.append(HEATED)
     return out + list(GENERAL)

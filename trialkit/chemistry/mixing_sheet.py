@@ -23,6 +23,11 @@ from trialkit.chemistry.recipe import BathRecipe, BathSpec, make_recipe
 from trialkit.chemistry.volume import bath_volume
 from trialkit.exceptions import ChemistryError
 
+#: First line of the CSV mixing sheet.
+CSV_CAUTION = ("# CAUTION: wear eye protection and chemical-resistant gloves; read the safety "
+               "data sheet of every ingredient (it and local codes take precedence); the "
+               "HTML mixing sheet lists the cautions of these baths.")
+
 #: Columns of :meth:`MixingSheet.table` (one row per bath and ingredient).
 SHEET_COLUMNS = ("recipe", "bath", "point", "volume_l", "ingredient", "grams", "millilitres",
                  "basis", "target_ph", "predicted_ph", "temperature_c")
@@ -89,8 +94,11 @@ class MixingSheet:
                 "cautions": self.cautions}
 
     def write_csv(self, path: str | Path) -> Path:
+        """The table as CSV, after one caution line (read it back with ``skiprows=1``)."""
         path = Path(path)
-        self.table().to_csv(path, index=False)
+        with open(path, "w", encoding="utf-8", newline="") as out:
+            out.write(f"{CSV_CAUTION}\n")
+            self.table().to_csv(out, index=False, lineterminator="\n")
         return path
 
     def to_html(self) -> str:

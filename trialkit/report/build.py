@@ -332,8 +332,12 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
 def _safety(data: TrialAnalysis) -> list[Block]:
     from trialkit.chemistry.cautions import cautions_for
 
-    items = list(data.recipe.cautions) if data.recipe is not None else []
-    for c in cautions_for(["alkaline", "acidic"]):
-        if c not in items:
-            items.append(c)
-    return [Block.bullets(items), Block.para(NOT_THE_LAST_WORD)]
+    if data.recipe is not None:
+        lead = ("For the recommended recipe (the mixing sheet lists the cautions of every "
+                "bath of the trial, the reference bath included):")
+        items = list(data.recipe.cautions)
+    else:
+        lead = ("No recipe was worked out, so these are the general cautions; the mixing "
+                "sheet ('trialkit recipe') gives those of each bath's ingredients.")
+        items = cautions_for([])
+    return [Block.para(lead), Block.bullets(items), Block.para(NOT_THE_LAST_WORD)]
