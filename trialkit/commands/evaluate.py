@@ -62,7 +62,8 @@ def evaluation_kwargs(args: argparse.Namespace) -> dict:
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("trial", help="trial file (.toml) or trial folder")
+    parser.add_argument("trial", nargs="?", default=".",
+                        help="trial file (.toml) or trial folder (default: the current folder)")
     add_evaluation_options(parser)
 
 

@@ -6,7 +6,8 @@ import argparse
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("folder", metavar="DIR", help="trial folder (holds the record log)")
+    parser.add_argument("folder", metavar="DIR", nargs="?", default=".",
+                        help="trial folder (holds the record log) (default: the current folder)")
     parser.add_argument("--coupon", metavar="ID", default=None, help="only this coupon")
     parser.add_argument("--json", action="store_true",
                         help="print a JSON list of {coupon, inspection, field, value, "

@@ -7,7 +7,8 @@ from pathlib import Path
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("trial", help="trial file (.toml) or trial folder")
+    parser.add_argument("trial", nargs="?", default=".",
+                        help="trial file (.toml) or trial folder (default: the current folder)")
     parser.add_argument("--out", metavar="DIR",
                         help="folder for plan.csv and plan.json (default: beside the trial file)")
     parser.add_argument("--json", action="store_true", help="print the plan summary as JSON")

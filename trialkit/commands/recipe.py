@@ -9,7 +9,8 @@ from trialkit.commands._output import print_json
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("trial", help="trial file (trial.toml) or its folder")
+    parser.add_argument("trial", nargs="?", default=".",
+                        help="trial file (trial.toml) or its folder (default: the current folder)")
     parser.add_argument("--out", default=None,
                         help="folder for mixing_sheet.csv and mixing_sheet.html "
                              "(default: beside the trial file)")

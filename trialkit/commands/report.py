@@ -7,9 +7,11 @@ from pathlib import Path
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("folder", help="trial folder (holding trial.toml) or the trial file")
-    parser.add_argument("--out", metavar="FILE", default="report.html",
-                        help="HTML file to write (default: report.html in the current folder)")
+    parser.add_argument("folder", nargs="?", default=".",
+                        help="trial folder (holding trial.toml) or the trial file "
+                             "(default: the current folder)")
+    parser.add_argument("--out", metavar="FILE",
+                        help="HTML file to write (default: report.html in the trial folder)")
     parser.add_argument("--markdown", metavar="FILE",
                         help="also write the report as Markdown (figures beside it)")
     parser.add_argument("--bath-results", metavar="CSV",
@@ -56,6 +58,10 @@ def run(args: argparse.Namespace) -> int:
     from trialkit.report.build import build_report
     from trialkit.report.document import ReportError
 
+    if args.out is None:
+        from trialkit.trial.file import find_trial_file
+
+        args.out = str(find_trial_file(args.folder).parent / "report.html")
     if Path(args.out).suffix.lower() not in (".html", ".htm"):
         raise ReportError(f"--out must name an .html file; got {args.out!r}. Use e.g. "
                           "--out report.html (and --markdown notes.md for Markdown)")

@@ -16,7 +16,9 @@ SHOWN = ("removal_pct", "rust_removed_g_per_m2", "corrosion_rate_mm_per_y", "rus
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("folder", help="trial folder (holding trial.toml and the record log)")
+    parser.add_argument("folder", nargs="?", default=".",
+                        help="trial folder (holding trial.toml and the record log; "
+                             "default: the current folder)")
     parser.add_argument("--json", action="store_true",
                         help="print coupons, baths, methods and problems as JSON")
     parser.add_argument("--coupons", action="store_true",

@@ -9,7 +9,8 @@ DEFAULT_STEM = "recording-sheet"
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("folder", metavar="DIR", help="trial folder (holds trial.toml)")
+    parser.add_argument("folder", metavar="DIR", nargs="?", default=".",
+                        help="trial folder (holds trial.toml) (default: the current folder)")
     parser.add_argument("--format", dest="fmt", choices=("xlsx", "csv", "html"),
                         default="xlsx", help="sheet format (default xlsx)")
     parser.add_argument("--out", metavar="FILE", default=None,
