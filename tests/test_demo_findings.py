@@ -59,8 +59,9 @@ def test_surface_findings_give_the_best_point_with_an_interval():
     assert set(rem["optimum"]) == {"chelator", "ph"}
     for name, (lo, hi) in rem["interval"].items():
         assert lo <= rem["optimum"][name] <= hi
-    # cost comes from the recipes, not the readings: it is not among the findings
-    assert "cost" not in found or "error" in found["cost"]
+    # cost comes from the recipes (issue 16): the cheapest bath has the least chelator
+    cost = found["cost"]
+    assert cost["optimum"]["chelator"] == min(rem["interval"]["chelator"][0], 3.0)
 
 
 def test_too_few_values_is_reported_not_raised():

@@ -273,3 +273,21 @@ def test_data_quality_notes_are_grouped_and_quote_no_extrapolated_times():
     # the three untreated controls never reach 90 %: one row names all three
     row = table[table["note"].str.startswith("90 % removal not reached")]
     assert len(row) == 1 and len(row["concerns"].iloc[0].split(", ")) == 3
+
+
+def _visible_text(page: str) -> str:
+    page = re.sub(r'src="data:image/png;base64,[^"]*"', 'src=""', page)
+    return re.sub(r"<style>.*?</style>", "", page, flags=re.S)
+
+
+@pytest.mark.parametrize("kind", ["example:chelator-sweep", "example:five-factor-screen",
+                                  "example:surface-follow-up"])
+def test_numbers_read_like_a_lab_report(kind):
+    # issue 17: no Python reprs, no exponent notation in the tables people read
+    page = _visible_text(rt.report_of(kind).to_html())
+    assert "np.float64(" not in page and "{'" not in page
+    cells = re.findall(r"<td>([^<]*)</td>", page)
+    assert cells
+    assert not [c for c in cells if re.fullmatch(r"-?\d(\.\d+)?e[+-]\d+", c)]
+    p_cells = re.findall(r"<td>(&lt; 0\.001)</td>", page)
+    assert p_cells       # tiny p-values are shown as "< 0.001"

@@ -24,6 +24,13 @@ from trialkit.trial.factors import Factor
 KINDS = ("continuous", "categorical", "ordinal")
 
 
+
+def _level_text(value) -> str:
+    """A level as a person writes it: ``40``, ``5.5``, ``added`` (no Python repr)."""
+    from trialkit.numbers import readable
+
+    return readable(value) if isinstance(value, (int, float)) else str(value)
+
 def factors_from_table(table: pd.DataFrame, specs: Sequence[str]) -> tuple[Factor, ...]:
     """Factors for a plain table from ``NAME`` or ``NAME:categorical`` (``:ordinal``).
 
@@ -121,9 +128,9 @@ def prepare(table: pd.DataFrame, response: str, factors: Sequence[Factor],
     for f in factors:
         if natural[f.name].astype(str).nunique() < 2:
             raise AnalysisError(
-                f"factor {f.name!r} has only one level ({natural[f.name].iloc[0]!r}) among "
-                "the usable rows; a factor needs two or more levels — remove it from the "
-                "model or add baths at other levels")
+                f"factor {f.name!r} has only one level ({_level_text(natural[f.name].iloc[0])})"
+                " among the usable rows; a factor needs two or more levels — remove it "
+                "from the model or add baths at other levels")
     coded = coded_frame(natural, factors)
     return Prepared(natural, coded, int((~keep).sum()))
 

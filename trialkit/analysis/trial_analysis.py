@@ -132,8 +132,12 @@ def _bath_table(data: TrialAnalysis, responses, baths: pd.DataFrame | None) -> p
         return None
     table = data.plan.baths.copy()
     table["bath"] = table["bath"].astype(str)
+    costs = _costs(data)
     for spec in data.trial.responses:
         measure = spec.measure or spec.name
+        if costs is not None and measure in costs:
+            table[spec.name] = table["bath"].map(costs.set_index("bath")[measure].to_dict())
+            continue
         try:
             values = responses.bath_values(measure)
         except TrialkitError as exc:
@@ -141,6 +145,19 @@ def _bath_table(data: TrialAnalysis, responses, baths: pd.DataFrame | None) -> p
             continue
         table[spec.name] = table["bath"].map(values.to_dict())
     return table
+
+
+def _costs(data: TrialAnalysis) -> pd.DataFrame | None:
+    """Each bath's cost from its recipe, when a response asks for a cost measure."""
+    from trialkit.responses.bath_cost import COST_MEASURES, bath_costs
+
+    if not any((s.measure or s.name) in COST_MEASURES for s in data.trial.responses):
+        return None
+    try:
+        return bath_costs(data.plan)
+    except TrialkitError as exc:
+        data.note("responses", f"cost: {first_line(exc)}")
+        return None
 
 
 def _timecourse(data: TrialAnalysis, timecourse: pd.DataFrame | None) -> None:

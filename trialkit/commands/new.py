@@ -16,12 +16,31 @@ def starter_text() -> str:
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("folder", help="folder to create (or an empty existing one)")
+    parser.add_argument("folder", nargs="?",
+                        help="folder to create (or an empty existing one)")
     parser.add_argument("--force", action="store_true",
                         help=f"overwrite an existing {TRIAL_FILE_NAME}")
+    parser.add_argument("--measures", action="store_true",
+                        help="list the measures a [[response]] may name, and exit")
+
+
+def measures_text() -> str:
+    """The measures a response may name, one per line."""
+    from trialkit.responses.measures import known_measures
+
+    known = known_measures()
+    width = max(map(len, known))
+    return "\n".join(f"{name:<{width}}  {text}" for name, text in known.items())
 
 
 def run(args: argparse.Namespace) -> int:
+    if args.measures:
+        print("measures a [[response]] may name (measure = \"...\"):")
+        print(measures_text())
+        return 0
+    if args.folder is None:
+        raise TrialkitError("name the folder to create: trialkit new FOLDER "
+                            "(or trialkit new --measures for the list of measures)")
     folder = Path(args.folder)
     target = folder / TRIAL_FILE_NAME
     if target.exists() and not args.force:
@@ -29,5 +48,6 @@ def run(args: argparse.Namespace) -> int:
                             "Use --force to overwrite it, or choose another folder.")
     folder.mkdir(parents=True, exist_ok=True)
     target.write_text(starter_text(), encoding="utf-8")
-    print(f"wrote {target}\nnext: edit it, then run  trialkit plan {target}")
+    print(f"wrote {target}\nnext: edit it, then run  trialkit plan {target}\n"
+          "measures a [[response]] may name: trialkit new --measures")
     return 0

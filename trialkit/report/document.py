@@ -21,9 +21,11 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import TrialkitError
+from trialkit.numbers import P_COLUMNS, readable, readable_p
 
 TEMPLATE = "report.html.j2"
 
@@ -84,18 +86,21 @@ class Block:
         return cls("figure", title, png_base64=png_base64, alt=alt or title)
 
     def table_rows(self, digits: int = 4) -> tuple[list[str], list[list[str]]]:
-        """Header and rows of the table as text (numbers to ``digits`` significant)."""
+        """Header and rows of the table as text (:mod:`trialkit.numbers`: ``digits``
+        significant, plain notation, p-values as ``< 0.001``)."""
         df = self.table if self.table is not None else pd.DataFrame()
+        is_p = [str(c) in P_COLUMNS for c in df.columns]
 
-        def cell(v) -> str:
-            if v is None or (isinstance(v, float) and v != v):
-                return ""
-            if isinstance(v, float):
-                return f"{v:.{digits}g}"
+        def cell(v, p: bool) -> str:
+            if isinstance(v, bool) or v is None:
+                return "" if v is None else str(v)
+            if isinstance(v, (float, np.floating, np.integer, int)):
+                return readable_p(v) if p else readable(v, digits)
             return str(v)
 
         return ([str(c) for c in df.columns],
-                [[cell(v) for v in row] for row in df.itertuples(index=False)])
+                [[cell(v, p) for v, p in zip(row, is_p, strict=True)]
+                 for row in df.itertuples(index=False)])
 
 
 @dataclass
