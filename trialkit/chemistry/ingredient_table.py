@@ -22,6 +22,10 @@ from trialkit.chemistry.catalogue import (
 from trialkit.exceptions import ChemistryError
 from trialkit.problems import ProblemReport, did_you_mean
 
+#: Keys of an ``[[ingredient]]`` table.
+INGREDIENT_KEYS = ("name", "aliases", "formula", "hydrate", "assay", "form", "role", "species",
+                   "density_g_ml", "strength_w_w", "fe_per_mol", "hazards", "price", "notes")
+
 
 def parse_ingredient(raw: Any, problems: ProblemReport, where: str) -> Ingredient | None:
     """Read one ``[[ingredient]]`` table; problems are added to ``problems``."""
@@ -30,8 +34,7 @@ def parse_ingredient(raw: Any, problems: ProblemReport, where: str) -> Ingredien
                      fix="write it as [[ingredient]] with name = ..., formula = ...")
         return None
     before = len(problems)
-    allowed = {"name", "aliases", "formula", "hydrate", "assay", "form", "role", "species",
-               "density_g_ml", "strength_w_w", "fe_per_mol", "hazards", "price", "notes"}
+    allowed = set(INGREDIENT_KEYS)
     for key in raw:
         if key not in allowed:
             problems.add(f"{where}.{key}", "unknown key in an ingredient", value=key,

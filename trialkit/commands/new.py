@@ -22,19 +22,21 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help=f"overwrite an existing {TRIAL_FILE_NAME}")
     parser.add_argument("--measures", action="store_true",
                         help="list the measures a [[response]] may name, and exit")
+    parser.add_argument("--explain", action="store_true",
+                        help="print the reference of the trial file (every section and "
+                        "key), and exit")
 
-
-def measures_text() -> str:
-    """The measures a response may name, one per line."""
-    from trialkit.responses.measures import known_measures
-
-    known = known_measures()
-    width = max(map(len, known))
-    return "\n".join(f"{name:<{width}}  {text}" for name, text in known.items())
 
 
 def run(args: argparse.Namespace) -> int:
+    if args.explain:
+        from trialkit.commands.trial_reference import reference_markdown
+
+        print(reference_markdown())
+        return 0
     if args.measures:
+        from trialkit.responses.measures import measures_text
+
         print("measures a [[response]] may name (measure = \"...\"):")
         print(measures_text())
         return 0

@@ -16,6 +16,9 @@ from dataclasses import dataclass
 from trialkit.exceptions import ModelSpecError
 from trialkit.problems import ProblemReport, did_you_mean
 
+#: Keys of the ``[evaluation]`` section.
+EVALUATION_KEYS = ("sd", "effects", "response", "alpha", "model", "target_power")
+
 
 @dataclass(frozen=True)
 class EvaluationSettings:
@@ -49,7 +52,7 @@ def parse_evaluation_section(raw, trial, problems: ProblemReport,
 
     ``effects`` is one number (every term) or a table ``{term = size}`` in response units.
     """
-    allowed = ("sd", "effects", "response", "alpha", "model", "target_power")
+    allowed = EVALUATION_KEYS
     if not isinstance(raw, Mapping):
         problems.add(where, "the evaluation section must be a table", value=type(raw).__name__,
                      fix="write [evaluation] with keys " + ", ".join(allowed), check="not_table")

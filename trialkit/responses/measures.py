@@ -22,6 +22,13 @@ def known_measures() -> dict[str, str]:
     return out
 
 
+def measures_text() -> str:
+    """The measures a response may name, one per line (``trialkit new --measures``)."""
+    known = known_measures()
+    width = max(map(len, known))
+    return "\n".join(f"{name:<{width}}  {text}" for name, text in known.items())
+
+
 def check_measures(trial) -> None:
     """Refuse a trial whose responses name a measure trialkit does not compute.
 
