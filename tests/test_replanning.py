@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import hashlib
 
+import pytest
 from trial_texts import trial_text
 
 from trialkit.analysis.trial_analysis import analyze
@@ -59,3 +60,39 @@ def test_the_same_trial_plans_again_beside_its_readings(tmp_path):
     folder, plan = _recorded(tmp_path)
     assert main(["plan", str(folder)]) == 0          # unchanged: same plan, allowed
     assert RecordLog.for_folder(folder).plan_fingerprint() == plan.fingerprint
+
+
+BATH = """
+[bath]
+adjust_with = "citric acid"
+target_ph = 6.5
+set_by = { temperature = "temperature" }
+[[bath.ingredient]]
+name = "tetrasodium EDTA"
+factor = "chelator"
+"""
+
+
+def test_a_bath_recorded_off_its_planned_temperature_is_listed(tmp_path):
+    # issue 16: the bath pH and temperature recorded at the bench are compared with the plan
+    from trialkit.report.build import build_report
+
+    folder = tmp_path / "trial"
+    folder.mkdir()
+    (folder / "trial.toml").write_text(TEXT + BATH, encoding="utf-8")
+    plan = load_plan(folder)
+    hot = plan.baths[plan.baths.temperature == 40].bath.iloc[0]
+    rows = []
+    for r in plan.table.itertuples():
+        t = float(r.temperature) + (5.0 if r.bath == hot else 0.4)
+        rows += [(r.coupon, 0, "bath_temperature_c", t), (r.coupon, 0, "bath_ph", 6.55)]
+    RecordLog.for_folder(folder).add_readings(rows, source="day1.csv", sha256="e" * 64,
+                                              fingerprint=plan.fingerprint)
+    result = analyze(folder)
+    off = result.bench
+    assert list(off.bath) == [hot] and off.quantity.iloc[0] == "temperature"
+    assert off.difference.iloc[0] == pytest.approx(5.0) and off.planned.iloc[0] == 40
+    assert result.to_dict()["bench_deviations"][0]["bath"] == hot
+    quality = build_report(result).section("readings")
+    assert any(b.kind == "table" and b.text.startswith("Bath conditions off the plan")
+               for b in quality.blocks)

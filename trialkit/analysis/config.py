@@ -40,7 +40,8 @@ from trialkit.exceptions import ModelSpecError
 from trialkit.problems import ProblemReport, did_you_mean
 
 KEYS = ("model", "alpha", "anova_type", "reduce", "threshold", "sweep", "tolerance",
-        "relative_tolerance", "bootstrap", "response")
+        "relative_tolerance", "bootstrap", "response", "ph_tolerance",
+        "temperature_tolerance")
 REDUCE = ("none", "p", "aic", "bic")
 
 
@@ -58,6 +59,8 @@ class AnalysisConfig:
     relative_tolerance: float = 0.05
     bootstrap: int = 2000
     response_models: dict = field(default_factory=dict)
+    ph_tolerance: float = 0.3
+    temperature_tolerance: float = 2.0
 
     def model_for(self, response: str) -> str | None:
         """The model text for ``response`` (its own, else the section's)."""
@@ -119,6 +122,8 @@ def parse_analysis_section(raw, trial, problems: ProblemReport, where: str) -> A
     rel = _number(raw, "relative_tolerance", problems, where, 0.0, 1.0, 0.05)
     tol = _number(raw, "tolerance", problems, where, 0.0, float("inf"), None)
     boot = _number(raw, "bootstrap", problems, where, 0, 100_000, 2000, integer=True)
+    ph_tol = _number(raw, "ph_tolerance", problems, where, 0.0, 14.0, 0.3)
+    t_tol = _number(raw, "temperature_tolerance", problems, where, 0.0, 100.0, 2.0)
     reduce = raw.get("reduce", "none")
     if reduce not in REDUCE:
         problems.add(f"{where}.reduce", "reduce must be one of " + ", ".join(REDUCE),
@@ -153,4 +158,5 @@ def parse_analysis_section(raw, trial, problems: ProblemReport, where: str) -> A
             if m is not None:
                 models[name] = m
     return AnalysisConfig(model, float(alpha), int(typ), reduce, float(threshold), sweep,
-                          None if tol is None else float(tol), float(rel), int(boot), models)
+                          None if tol is None else float(tol), float(rel), int(boot), models,
+                          float(ph_tol), float(t_tol))

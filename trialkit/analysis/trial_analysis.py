@@ -84,6 +84,7 @@ def load_inputs(folder: str | Path, *, responses=None, baths: pd.DataFrame | Non
             data.note("responses", f"responses could not be computed: {first_line(exc)}")
     data.responses = responses
     data.baths = _bath_table(data, responses, baths)
+    _bench(data)
     _timecourse(data, timecourse)
     return data
 
@@ -145,6 +146,15 @@ def _bath_table(data: TrialAnalysis, responses, baths: pd.DataFrame | None) -> p
             continue
         table[spec.name] = table["bath"].map(values.to_dict())
     return table
+
+
+def _bench(data: TrialAnalysis) -> None:
+    """Recorded bath pH and temperature against the plan."""
+    from trialkit.analysis.bench_conditions import bench_deviations
+
+    if data.current is not None and "bath" in data.current:
+        data.bench = bench_deviations(data.trial, data.plan.baths, data.current,
+                                      config_of(data.trial))
 
 
 def _costs(data: TrialAnalysis) -> pd.DataFrame | None:

@@ -47,6 +47,7 @@ class TrialAnalysis:
     confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
     comparisons: list = field(default_factory=list)  # Tukey, levels of categorical factors
     versus_controls: list = field(default_factory=list)  # Dunnett, against the controls
+    bench: pd.DataFrame | None = None  # baths whose recorded pH / temperature is off plan
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -87,6 +88,8 @@ class TrialAnalysis:
             "recommendation": self.recommendation_dict(),
             "comparisons": list(self.comparisons),
             "versus_controls": list(self.versus_controls),
+            "bench_deviations": ([] if self.bench is None
+                                 else self.bench.to_dict("records")),
             "confirmation": {k: v.to_dict() for k, v in self.confirmations.items()},
             "notes": {k: list(v) for k, v in self.notes.items()},
         }

@@ -149,6 +149,9 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
         "bootstrap": ("whole number", "2000 (the report: 0)", "resamples for optimum "
                       "intervals"),
         "response": ("table", "{}", "a model per response, e.g. { attack = \"main\" }"),
+        "ph_tolerance": ("pH units", "0.3", "a recorded bath pH further than this from the "
+                         "plan is listed in the data-quality notes"),
+        "temperature_tolerance": ("°C", "2", "the same for the recorded bath temperature"),
     },
     "[evaluation]": {
         "sd": ("number > 0", "none", "bath-to-bath SD, response units"),

@@ -101,8 +101,13 @@ def _log_blocks(data: TrialAnalysis) -> list[Block]:
 
 
 def _response_notes(data: TrialAnalysis) -> list[Block]:
-    """Values the responses left out, and notes worth a look, grouped."""
+    """Bath conditions off the plan, values the responses left out, and notes worth a
+    look, grouped."""
     blocks: list[Block] = []
+    if data.bench is not None and len(data.bench):
+        blocks.append(Block.frame(data.bench, "Bath conditions off the plan (recorded at "
+                                              "the bench against the planned value; the "
+                                              "analysis uses the planned settings)"))
     probs = list(getattr(data.responses, "problems", []) or [])
     if probs:
         blocks.append(Block.frame(pd.DataFrame([{"where": p.where, "reading": p.column,
