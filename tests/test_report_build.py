@@ -291,3 +291,16 @@ def test_numbers_read_like_a_lab_report(kind):
     assert not [c for c in cells if re.fullmatch(r"-?\d(\.\d+)?e[+-]\d+", c)]
     p_cells = re.findall(r"<td>(&lt; 0\.001)</td>", page)
     assert p_cells       # tiny p-values are shown as "< 0.001"
+
+
+def test_the_answer_tells_of_wanted_responses_and_does_not_flag_what_a_compromise_weighs():
+    report = rt.report_of("example:surface-follow-up")
+    data, _ = rt.analysed("example:surface-follow-up")
+    first = report.sections[0]
+    told = " ".join(i for b in first.blocks if b.text == "What matters" for i in b.items)
+    for name, spec in data.specs.items():
+        if not spec.is_wanted:          # rust_removed and mass_loss are record-only here
+            assert name not in told, name
+    weighed = {a.response for a in data.desirability.aims}
+    assert "cost" in weighed
+    assert not any(r.startswith(tuple(weighed)) for r in data.recommendation["reasons"])

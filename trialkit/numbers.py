@@ -49,6 +49,11 @@ def readable(value, digits: int = 4) -> str:
     return "0" if text in ("-0", "") else text
 
 
+def readable_unit(unit: str | None) -> str:
+    """A unit as a reader writes it: ``g/m**2`` -> ``g/m²``, ``degC`` -> ``°C``."""
+    return str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C")
+
+
 def readable_p(value) -> str:
     """A p-value: ``< 0.001`` below a thousandth, else two significant digits."""
     if value is None:

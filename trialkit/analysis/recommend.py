@@ -98,6 +98,9 @@ def _limit_text(spec) -> str:
 
 
 def _fmt(value: float, unit: str) -> str:
+    from trialkit.numbers import readable_unit
+
+    unit = readable_unit(unit)
     return f"{value:.3g}{(' ' + unit) if unit else ''}"
 
 
@@ -194,6 +197,7 @@ def _flag_unlimited(data: TrialAnalysis, rows: list[dict], reasons: list[str]) -
     if data.baths is None:
         return
     treated = data.baths[~data.baths["point"].isin(["control", "reference"])]
+    traded = {a.response for a in getattr(data.desirability, "aims", ())}
     for name in _limited(data):  # the best bath to compare with keeps the stated limits
         if name in treated:
             spec = data.specs[name]
@@ -201,7 +205,8 @@ def _flag_unlimited(data: TrialAnalysis, rows: list[dict], reasons: list[str]) -
             treated = treated[keeps.fillna(False).astype(bool)]
     for row in rows:
         spec = data.specs[row["response"]]
-        if not spec.is_wanted or spec.aim == "on-target" or spec.unacceptable is not None:
+        if not spec.is_wanted or spec.aim == "on-target" or spec.unacceptable is not None \
+                or row["response"] in traded:  # a compromise already weighs it
             continue
         observed = treated[row["response"]].dropna().astype(float) \
             if row["response"] in treated else pd.Series(dtype=float)

@@ -75,8 +75,10 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
         blocks.append(Block.para(f"To mix one bath of {r.volume_l:g} L: {amounts}; make up "
                                  f"to volume with water (predicted pH {r.predicted_ph:.2f}). "
                                  "The full steps and cautions are below."))
+    wanted = {n for n, s in data.specs.items() if s.is_wanted}
     said = [f.text for f in findings if f.response == primary and f.kind in TELLING]
-    said += [f.text for f in findings if f.response != primary and f.kind in TELLING]
+    said += [f.text for f in findings if f.response != primary and f.kind in TELLING
+             and f.response in wanted]
     if said:
         blocks.append(Block.bullets(said[:MAX_SENTENCES], "What matters"))
     if rec.get("reasons"):
