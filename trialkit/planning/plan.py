@@ -50,6 +50,7 @@ import pandas as pd
 from trialkit.exceptions import PlanError
 from trialkit.planning.designs.base import Design
 from trialkit.problems import ProblemReport
+from trialkit.trial import limits
 from trialkit.trial.file import Trial, load_trial
 
 PLAN_FILE = "plan.csv"
@@ -204,6 +205,7 @@ def make_plan(trial: Trial) -> Plan:
     design = build_design(trial.factors, trial.design.kind, trial.design.options,
                           seed=trial.seed, folder=trial.folder)
     layout = trial.layout
+    check_plan_size(trial, design.n_points)
     names = [f.name for f in trial.factors]
     notes: list[str] = []
     confounded: list[str] = []
@@ -300,6 +302,36 @@ def make_plan(trial: Trial) -> Plan:
     table = table[[*LEADING_COLUMNS, *names, *TRAILING_COLUMNS]].reset_index(drop=True)
     return Plan(trial=trial, design=design, table=table, baths=baths.reset_index(drop=True),
                 coded=coded, notes=notes, confounded_with_blocks=list(confounded))
+
+
+def check_plan_size(trial: Trial, n_points: int) -> None:
+    """Refuse a plan above the limits of :mod:`trialkit.trial.limits`, before laying it out.
+
+    The counts are computed from the layout (nothing is allocated), so an oversized trial
+    is refused at once.
+    """
+    layout = trial.layout
+    baths = (n_points * layout.replicates
+             + (layout.center_points + len(layout.controls)) * layout.blocks)
+    coupons = baths * (layout.coupons_per_bath + layout.witness_coupons)
+    problems = ProblemReport(str(trial.path or "<trial>"))
+    said = (f"{n_points} design points x {layout.replicates} replicate(s) + "
+            f"{layout.center_points + len(layout.controls)} center/control bath(s) x "
+            f"{layout.blocks} block(s)")
+    if n_points > limits.MAX_DESIGN_POINTS:
+        problems.add("design", f"the design has {n_points:,} points; the limit is "
+                     f"{limits.MAX_DESIGN_POINTS:,}", value=n_points, check="over_limit",
+                     fix="choose a smaller design")
+    if baths > limits.MAX_BATHS:
+        problems.add("layout", f"the plan would have {baths:,} baths ({said}); the limit is "
+                     f"{limits.MAX_BATHS:,}", value=baths, check="over_limit",
+                     fix="use fewer replicates, center points or design points")
+    if coupons > limits.MAX_COUPONS:
+        problems.add("layout", f"the plan would have {coupons:,} coupons ({baths:,} baths x "
+                     f"{layout.coupons_per_bath + layout.witness_coupons} coupons); the limit "
+                     f"is {limits.MAX_COUPONS:,}", value=coupons, check="over_limit",
+                     fix="use fewer coupons per bath or fewer baths")
+    problems.raise_if_any(PlanError, "The plan is larger than trialkit lays out.")
 
 
 def _check_natural_ranges(trial: Trial, design: Design, runs: pd.DataFrame) -> None:
