@@ -30,6 +30,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "sheet": ("trialkit.commands.sheet", "export recording sheets and coupon labels"),
     "ingest": ("trialkit.commands.ingest", "read a filled sheet into the record log"),
     "history": ("trialkit.commands.history", "every recorded value and its revisions"),
+    "verify": ("trialkit.commands.verify", "check the record log's hash chain for tampering"),
     "responses": ("trialkit.commands.responses", "derived responses per coupon and bath"),
     "analyze": ("trialkit.commands.analyze", "ANOVA, effects, surfaces and the best recipe"),
     "report": ("trialkit.commands.report", "write the HTML trial report"),
@@ -133,10 +134,21 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stderr.close()
         return 0
     except Exception as exc:  # a fault in trialkit: one line, the traceback in a file
+        if type(exc).__module__ == "sqlite3" and isinstance(exc, sqlite3_error()):
+            print(f"trialkit {command}: error: the record log cannot be read ({exc}): it is "
+                  "damaged; nothing was changed. 'trialkit verify DIR' says more.",
+                  file=sys.stderr)
+            return 2
         print(f"trialkit {command}: internal error ({type(exc).__name__}): this is a fault "
               f"in trialkit, not in your input; the full traceback was saved to "
               f"{_save_traceback(command, argv)}", file=sys.stderr)
         return 3
+
+
+def sqlite3_error() -> type:
+    import sqlite3
+
+    return sqlite3.DatabaseError
 
 
 def _save_traceback(command: str | None, argv: list[str]) -> str:
