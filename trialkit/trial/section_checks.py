@@ -40,9 +40,9 @@ def unknown_keys(table: dict, allowed: tuple[str, ...], where: str, p: ProblemRe
     for key in table:
         if key not in allowed:
             hint = retired_key_hint(section, key)
-            p.add(f"{where}.{key}" if where else key,
-                  f"retired key {key!r}" if hint else f"unknown key {key!r}", value=key,
-                  fix=hint or did_you_mean(key, list(allowed)),
+            p.add(f"{where}.{short(key)}" if where else short(key),
+                  f"retired key {key!r}" if hint else f"unknown key {short(key)!r}",
+                  value=key, fix=hint or did_you_mean(short(key), list(allowed)),
                   check="retired_key" if hint else "unknown_key")
 
 
