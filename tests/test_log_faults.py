@@ -119,3 +119,32 @@ def test_unwritable_folder_on_ingest_says_so(recorded, tmp_path, monkeypatch):
     assert RecordLog(log).count() == len(RecordLog(log).history())
     con_before = before  # the failed transaction left the main file as it was
     assert log.read_bytes() == con_before
+
+
+def test_reading_commands_never_open_the_log_for_writing(recorded, tmp_path, monkeypatch):
+    """As in a read-only trial folder: any connection that could write is refused, and
+    history, responses, analyze, report and verify still work."""
+    import sqlite3
+
+    from trialkit.records import log as log_module
+
+    real = sqlite3.connect
+
+    def read_only_connect(target, *args, **kwargs):
+        if "mode=ro" not in str(target):
+            raise sqlite3.OperationalError("attempt to write a readonly database")
+        return real(target, *args, **kwargs)
+
+    folder = copy_trial(recorded[0], tmp_path / "t")
+    before = (folder / LOG_FILE).read_bytes()
+    monkeypatch.setattr(log_module.sqlite3, "connect", read_only_connect)
+    out = tmp_path / "elsewhere"
+    out.mkdir()
+    for cmd in (["history", str(folder)], ["responses", str(folder)],
+                ["analyze", str(folder), "--all"], ["verify", str(folder)],
+                ["report", str(folder), "--out", str(out / "r.html")]):
+        code, stdout, err = run(cmd)
+        assert code in (0, 1), (cmd, err)  # 1: responses lists readings still missing
+        assert "readonly" not in err and "Traceback" not in err, (cmd, err)
+    assert (folder / LOG_FILE).read_bytes() == before
+    assert (out / "r.html").exists()
