@@ -195,3 +195,63 @@ def test_whole_trial_is_the_object_the_report_renders(tmp_path, capsys):
     assert text.startswith("TrialAnalysis of ") and "recommended: chelator" in text
     bad = _main(capsys, tmp_path / "nope.csv", "--all")
     assert bad.returncode == 2 and "needs a trial folder" in bad.stderr
+
+
+# -- analysis input: clear refusals, never a traceback (issue: hardening) ---------------
+def _xy_table(tmp_path, y, name="t.csv"):
+    import numpy as np
+
+    x = np.repeat([1.0, 3, 5, 7, 9], 3)
+    path = tmp_path / name
+    pd.DataFrame({"x": x, "y": y if not callable(y) else y(x)}).to_csv(path, index=False)
+    return path
+
+
+def _run_in_process(*args):
+    import contextlib
+    import io
+
+    from trialkit.cli import main
+
+    err = io.StringIO()
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(err):
+        code = main(["analyze", *map(str, args)])
+    return code, err.getvalue()
+
+
+@pytest.mark.parametrize("y, extra, fragment", [
+    (lambda x: 5.0 + 0 * x, [], "is constant (every value is 5)"),
+    (lambda x: (10 + 2 * x + (x % 3)) * 1e300, [], "give it in another unit"),
+    (lambda x: (10 + 2 * x + (x % 3)) * 1e-300, ["--sweep", "x"], "give it in another unit"),
+    (lambda x: 10 + 2 * x + (x % 3), ["--bootstrap", "-5", "--sweep", "x"],
+     "--bootstrap must be a whole number from 0"),
+    (lambda x: 10 + 2 * x + (x % 3), ["--model", ""], "--model is empty"),
+    (lambda x: 10 + 2 * x + (x % 3), ["--alpha", "5"], "--alpha must lie between 0 and 1"),
+])
+def test_unusable_analysis_input_is_refused(tmp_path, y, extra, fragment):
+    code, err = _run_in_process(_xy_table(tmp_path, y), "--factor", "x", "--response", "y", *extra)
+    assert code == 2 and fragment in err and "Traceback" not in err
+
+
+@pytest.mark.parametrize("scale", [1e-90, 1e90])
+def test_analysis_is_scale_invariant_within_the_range(tmp_path, scale):
+    """Multiplying the response by a constant leaves F, p and R² as they were."""
+    import contextlib
+    import io
+
+    from trialkit.cli import main
+
+    got = []
+    for k, name in ((1.0, "a.csv"), (scale, "b.csv")):
+        path = _xy_table(tmp_path, lambda x, k=k: (10 + 2 * x - 0.2 * x**2 + (x % 3)) * k, name)
+        out = io.StringIO()
+        with contextlib.redirect_stdout(out):
+            assert main(["analyze", str(path), "--factor", "x", "--response", "y",
+                         "--json"]) == 0
+        data = json.loads(out.getvalue())
+        got.append([(r["term"], r["F"], r["p"]) for r in data["anova"]]
+                   + [data["r_squared"]])
+    assert got[1][-1] == pytest.approx(got[0][-1], rel=1e-9)
+    for (t0, f0, p0), (t1, f1, p1) in zip(got[0][:-1], got[1][:-1], strict=True):
+        assert t0 == t1 and f1 == pytest.approx(f0, rel=1e-6) and p1 == pytest.approx(p0,
+                                                                                     rel=1e-6)

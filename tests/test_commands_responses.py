@@ -82,7 +82,7 @@ def test_responses_missing_witness_listed_rest_computes(tmp_path, cli):
     assert baths["rust_removed_g_per_m2_n"].loc["B01"] == 0
     assert (baths.drop(index="B01")["rust_removed_g_per_m2_n"] == 2).all()
     strict = cli("responses", str(folder), "--strict")
-    assert strict.returncode == 2 and "witness" in strict.stderr
+    assert strict.returncode == 1 and "witness" in strict.stderr  # refused, problems listed
 
 
 def test_responses_without_record_log(tmp_path, cli):

@@ -60,3 +60,23 @@ def test_sheet_bad_folder(cli, tmp_path):
     res = cli("sheet", str(tmp_path / "nothing-here"))
     assert res.returncode == 2
     assert "trial" in res.stderr and "Traceback" not in res.stderr
+
+
+def test_sheet_out_folder_writes_inside_and_links_are_refused(tmp_path, capsys):
+    """--out naming a folder puts the sheet inside it; a symbolic link is never written
+    through (its target keeps its bytes)."""
+    from trialkit.cli import main
+
+    assert main(["new", str(tmp_path / "t")]) == 0
+    out = tmp_path / "sheets"
+    out.mkdir()
+    assert main(["sheet", str(tmp_path / "t"), "--format", "csv", "--out", str(out)]) == 0
+    assert (out / "recording-sheet.csv").exists()
+    target = tmp_path / "precious.txt"
+    target.write_text("keep me")
+    link = tmp_path / "link.csv"
+    link.symlink_to(target)
+    capsys.readouterr()
+    assert main(["sheet", str(tmp_path / "t"), "--format", "csv", "--out", str(link)]) == 2
+    assert "is a symbolic link" in capsys.readouterr().err
+    assert target.read_text() == "keep me"

@@ -186,3 +186,62 @@ high = 8
     assert (b["point"] == "optimal").all()
     # every bath satisfies the linear constraint (natural units); rounding to 6 digits
     assert (b["ph"] >= 5.2 + 0.15 * b["chelator"] - 1e-4).all()
+
+
+# -- outputs: formula-safe text, no writing through links, --out that is a file -----------
+FORMULA_LEVELS = """
+[trial]
+title = "Formula-like levels, invented example"
+seed = 3
+[[factor]]
+name = "rinse"
+levels = ["=1+1", "@home", "plain"]
+[design]
+kind = "full-factorial"
+"""
+
+
+def test_plan_csv_escapes_formula_like_text_as_the_sheets_do(tmp_path):
+    from trialkit.records.sheets.export_csv import escape_text as sheet_escape
+
+    plan = make_plan(parse_trial_text(FORMULA_LEVELS))
+    plan.write(tmp_path)
+    table = pd.read_csv(tmp_path / "plan.csv", dtype=str)
+    assert set(table["rinse"]) == {sheet_escape("=1+1"), sheet_escape("@home"), "plain"}
+    assert set(table["rinse"]) == {"'=1+1", "'@home", "plain"}
+    assert set(plan.table["rinse"]) == {"=1+1", "@home", "plain"}  # the plan keeps the text
+
+
+def test_plan_through_a_symlink_is_refused_and_the_target_kept(tmp_path):
+    target = tmp_path / "precious.txt"
+    target.write_text("do not overwrite")
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "plan.csv").symlink_to(target)
+    plan = make_plan(parse_trial_text(trial_text()))
+    with pytest.raises(PlanError, match="is a symbolic link; trialkit does not write through"):
+        plan.write(out)
+    assert target.read_text() == "do not overwrite"
+
+
+def test_plan_out_that_is_a_file_is_a_clear_message(tmp_path, capsys):
+    from trialkit.cli import main
+
+    (tmp_path / "trial.toml").write_text(trial_text())
+    a_file = tmp_path / "taken.txt"
+    a_file.write_text("x")
+    assert main(["plan", str(tmp_path), "--out", str(a_file)]) == 2
+    err = capsys.readouterr().err
+    assert "is a file, not a folder" in err and "Traceback" not in err
+    assert a_file.read_text() == "x"
+    existing = tmp_path / "existing"
+    existing.mkdir()
+    assert main(["plan", str(tmp_path), "--out", str(existing)]) == 0
+    assert (existing / "plan.csv").exists()
+
+
+def test_plan_csv_folder_in_the_way_is_a_clear_message(tmp_path):
+    (tmp_path / "plan.csv").mkdir()
+    plan = make_plan(parse_trial_text(trial_text()))
+    with pytest.raises(PlanError, match="plan.csv is a folder"):
+        plan.write(tmp_path)

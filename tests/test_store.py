@@ -16,6 +16,7 @@ import pytest
 from malformed_sheets.make_corpus import fill_csv, good_readings, make_test_plan
 
 from trialkit.exceptions import RecordLogError
+from trialkit.records.chain import verify_log
 from trialkit.records.log import HISTORY_COLUMNS, READY_HOOK, SLEEP_HOOK, RecordLog
 from trialkit.records.sheets import export_csv, ingest_sheet
 
@@ -36,7 +37,7 @@ def test_wal_mode_and_schema(log):
     con = sqlite3.connect(log.path)
     assert con.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
     tables = {r[0] for r in con.execute("SELECT name FROM sqlite_master WHERE type='table'")}
-    assert tables == {"log_info", "ingests", "readings"}
+    assert tables == {"log_info", "ingests", "readings", "chain"}  # chain: records.chain
 
 
 def test_revisions_and_unchanged_values(log):
@@ -84,7 +85,8 @@ def test_other_plan_refused(log):
 def test_not_a_database(tmp_path):
     bad = tmp_path / "log.sqlite"
     bad.write_bytes(b"this is not sqlite" * 100)
-    with pytest.raises(RecordLogError, match="cannot open the record log"):
+    with pytest.raises(RecordLogError, match="cannot read the record log .* damaged or not a "
+                       "trialkit record log. Nothing was changed"):
         RecordLog(bad)
 
 
@@ -169,9 +171,11 @@ def test_kill_mid_transaction_leaves_all_or_none(filled, tmp_path):
         con.close()
         assert log.count() == 0  # none of the sheet
         assert log.ingest_of(hashlib.sha256(sheet.read_bytes()).hexdigest()) is None
+        assert verify_log(log.path).ok  # the hash chain and its head file agree
     report = ingest_sheet(sheet, plan)  # the same sheet again, not interrupted
     assert report.status == "accepted"
     assert log.count() == n_values  # all of the sheet
+    assert verify_log(log.path).ok
 
 
 def test_two_ingests_at_once_lose_nothing(filled, tmp_path):
@@ -194,3 +198,5 @@ def test_two_ingests_at_once_lose_nothing(filled, tmp_path):
     rows = hist[["coupon", "value", "revision", "source"]].values.tolist()
     assert rows == [["B01-R1", 25.0, 1, "a.csv"], ["B01-R1", 26.0, 2, "b.csv"],
                     ["B02-R1", 22.0, 1, "a.csv"], ["B03-R1", 23.0, 1, "b.csv"]]
+    result = verify_log(folder / "record-log.sqlite")
+    assert result.ok and result.ingests == 2 and not result.notes

@@ -14,12 +14,32 @@ if TYPE_CHECKING:  # pragma: no cover
     from trialkit.problems import ProblemReport
 
 
-class TrialkitError(ValueError):
-    """Base class of every error trialkit raises on bad input."""
+#: Exit codes of the ``trialkit`` command (also listed in ``trialkit --help``).
+EXIT_DONE = 0
+EXIT_REFUSED = 1
+EXIT_USAGE = 2
+EXIT_INTERNAL = 3
 
-    def __init__(self, message: str, problems: ProblemReport | None = None):
+
+class TrialkitError(ValueError):
+    """Base class of every error trialkit raises on bad input.
+
+    ``exit_code`` is the command line's exit code for this error: 1 (:data:`EXIT_REFUSED`)
+    when the input was read and refused with its problems listed (``.problems``), 2
+    (:data:`EXIT_USAGE`) for a usage error or an input that cannot be read at all.
+    """
+
+    def __init__(self, message: str, problems: ProblemReport | None = None, *,
+                 exit_code: int | None = None):
         super().__init__(message)
         self.problems = problems
+        self._exit_code = exit_code
+
+    @property
+    def exit_code(self) -> int:
+        if self._exit_code is not None:
+            return self._exit_code
+        return EXIT_REFUSED if self.problems else EXIT_USAGE
 
 
 class TrialFileError(TrialkitError):

@@ -144,12 +144,20 @@ class ProblemReport:
             raise error_class(text, self)
 
 
+#: Longest offending value quoted in a problem; longer input is cut to a prefix.
+MAX_VALUE_CHARS = 120
+
+
 def _as_text(value: object) -> str:
     if value is None:
         return ""
     if isinstance(value, str):
-        return value
-    return repr(value) if not isinstance(value, (int, float)) else str(value)
+        text = value
+    else:
+        text = repr(value) if not isinstance(value, (int, float)) else str(value)
+    if len(text) > MAX_VALUE_CHARS:
+        return f"{text[:MAX_VALUE_CHARS - 20]}... ({len(text):,} characters)"
+    return text
 
 
 def nearest(word: str, choices: list[str] | tuple[str, ...], n: int = 3) -> list[str]:

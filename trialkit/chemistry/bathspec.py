@@ -234,7 +234,7 @@ def _rule(t: Any, where: str, cat: Catalogue, factors: dict, problems: ProblemRe
     if not isinstance(present, list):
         present = [present]
     if fname is not None:
-        f = factors.get(fname)
+        f = factors.get(fname) if isinstance(fname, str) else None
         if f is None:
             problems.add(f"{where}.factor", "no factor of that name", value=fname,
                          check="unknown_factor", fix=did_you_mean(str(fname), list(factors)))
@@ -274,7 +274,7 @@ def _check_set_by(qty: str, fname: Any, where: str, factors: dict, problems: Pro
                      "(ingredient amounts use factor = ... in [[bath.ingredient]])", value=qty,
                      check="bad_set_by", fix=did_you_mean(qty, SETTABLE))
         return
-    f = factors.get(fname)
+    f = factors.get(fname) if isinstance(fname, str) else None
     if f is None:
         problems.add(where, "no factor of that name", value=fname, check="unknown_factor",
                      fix=did_you_mean(str(fname), list(factors)))
@@ -396,7 +396,13 @@ def _reference(raw: Any, where: str, cat: Catalogue, problems: ProblemReport):
             problems.add(f"{where}.{key}", "unknown key in [bath.reference]", value=key,
                          check="unknown_key", fix=did_you_mean(key, REFERENCE_KEYS))
     items = []
-    for i, t in enumerate(raw.get("ingredients", []), start=1):
+    listed = raw.get("ingredients", [])
+    if not isinstance(listed, list):
+        problems.add(f"{where}.ingredients", "ingredients must be a list of tables",
+                     value=listed, check="not_a_table",
+                     fix='write ingredients = [{ name = "...", amount = "..." }]')
+        listed = []
+    for i, t in enumerate(listed, start=1):
         w = f"{where}.ingredients[{i}]"
         name = t.get("name") if isinstance(t, dict) else None
         if not isinstance(name, str) or name not in cat:

@@ -63,6 +63,7 @@ def run(args: argparse.Namespace) -> int:
         response_for,
     )
 
+    _check_options(args)
     path = Path(args.source)
     single = (args.response or args.model or args.sweep or args.reduce or args.aim
               or args.factor or args.compromise or args.threshold is not None)
@@ -83,6 +84,7 @@ def run(args: argparse.Namespace) -> int:
     column = response_for(source, args.response)
     name = next((k for k, v in source.responses.items() if v == column), column)
     aim = args.aim or source.aims.get(name, "higher")
+    _check_response(source.table, column)
     result = analyze_table(
         source.table, column, source.factors,
         model=args.model or cfg.model_for(name),
@@ -140,3 +142,52 @@ def _compromise(args: argparse.Namespace, source) -> int:
     else:
         print(repr(res))
     return 0
+
+
+#: Largest number of bootstrap resamples asked for on the command line.
+MAX_BOOTSTRAP = 100_000
+#: Response values must lie within this magnitude (beyond it, give them in another unit).
+MAX_MAGNITUDE = 1e100
+
+
+def _check_options(args: argparse.Namespace) -> None:
+    """Refuse option values no analysis can use, before reading anything."""
+    from trialkit.exceptions import AnalysisError
+
+    if args.bootstrap is not None and not 0 <= args.bootstrap <= MAX_BOOTSTRAP:
+        raise AnalysisError(f"--bootstrap must be a whole number from 0 to {MAX_BOOTSTRAP:,}"
+                            f"; got {args.bootstrap}")
+    if args.model is not None and not args.model.strip():
+        raise AnalysisError("--model is empty; give main, interactions, quadratic, or terms "
+                            "such as 'chelator + ph'")
+    if args.alpha is not None and not 0 < args.alpha < 1:
+        raise AnalysisError(f"--alpha must lie between 0 and 1 (e.g. 0.05); got {args.alpha}")
+    if args.threshold is not None and not 0 < args.threshold < 1:
+        raise AnalysisError(f"--threshold must lie between 0 and 1 (e.g. 0.1); got "
+                            f"{args.threshold}")
+
+
+def _check_response(table, column: str) -> None:
+    """Refuse a response that cannot be analysed: constant, non-finite, or so large or so
+    small that sums of squares leave the range of floating point."""
+    import numpy as np
+    import pandas as pd
+
+    from trialkit.exceptions import AnalysisError
+    from trialkit.trial.limits import short
+
+    if column not in table:
+        return  # analyze_table names the missing column
+    values = pd.to_numeric(table[column], errors="coerce").to_numpy(dtype=float)
+    values = values[~np.isnan(values)]
+    if np.isinf(values).any():
+        raise AnalysisError(f"response {short(column)!r} holds infinite values; remove them")
+    if len(values) and values.min() == values.max():
+        raise AnalysisError(f"response {short(column)!r} is constant (every value is "
+                            f"{values[0]:g}): there is no variation to analyse")
+    big = np.abs(values).max() if len(values) else 0.0
+    spread = values.max() - values.min() if len(values) else 0.0
+    if big > MAX_MAGNITUDE or (len(values) and 0 < spread < 1 / MAX_MAGNITUDE):
+        raise AnalysisError(f"response {short(column)!r} has values of magnitude "
+                            f"{big:.3g} and spread {spread:.3g}, outside what the analysis "
+                            f"handles (1e-100 to 1e100): give it in another unit")

@@ -30,4 +30,20 @@ def run(args: argparse.Namespace) -> int:
         print(f"{report.source}: {report.message}")
         for p in report.problems:
             print(f"  - {p}")
+        head = _log_head(plan.trial.folder)
+        if report.ok and head:
+            print(f"  record log head {head} (check it with 'trialkit verify')")
     return 0 if report.ok else 1
+
+
+def _log_head(folder) -> str:
+    """The first 16 hex digits of the record log's head (``""`` when there is none)."""
+    import json
+
+    from trialkit.records.chain import head_path
+    from trialkit.records.log import LOG_FILE
+
+    try:
+        return json.loads(head_path(folder / LOG_FILE).read_text(encoding="utf-8"))["head"][:16]
+    except (OSError, ValueError, KeyError, TypeError):
+        return ""

@@ -30,6 +30,9 @@ def run(args: argparse.Namespace) -> int:
     config = sheet_config(plan.trial)
     folder = plan.trial.folder or Path(args.folder)
     out = Path(args.out) if args.out else Path(folder) / f"{DEFAULT_STEM}.{args.fmt}"
+    if out.is_dir():  # --out names a folder: the sheet goes inside it
+        out = out / f"{DEFAULT_STEM}.{args.fmt}"
+    _refuse_links(out, out.with_name(f"{out.stem}-inspections{out.suffix or '.csv'}"))
     written: list[Path] = []
     if args.fmt == "xlsx":
         from trialkit.records.sheets.export_xlsx import export_xlsx
@@ -52,3 +55,16 @@ def run(args: argparse.Namespace) -> int:
         for p in written:
             print(f"wrote {p} (plan fingerprint {plan.fingerprint})")
     return 0
+
+
+def _refuse_links(*paths: Path) -> None:
+    """Never write a sheet through a symbolic link (it would overwrite the link's target)."""
+    from trialkit.exceptions import TrialkitError
+
+    for p in paths:
+        if p.is_symlink():
+            raise TrialkitError(f"{p} is a symbolic link; trialkit does not write through "
+                                "links (that would overwrite the link's target). Remove the "
+                                "link or choose another --out.")
+        if p.is_dir():
+            raise TrialkitError(f"{p} is a folder; choose another --out")

@@ -41,6 +41,7 @@ from __future__ import annotations
 import hashlib
 import html
 import json
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -50,7 +51,9 @@ import pandas as pd
 from trialkit.exceptions import PlanError
 from trialkit.planning.designs.base import Design
 from trialkit.problems import ProblemReport
+from trialkit.trial import limits
 from trialkit.trial.file import Trial, load_trial
+from trialkit.trial.textsafe import escape_text, needs_escape
 
 PLAN_FILE = "plan.csv"
 PLAN_META_FILE = "plan.json"
@@ -116,8 +119,21 @@ class Plan:
         return [f.name for f in self.trial.factors]
 
     def csv_text(self) -> str:
-        """``plan.csv`` exactly as :meth:`write` writes it."""
-        return self.table.to_csv(index=False, lineterminator="\n")
+        """``plan.csv`` exactly as :meth:`write` writes it.
+
+        Text that a spreadsheet would read as a formula (a level such as ``"=1+1"``) is
+        written with a leading apostrophe, as on the recording sheets
+        (:mod:`trialkit.trial.textsafe`).
+        """
+        table = self.table
+        text_columns = [c for c in table.columns
+                        if table[c].dtype == object or pd.api.types.is_string_dtype(table[c])]
+        if any(table[c].map(lambda v: isinstance(v, str) and needs_escape(v)).any()
+               for c in text_columns):
+            table = table.copy()
+            for c in text_columns:
+                table[c] = table[c].map(lambda v: escape_text(v) if isinstance(v, str) else v)
+        return table.to_csv(index=False, lineterminator="\n")
 
     @property
     def fingerprint(self) -> str:
@@ -181,14 +197,41 @@ class Plan:
         return f"<p><b>Plan</b><br>{head}</p>" + self.baths.to_html(index=False, escape=True)
 
     def write(self, folder: str | Path) -> Path:
-        """Write ``plan.csv`` and ``plan.json`` into ``folder``; return the CSV path."""
+        """Write ``plan.csv`` and ``plan.json`` into ``folder``; return the CSV path.
+
+        Raises
+        ------
+        PlanError
+            ``folder`` is a file, or ``plan.csv``/``plan.json`` there is a symbolic link
+            or a folder (a link's target is never overwritten).
+        """
         folder = Path(folder)
+        if folder.exists() and not folder.is_dir():
+            raise PlanError(f"{folder} is a file, not a folder: give --out a folder for "
+                            f"{PLAN_FILE} and {PLAN_META_FILE}")
         folder.mkdir(parents=True, exist_ok=True)
         csv_path = folder / PLAN_FILE
-        csv_path.write_text(self.csv_text(), encoding="utf-8", newline="")
         meta = json.dumps(self.to_dict(), indent=2, sort_keys=True, default=_json_default)
-        (folder / PLAN_META_FILE).write_text(meta + "\n", encoding="utf-8", newline="")
+        for path, text in ((csv_path, self.csv_text()),
+                           (folder / PLAN_META_FILE, meta + "\n")):
+            write_output(path, text)
         return csv_path
+
+
+def write_output(path: Path, text: str) -> None:
+    """Write ``text`` to ``path``, refusing a symbolic link or a folder there.
+
+    The text goes to a new file beside it that is then renamed over ``path``, so a link
+    planted at ``path`` after the check is replaced, never followed.
+    """
+    if path.is_symlink():
+        raise PlanError(f"{path} is a symbolic link; trialkit does not write through links "
+                        "(that would overwrite the link's target). Remove the link.")
+    if path.is_dir():
+        raise PlanError(f"{path} is a folder; remove it or write the plan elsewhere (--out)")
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    tmp.write_text(text, encoding="utf-8", newline="")
+    os.replace(tmp, path)
 
 
 def load_plan(path: str | Path) -> Plan:
@@ -204,6 +247,7 @@ def make_plan(trial: Trial) -> Plan:
     design = build_design(trial.factors, trial.design.kind, trial.design.options,
                           seed=trial.seed, folder=trial.folder)
     layout = trial.layout
+    check_plan_size(trial, design.n_points)
     names = [f.name for f in trial.factors]
     notes: list[str] = []
     confounded: list[str] = []
@@ -300,6 +344,36 @@ def make_plan(trial: Trial) -> Plan:
     table = table[[*LEADING_COLUMNS, *names, *TRAILING_COLUMNS]].reset_index(drop=True)
     return Plan(trial=trial, design=design, table=table, baths=baths.reset_index(drop=True),
                 coded=coded, notes=notes, confounded_with_blocks=list(confounded))
+
+
+def check_plan_size(trial: Trial, n_points: int) -> None:
+    """Refuse a plan above the limits of :mod:`trialkit.trial.limits`, before laying it out.
+
+    The counts are computed from the layout (nothing is allocated), so an oversized trial
+    is refused at once.
+    """
+    layout = trial.layout
+    baths = (n_points * layout.replicates
+             + (layout.center_points + len(layout.controls)) * layout.blocks)
+    coupons = baths * (layout.coupons_per_bath + layout.witness_coupons)
+    problems = ProblemReport(str(trial.path or "<trial>"))
+    said = (f"{n_points} design points x {layout.replicates} replicate(s) + "
+            f"{layout.center_points + len(layout.controls)} center/control bath(s) x "
+            f"{layout.blocks} block(s)")
+    if n_points > limits.MAX_DESIGN_POINTS:
+        problems.add("design", f"the design has {n_points:,} points; the limit is "
+                     f"{limits.MAX_DESIGN_POINTS:,}", value=n_points, check="over_limit",
+                     fix="choose a smaller design")
+    if baths > limits.MAX_BATHS:
+        problems.add("layout", f"the plan would have {baths:,} baths ({said}); the limit is "
+                     f"{limits.MAX_BATHS:,}", value=baths, check="over_limit",
+                     fix="use fewer replicates, center points or design points")
+    if coupons > limits.MAX_COUPONS:
+        problems.add("layout", f"the plan would have {coupons:,} coupons ({baths:,} baths x "
+                     f"{layout.coupons_per_bath + layout.witness_coupons} coupons); the limit "
+                     f"is {limits.MAX_COUPONS:,}", value=coupons, check="over_limit",
+                     fix="use fewer coupons per bath or fewer baths")
+    problems.raise_if_any(PlanError, "The plan is larger than trialkit lays out.")
 
 
 def _check_natural_ranges(trial: Trial, design: Design, runs: pd.DataFrame) -> None:

@@ -42,6 +42,7 @@ from trialkit.records.fields import (
     Field,
     cleaning_cycle_fields,
 )
+from trialkit.trial.limits import MAX_INSPECTIONS
 
 PAPER_SIZES = ("A4", "Letter")
 _KEYS = ("fields", "cleaning_cycles", "inspections_h", "timecourse_fields", "required",
@@ -223,10 +224,15 @@ def parse_sheet_section(raw: Any, trial: Any, problems: ProblemReport,
     times = raw.get("inspections_h", [])
     if (not isinstance(times, list)
             or not all(isinstance(t, (int, float)) and not isinstance(t, bool) for t in times)
-            or any(t <= 0 for t in times) or sorted(set(times)) != list(times)):
+            or any(not 0 < t <= 100_000 for t in times) or sorted(set(times)) != list(times)):
         problems.add(f"{where}.inspections_h",
-                     "inspections_h must be increasing positive hours", value=times,
+                     "inspections_h must be increasing positive hours (up to 100,000 h)",
+                     value=times,
                      fix="write e.g. inspections_h = [1, 4, 24]", check="wrong_type")
+    elif len(times) > MAX_INSPECTIONS:
+        problems.add(f"{where}.inspections_h", f"at most {MAX_INSPECTIONS} inspections "
+                     "(set well above any real trial)", value=len(times), check="over_limit",
+                     fix=f"list {MAX_INSPECTIONS} or fewer inspection times")
     else:
         inspections = tuple(float(t) for t in times)
 

@@ -7,6 +7,11 @@ waits for the first).  A value that differs from the current value of the same c
 inspection and field is stored as the next revision; a value equal to the current one is
 not stored again; a file whose SHA-256 is already in the log changes nothing.
 
+Every ingest is also a link of a hash chain (table ``chain``; the newest link is kept a
+second time in ``record-log.sqlite.head``), which :func:`trialkit.records.chain.verify_log`
+and ``trialkit verify`` check.  Opening an existing log writes nothing; SQLite's quick
+integrity check runs when a log is opened and before every ingest.
+
 Schema (version 1)::
 
     log_info(key TEXT PRIMARY KEY, value TEXT)       -- schema_version, plan_fingerprint
@@ -16,6 +21,7 @@ Schema (version 1)::
              coupon TEXT, inspection INTEGER,  -- 0 for the coupon sheet
              field TEXT, value_num REAL, value_text TEXT, revision INTEGER,
              UNIQUE(coupon, inspection, field, revision))
+    chain(ingest_id INTEGER PRIMARY KEY REFERENCES ingests(id), prev TEXT, hash TEXT)
 
 Examples
 --------
@@ -31,6 +37,7 @@ Examples
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import os
 import sqlite3
@@ -43,6 +50,7 @@ from typing import Any
 import pandas as pd
 
 from trialkit.exceptions import RecordLogError
+from trialkit.records import chain
 from trialkit.records.fields import COUPON_FIELDS
 
 LOG_FILE = "record-log.sqlite"
@@ -126,24 +134,71 @@ class RecordLog:
 
     def __init__(self, path: str | os.PathLike):
         self.path = Path(path)
+        if self.path.exists() and self.path.stat().st_size == 0:
+            raise RecordLogError(f"the record log {self.path} is empty (zero bytes): it is "
+                                 "damaged or was never written. Nothing was overwritten; "
+                                 "restore it from a backup or the trial's sheets.")
         try:
+            if self.path.exists():
+                self.check_integrity()
+                if self._complete():
+                    return  # nothing to create: opening never writes (read-only folders)
             con = self._connect()
             con.execute("PRAGMA journal_mode=WAL")
-            con.executescript(_SCHEMA)
+            con.executescript(_SCHEMA + chain.CHAIN_SCHEMA)
             con.execute("INSERT OR IGNORE INTO log_info VALUES ('schema_version', ?)",
                         (SCHEMA_VERSION,))
             con.commit()
             con.close()
+        except sqlite3.OperationalError as exc:
+            raise RecordLogError(f"cannot open the record log {self.path}: {exc}. Is the "
+                                 "trial folder writable? Nothing was changed.") from None
         except sqlite3.DatabaseError as exc:
-            raise RecordLogError(f"cannot open the record log {self.path}: {exc}. Is it a "
-                                 "trialkit record log? Move it away to start a new one.") from None
+            raise RecordLogError(f"cannot open the record log {self.path}: {exc}. It is "
+                                 "damaged or not a trialkit record log; nothing was "
+                                 "changed.") from None
+
+    def _complete(self) -> bool:
+        """True when the file already holds every table and trigger of the log."""
+        con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=60.0)
+        try:
+            names = {r[0] for r in con.execute("SELECT name FROM sqlite_master")}
+        finally:
+            con.close()
+        return {"log_info", "ingests", "readings", "chain", *chain.TRIGGERS} <= names
+
+    def check_integrity(self) -> None:
+        """SQLite's quick integrity check (read-only); :class:`RecordLogError` if it fails.
+
+        Run when a log is opened and before every ingest.
+        """
+        try:
+            con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=60.0)
+            try:
+                con.execute("PRAGMA busy_timeout=60000")
+                rows = [r[0] for r in con.execute("PRAGMA quick_check")]
+            finally:
+                con.close()
+        except sqlite3.DatabaseError as exc:
+            raise RecordLogError(f"cannot read the record log {self.path} ({exc}): it is "
+                                 "damaged or not a trialkit record log. Nothing was changed; "
+                                 "restore it from a backup.") from None
+        if rows != ["ok"]:
+            raise RecordLogError(f"the record log {self.path} is damaged (SQLite's integrity "
+                                 f"check: {'; '.join(rows[:3])}). Nothing was changed; "
+                                 "restore it from a backup.")
 
     @classmethod
     def for_folder(cls, folder: str | os.PathLike) -> RecordLog:
         """The log ``record-log.sqlite`` in trial folder ``folder``."""
         return cls(Path(folder) / LOG_FILE)
 
-    def _connect(self) -> sqlite3.Connection:
+    def _connect(self, read_only: bool = False) -> sqlite3.Connection:
+        if read_only:  # reading never needs to write (works in a read-only folder)
+            con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=60.0,
+                                  isolation_level=None)
+            con.execute("PRAGMA busy_timeout=60000")
+            return con
         con = sqlite3.connect(self.path, timeout=60.0, isolation_level=None)
         con.execute("PRAGMA busy_timeout=60000")
         con.execute("PRAGMA foreign_keys=ON")
@@ -155,7 +210,7 @@ class RecordLog:
     # -- reading ----------------------------------------------------------------------
     def count(self) -> int:
         """Number of stored values (all revisions)."""
-        con = self._connect()
+        con = self._connect(read_only=True)
         try:
             return con.execute("SELECT COUNT(*) FROM readings").fetchone()[0]
         finally:
@@ -186,7 +241,7 @@ class RecordLog:
 
     def ingest_of(self, sha256: str) -> tuple[int, str, str] | None:
         """``(id, source, ingested_at)`` of an earlier ingest of this file, or None."""
-        con = self._connect()
+        con = self._connect(read_only=True)
         try:
             return con.execute("SELECT id, source, ingested_at FROM ingests WHERE sha256 = ?",
                                (sha256,)).fetchone()
@@ -194,7 +249,7 @@ class RecordLog:
             con.close()
 
     def _frame(self, where: str = "", params: tuple = ()) -> pd.DataFrame:
-        con = self._connect()
+        con = self._connect(read_only=True)
         try:
             rows = con.execute(
                 "SELECT r.coupon, r.inspection, r.field, r.value_num, r.value_text, "
@@ -285,6 +340,16 @@ class RecordLog:
             The log holds readings of another plan (fingerprint differs).
         """
         readings = list(readings)
+        self.check_integrity()
+        try:
+            with chain.ingest_lock(self.path):
+                return self._add(readings, source, sha256, fingerprint)
+        except OSError as exc:
+            raise RecordLogError(f"could not write beside the record log {self.path} "
+                                 f"({exc.strerror or exc}): is the trial folder writable? "
+                                 "Nothing of this sheet was stored.") from None
+
+    def _add(self, readings: list, source: str, sha256: str, fingerprint: str) -> AddResult:
         now = dt.datetime.now(dt.UTC).isoformat(timespec="seconds")
         con = self._connect()
         try:
@@ -331,7 +396,17 @@ class RecordLog:
                 con.execute("INSERT INTO readings (ingest_id, coupon, inspection, field, "
                             "value_num, value_text, revision) VALUES (?, ?, ?, ?, ?, ?, ?)",
                             (ingest_id, coupon, inspection, name, num, text, rev))
+            # The hash chain: this ingest's link, and the head file written in the same
+            # step (pending before the commit, confirmed after it; see records.chain).
+            prev = chain.last_hash(con)
+            link = chain.link_hash(con, ingest_id, prev)
+            con.execute("INSERT INTO chain (ingest_id, prev, hash) VALUES (?, ?, ?)",
+                        (ingest_id, prev, link))
+            n_ingests = con.execute("SELECT COUNT(*) FROM ingests").fetchone()[0]
+            chain.write_head(self.path, prev, n_ingests - 1, pending=link)
             con.execute("COMMIT")
+            with contextlib.suppress(OSError):  # stored; verify accepts the pending head
+                chain.write_head(self.path, link, n_ingests)
         except sqlite3.DatabaseError as exc:
             if con.in_transaction:
                 con.execute("ROLLBACK")

@@ -1,7 +1,9 @@
 """The trial: what the trial file says, checked.
 
 Holds the factors (``factors``), the trial and its parts as plain data (``spec``), the
-trial-file reader (``file``, with ``section_checks``), coupon geometry (``geometry``), the
+trial-file reader (``file``, with ``section_checks`` and ``coupon_checks``), the limits and
+whole-file checks (``limits``: finite numbers, shallow nesting, clean text, bounded
+counts), coupon geometry (``geometry``), the
 model grammar and model matrices (``model_grammar``, ``model_matrix``) and the retired
 names (``retired_names``).
 

@@ -31,12 +31,13 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from trialkit.exceptions import TrialFileError
+from trialkit.exceptions import EXIT_USAGE, TrialFileError
 from trialkit.problems import ProblemReport
+from trialkit.trial.coupon_checks import check_coupons
 from trialkit.trial.factors import Factor
+from trialkit.trial.limits import check_document, short, text
 from trialkit.trial.section_checks import (
     check_block_fit,
-    check_coupons,
     check_factors,
     check_layout,
     check_responses,
@@ -98,6 +99,11 @@ def load_trial(path: str | Path) -> Trial:
     except UnicodeDecodeError as exc:
         raise TrialFileError(f"{p}: not UTF-8 text ({exc.reason} at byte {exc.start}). "
                              "Save the file as UTF-8.") from None
+    except IsADirectoryError:
+        raise TrialFileError(f"{p}: is a folder, not a trial file") from None
+    except PermissionError:
+        raise TrialFileError(f"{p}: the trial file cannot be read (permission denied)") \
+            from None
     return parse_trial_text(text, source=p)
 
 
@@ -109,17 +115,27 @@ def parse_trial_text(text: str, source: str | Path = "<text>") -> Trial:
     except tomllib.TOMLDecodeError as exc:
         problems.add("", f"not valid TOML: {exc}", check="toml_syntax",
                      fix="fix the line named; strings need quotes, tables [brackets]")
-        problems.raise_if_any(TrialFileError, "The trial file cannot be read.")
+        _unreadable(problems)
+    except RecursionError:
+        problems.add("", "arrays or tables are nested too deeply to read", check="too_deep",
+                     fix="write the value each key expects (see 'trialkit new')")
+        _unreadable(problems)
+    # Non-finite numbers, deep nesting and hidden characters first: the section checks
+    # below may then rely on finite numbers and shallow values.
+    check_document(doc, problems)
+    problems.raise_if_any(TrialFileError, "The trial file has problems; nothing was done.")
     trial = _check_document(doc, problems, Path(source) if source != "<text>" else None)
     problems.raise_if_any(TrialFileError, "The trial file has problems; nothing was done.")
     return trial
 
 
+def _unreadable(problems: ProblemReport) -> None:
+    """Raise: the file is not TOML at all (exit code 2: unreadable input)."""
+    raise TrialFileError(f"The trial file cannot be read.\n{problems}", problems,
+                         exit_code=EXIT_USAGE)
+
+
 # -- checks ------------------------------------------------------------------------------
-
-
-
-
 
 
 def _check_document(doc: dict, p: ProblemReport, path: Path | None) -> Trial:
@@ -128,9 +144,9 @@ def _check_document(doc: dict, p: ProblemReport, path: Path | None) -> Trial:
     unknown_keys(head, TRIAL_KEYS, "trial", p)
     title = head.get("title", "")
     if not isinstance(title, str) or not title.strip():
-        p.add("trial.title", "the trial needs a title", value=title,
+        p.add("trial.title", "the trial needs a title (text in quotes)", value=short(title),
               fix='add title = "What this trial is for"', check="missing_title")
-        title = str(title or "")
+        title = ""
     seed = head.get("seed")
     if seed is None:
         p.add("trial.seed", "the trial needs a randomisation seed", check="missing_seed",
@@ -152,8 +168,9 @@ def _check_document(doc: dict, p: ProblemReport, path: Path | None) -> Trial:
     trial = Trial(path=path, title=title, seed=int(seed), factors=tuple(factors),
                   design=design or DesignSpec("full-factorial"), layout=layout,
                   responses=tuple(responses), coupons=coupons,
-                  question=str(head.get("question", "")), notes=str(head.get("notes", "")),
-                  operator=str(head.get("operator", "")), raw=doc)
+                  question=text(head, "question", "trial", p),
+                  notes=text(head, "notes", "trial", p),
+                  operator=text(head, "operator", "trial", p), raw=doc)
     for name, target in SECTION_PARSERS.items():
         if name in doc:
             trial.sections[name] = _parse_extension(name, target, doc[name], trial, p)
@@ -174,31 +191,11 @@ def _table(doc: dict, key: str, p: ProblemReport, required: bool = False) -> dic
     return value
 
 
-
-
-
-
-
-
 def _check_design(doc: dict, factors: list[Factor], p: ProblemReport) -> DesignSpec | None:
     table = _table(doc, "design", p, required=True)
     if not table:
         return None
     return _resolve(DESIGN_CHECKER)(table, factors, p)
-
-
-
-
-
-
-
-
-
-
-
-
-
-
 
 
 def _resolve(target: str):
@@ -215,4 +212,12 @@ def _parse_extension(name: str, target: str, raw: Any, trial: Trial, p: ProblemR
     parse = _resolve(target)
     if parse is None:
         return raw
-    return parse(raw, trial, p, name)
+    try:
+        return parse(raw, trial, p, name)
+    except (TypeError, AttributeError, KeyError, IndexError) as exc:
+        # A backstop: a value of a type the section's checks did not foresee.  It is
+        # reported as a problem of that section rather than as a crash.
+        p.add(name, f"[{name}] holds a value of the wrong type that could not be read "
+              f"({type(exc).__name__}: {short(str(exc))})", check="section_unreadable",
+              fix=f"compare [{name}] with the commented starter file of 'trialkit new'")
+        return None

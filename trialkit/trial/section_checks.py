@@ -1,5 +1,6 @@
-"""Checks of the trial file's own sections: ``[[factor]]``, ``[layout]``, ``[[response]]``
-and ``[coupons]`` (used by :mod:`trialkit.trial.file`).
+"""Checks of the trial file's own sections: ``[[factor]]``, ``[layout]`` and ``[[response]]``
+(used by :mod:`trialkit.trial.file`; ``[coupons]`` is checked in
+:mod:`trialkit.trial.coupon_checks`).
 
 Each check adds a :class:`~trialkit.problems.Problem` for every fault it finds and returns
 what it could read; nothing raises.
@@ -7,26 +8,31 @@ what it could read; nothing raises.
 
 from __future__ import annotations
 
+import math
 import re
+import warnings
 from typing import Any
 
+from trialkit.exceptions import TrialkitWarning
 from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.trial import limits
 from trialkit.trial.factors import CATEGORICAL, CONTINUOUS, FACTOR_KINDS, Factor
+from trialkit.trial.limits import at_most, short, text
 from trialkit.trial.retired_names import retired_key_hint, retired_value_hint
-from trialkit.trial.spec import CouponSpec, DesignSpec, Layout, ResponseSpec
-from trialkit.units import UnitError, check_unit, to_unit
+from trialkit.trial.spec import DesignSpec, Layout, ResponseSpec
+from trialkit.units import UnitError, check_unit
 
 FACTOR_KEYS = ("name", "kind", "unit", "low", "high", "levels", "description")
 LAYOUT_KEYS = ("replicates", "blocks", "block_label", "center_points", "controls",
                "coupons_per_bath", "witness_coupons")
 RESPONSE_KEYS = ("name", "unit", "aim", "unacceptable", "satisfactory", "ideal", "shape",
                  "priority", "measure", "description")
-COUPON_KEYS = ("shape", "length", "width", "thickness", "diameter", "holes", "area", "metal",
-               "cleaning_cycles", "description")
-COUPON_SHAPES = ("plate", "disc", "cylinder", "bar", "given")
 CONTROL_KINDS = ("untreated", "reference")
 AIMS = ("higher", "lower", "on-target", "record-only")
 NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+MAX_NAME = 40
+#: Largest magnitude of a factor's low and high (natural units).
+MAX_FACTOR_VALUE = 1e9
 
 
 def unknown_keys(table: dict, allowed: tuple[str, ...], where: str, p: ProblemReport,
@@ -34,31 +40,37 @@ def unknown_keys(table: dict, allowed: tuple[str, ...], where: str, p: ProblemRe
     for key in table:
         if key not in allowed:
             hint = retired_key_hint(section, key)
-            p.add(f"{where}.{key}" if where else key,
-                  f"retired key {key!r}" if hint else f"unknown key {key!r}", value=key,
-                  fix=hint or did_you_mean(key, list(allowed)),
+            p.add(f"{where}.{short(key)}" if where else short(key),
+                  f"retired key {key!r}" if hint else f"unknown key {short(key)!r}",
+                  value=key, fix=hint or did_you_mean(short(key), list(allowed)),
                   check="retired_key" if hint else "unknown_key")
 
 
 def whole_number(table: dict, key: str, where: str, p: ProblemReport, default: int,
-                 minimum: int) -> int:
+                 minimum: int, maximum: int | None = None) -> int:
     value = table.get(key, default)
     if isinstance(value, bool) or not isinstance(value, int):
-        p.add(f"{where}.{key}", f"{key} must be a whole number", value=value,
+        p.add(f"{where}.{key}", f"{key} must be a whole number", value=short(value),
               fix=f"write e.g. {key} = {max(default, minimum)}", check="not_integer")
         return default
     if value < minimum:
         p.add(f"{where}.{key}", f"{key} must be at least {minimum}", value=value,
               fix=f"use {minimum} or more", check="too_small")
         return default
+    if maximum is not None and not at_most(value, maximum, f"{where}.{key}", key, p):
+        return default
     return value
 
 
 def number(value: Any, where: str, p: ProblemReport, what: str) -> float | None:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
-        p.add(where, f"{what} must be a number", value=value,
+        p.add(where, f"{what} must be a number", value=short(value),
               fix="write a plain number without quotes or units (the unit has its own key)",
               check="not_number")
+        return None
+    if not math.isfinite(float(value)):
+        p.add(where, f"{what} must be a finite number", value=value, check="not_finite",
+              fix="write a plain number; nan and inf are not values a trial can use")
         return None
     return float(value)
 
@@ -74,10 +86,10 @@ def named_tables(raw: Any, section: str, allowed: tuple[str, ...], example: str,
             continue
         unknown_keys(table, allowed, where, p, section)
         name = table.get("name")
-        if not isinstance(name, str) or not NAME_PATTERN.match(name):
+        if not isinstance(name, str) or not NAME_PATTERN.match(name) or len(name) > MAX_NAME:
             p.add(f"{where}.name", f"a {section} name must start with a letter and use only "
-                  "letters, digits and _", value=name, check="bad_name",
-                  fix=f'write e.g. name = "{example}"')
+                  f"letters, digits and _ (up to {MAX_NAME} characters)", value=short(name),
+                  check="bad_name", fix=f'write e.g. name = "{example}"')
             continue
         where = f"{section}[{i}] ({name})"
         if name.lower() in seen:
@@ -92,6 +104,8 @@ def check_factors(raw: Any, p: ProblemReport) -> list[Factor]:
         p.add("factor", "the trial needs at least one [[factor]]", check="no_factors",
               fix='add [[factor]] with name, unit, low and high (or levels = ["a", "b"])')
         return []
+    if not at_most(len(raw), limits.MAX_FACTORS, "factor", "the number of factors", p):
+        return []
     factors: list[Factor] = []
     for table, name, where in named_tables(raw, "factor", FACTOR_KEYS, "chelator", p):
         f = _check_one_factor(table, name, where, p)
@@ -103,20 +117,27 @@ def check_factors(raw: Any, p: ProblemReport) -> list[Factor]:
 def _check_one_factor(table: dict, name: str, where: str, p: ProblemReport) -> Factor | None:
     kind = table.get("kind")
     levels = table.get("levels", [])
+    if not isinstance(levels, list):
+        p.add(f"{where}.levels", "levels must be a list", value=short(levels),
+              check="bad_levels", fix='write levels = ["none", "added"] or [2, 4, 8]')
+        return None
+    if not at_most(len(levels), limits.MAX_LEVELS, f"{where}.levels", "the number of levels",
+                   p):
+        return None
     if kind is None:
         kind = CATEGORICAL if levels and all(isinstance(v, str) for v in levels) else CONTINUOUS
-    if kind not in FACTOR_KINDS:
-        p.add(f"{where}.kind", f"unknown factor kind {kind!r}", value=kind, check="bad_kind",
-              fix=did_you_mean(str(kind), list(FACTOR_KINDS)))
+    if not isinstance(kind, str) or kind not in FACTOR_KINDS:
+        p.add(f"{where}.kind", f"unknown factor kind {short(kind)!r}", value=short(kind),
+              check="bad_kind", fix=did_you_mean(short(kind), list(FACTOR_KINDS)))
         return None
-    unit = table.get("unit", "")
+    unit = text(table, "unit", where, p)
     if unit:
         try:
-            unit = check_unit(str(unit))
+            unit = check_unit(unit)
         except UnitError as exc:
             p.add(f"{where}.unit", str(exc), value=unit, check="unknown_unit",
                   fix="use a unit pint knows (g/L, degC, min, h) or '% w/v', '% w/w', 'pH'")
-    description = str(table.get("description", ""))
+    description = text(table, "description", where, p)
     if kind == CONTINUOUS:
         ok = True
         for key in ("low", "high"):
@@ -134,6 +155,8 @@ def _check_one_factor(table: dict, name: str, where: str, p: ProblemReport) -> F
             p.add(f"{where}.low", f"low must be below high for {name!r}",
                   value=f"low = {low:g}, high = {high:g}", check="low_not_below_high",
                   fix="swap low and high, or widen the range")
+            return None
+        if not _plausible_range(low, high, unit, where, p):
             return None
         nums: list[float] = []
         if levels:
@@ -158,12 +181,44 @@ def _check_one_factor(table: dict, name: str, where: str, p: ProblemReport) -> F
               check="too_few_levels", fix='write levels = ["none", "added"]')
         return None
     labels = [str(v) for v in levels]
+    if not all(isinstance(v, (str, int, float)) and not isinstance(v, bool) for v in levels) \
+            or any(not label.strip() or len(label) > 60 for label in labels):
+        p.add(f"{where}.levels", "levels must be short texts (or numbers), each up to "
+              "60 characters and not blank", value=short(levels), check="bad_levels",
+              fix='write levels = ["none", "added"]')
+        return None
     if len(set(labels)) != len(labels):
         p.add(f"{where}.levels", "levels must be distinct", value=levels,
               check="duplicate_level", fix="remove the repeated level")
         return None
     make = Factor.categorical if kind == CATEGORICAL else Factor.ordinal
     return make(name, labels, description=description)
+
+
+def _plausible_range(low: float, high: float, unit: str, where: str,
+                     p: ProblemReport) -> bool:
+    """Refuse ranges no bath can have: huge magnitudes, a range too narrow to code, pH
+    outside 0-14, a temperature below absolute zero."""
+    if max(abs(low), abs(high)) > MAX_FACTOR_VALUE:
+        p.add(f"{where}.high", f"low and high must lie within +-{MAX_FACTOR_VALUE:g}",
+              value=f"low = {low:g}, high = {high:g}", check="out_of_range",
+              fix="give the range in a unit that keeps the numbers moderate")
+        return False
+    if high - low < 1e-9 * max(1.0, abs(low), abs(high)):
+        p.add(f"{where}.high", "low and high are too close to tell apart",
+              value=f"low = {low:g}, high = {high:g}", check="out_of_range",
+              fix="widen the range")
+        return False
+    if unit == "pH" and (low < 0 or high > 14):
+        p.add(f"{where}.low", "a pH range must lie within 0-14",
+              value=f"low = {low:g}, high = {high:g}", check="out_of_range",
+              fix="give pH values between 0 and 14")
+        return False
+    if unit == "degC" and low < -273.15:
+        p.add(f"{where}.low", "a temperature cannot be below absolute zero",
+              value=f"low = {low:g} degC", check="out_of_range", fix="check the sign")
+        return False
+    return True
 
 
 def check_layout(table: Any, p: ProblemReport) -> Layout:
@@ -188,18 +243,32 @@ def check_layout(table: Any, p: ProblemReport) -> Layout:
                       check="duplicate_control", fix="list each control once")
             else:
                 good_controls.append(c)
+    block_label = text(table, "block_label", "layout", p, "block")
+    if not NAME_PATTERN.match(block_label.replace(" ", "_")) or len(block_label) > 40:
+        p.add("layout.block_label", "block_label must be a short word (letters, digits, _ "
+              "and spaces, up to 40 characters)", value=short(block_label),
+              check="bad_block_label", fix='write e.g. block_label = "day"')
+        block_label = "block"
     layout = Layout(
-        replicates=whole_number(table, "replicates", "layout", p, 1, 1),
-        blocks=whole_number(table, "blocks", "layout", p, 1, 1),
-        block_label=str(table.get("block_label", "block")),
-        center_points=whole_number(table, "center_points", "layout", p, 0, 0),
+        replicates=whole_number(table, "replicates", "layout", p, 1, 1,
+                                limits.MAX_REPLICATES),
+        blocks=whole_number(table, "blocks", "layout", p, 1, 1, limits.MAX_BLOCKS),
+        block_label=block_label,
+        center_points=whole_number(table, "center_points", "layout", p, 0, 0,
+                                   limits.MAX_CENTER_POINTS),
         controls=tuple(good_controls),
-        coupons_per_bath=whole_number(table, "coupons_per_bath", "layout", p, 1, 0),
-        witness_coupons=whole_number(table, "witness_coupons", "layout", p, 0, 0),
+        coupons_per_bath=whole_number(table, "coupons_per_bath", "layout", p, 1, 0,
+                                      limits.MAX_COUPONS_PER_BATH),
+        witness_coupons=whole_number(table, "witness_coupons", "layout", p, 0, 0,
+                                     limits.MAX_WITNESS_COUPONS),
     )
     if layout.coupons_per_bath + layout.witness_coupons == 0:
         p.add("layout.coupons_per_bath", "every bath needs at least one coupon", value=0,
               check="no_coupons", fix="set coupons_per_bath = 1 (or witness_coupons = 1)")
+    elif layout.coupons_per_bath == 0 and table.get("coupons_per_bath") == 0:
+        warnings.warn("layout.coupons_per_bath = 0: the baths hold witness coupons only, so "
+                      "no rust removal can be measured (only attack on the steel)",
+                      TrialkitWarning, stacklevel=2)
     return layout
 
 
@@ -222,7 +291,7 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
         return []
     out: list[ResponseSpec] = []
     for table, name, where in named_tables(raw, "response", RESPONSE_KEYS, "removal", p):
-        unit = str(table.get("unit", ""))
+        unit = text(table, "unit", where, p)
         if unit:
             try:
                 unit = check_unit(unit)
@@ -230,8 +299,9 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
                 p.add(f"{where}.unit", str(exc), value=unit, check="unknown_unit",
                       fix="use a unit pint knows, e.g. 'g/m**2', 'mm/yr', 'h', or '%'")
         aim = table.get("aim", "higher")
-        if aim not in AIMS:
-            p.add(f"{where}.aim", f"unknown aim {aim!r}", value=aim, check="bad_aim",
+        if not isinstance(aim, str) or aim not in AIMS:
+            p.add(f"{where}.aim", f"unknown aim {short(aim)!r}", value=short(aim),
+                  check="bad_aim",
                   fix=(retired_value_hint("response.aim", aim)
                        or did_you_mean(str(aim), list(AIMS))))
             aim = "record-only"
@@ -248,17 +318,27 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
                   "ideal", value=table["satisfactory"], check="satisfactory_on_target",
                   fix="remove satisfactory; give ideal and unacceptable = [below, above]")
         _check_aim_limits(aim, unacceptable, nums, where, p)
-        for key in ("shape", "priority"):
+        for key, top in (("shape", 100.0), ("priority", 1000.0)):
             if nums[key] is not None and nums[key] <= 0:
                 p.add(f"{where}.{key}", f"{key} must be positive", value=nums[key],
                       check="not_positive", fix=f"use e.g. {key} = 1")
                 nums[key] = None
+            elif nums[key] is not None and not 1e-3 <= nums[key] <= top:
+                p.add(f"{where}.{key}", f"{key} must lie between 0.001 and {top:g}",
+                      value=nums[key], check="out_of_range", fix=f"use e.g. {key} = 1")
+                nums[key] = None
+        measure = text(table, "measure", where, p, name)
+        if not NAME_PATTERN.match(measure) or len(measure) > 60:
+            p.add(f"{where}.measure", "measure must name a response measure (letters, digits "
+                  "and _, such as removal_pct)", value=short(measure), check="bad_measure",
+                  fix='write e.g. measure = "removal_pct"')
+            measure = name
         out.append(ResponseSpec(
             name=name, unit=unit, aim=aim, unacceptable=unacceptable,
             satisfactory=nums["satisfactory"], ideal=nums["ideal"],
             shape=nums["shape"] or 1.0, priority=nums["priority"] or 1.0,
-            measure=str(table.get("measure", name)),
-            description=str(table.get("description", ""))))
+            measure=measure,
+            description=text(table, "description", where, p)))
     return out
 
 
@@ -297,56 +377,3 @@ def _check_aim_limits(aim: str, unacceptable, nums: dict, where: str,
               f"{side} the satisfactory one",
               value=f"unacceptable = {unacceptable:g}, satisfactory = {good:g}",
               check="limits_reversed", fix="swap unacceptable and satisfactory")
-
-
-def _length_mm(value: Any, where: str, p: ProblemReport) -> float | None:
-    try:
-        mm = to_unit(value, "mm", default_unit="mm")
-    except UnitError as exc:
-        p.add(where, str(exc), value=value, check="bad_length",
-              fix='write a length such as 50 (mm) or "2 in"')
-        return None
-    if mm <= 0:
-        p.add(where, "lengths must be positive", value=value, check="not_positive",
-              fix="give the dimension in mm, above zero")
-        return None
-    return mm
-
-
-def check_coupons(table: Any, p: ProblemReport) -> CouponSpec | None:
-    if not isinstance(table, dict):
-        p.add("coupons", "[coupons] must be a table", check="not_table")
-        return None
-    unknown_keys(table, COUPON_KEYS, "coupons", p)
-    shape = table.get("shape", "plate")
-    if shape not in COUPON_SHAPES:
-        p.add("coupons.shape", f"unknown coupon shape {shape!r}", value=shape,
-              check="bad_shape", fix=did_you_mean(str(shape), list(COUPON_SHAPES)))
-        return None
-    dims = {k: _length_mm(table[k], f"coupons.{k}", p)
-            for k in ("length", "width", "thickness", "diameter") if k in table}
-    holes_raw = table.get("holes", [])
-    holes = tuple(h for h in (_length_mm(h, "coupons.holes", p) for h in holes_raw)
-                  if h is not None) if isinstance(holes_raw, list) else ()
-    area = None
-    if "area" in table:
-        try:
-            area = to_unit(table["area"], "cm**2", default_unit="cm**2")
-        except UnitError as exc:
-            p.add("coupons.area", str(exc), value=table["area"], check="bad_area",
-                  fix='write an area such as 30 (cm²) or "0.003 m**2"')
-    needed = {"plate": ("length", "width", "thickness"), "bar": ("length", "width", "thickness"),
-              "disc": ("diameter", "thickness"), "cylinder": ("diameter", "length"),
-              "given": ()}[shape]
-    if shape == "given" and area is None:
-        p.add("coupons.area", 'shape = "given" needs area', check="missing_key",
-              fix='add area = "30 cm**2"')
-    for key in needed:
-        if key not in table and area is None:
-            p.add(f"coupons.{key}", f"a {shape} coupon needs {key} (or give area)",
-                  check="missing_key", fix=f"add {key} = <mm>")
-    cycles = whole_number(table, "cleaning_cycles", "coupons", p, 0, 0)
-    return CouponSpec(shape=shape, length_mm=dims.get("length"), width_mm=dims.get("width"),
-                      thickness_mm=dims.get("thickness"), diameter_mm=dims.get("diameter"),
-                      holes=holes, area_cm2=area, metal=str(table.get("metal", "carbon steel")),
-                      cleaning_cycles=cycles, description=str(table.get("description", "")))

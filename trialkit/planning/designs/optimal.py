@@ -35,6 +35,7 @@ from trialkit.planning.designs.exchange import Region, coordinate_exchange
 from trialkit.problems import ProblemReport, did_you_mean
 from trialkit.trial.factors import Factor
 from trialkit.trial.retired_names import retired_key_hint
+from trialkit.trial.textsafe import unescape_text
 
 CRITERIA = ("D", "I")
 #: Trial-file options of ``kind = "optimal"`` -> description.
@@ -196,6 +197,9 @@ def _natural_rows(rows: Sequence[Mapping], factors, what: str) -> pd.DataFrame:
 
 def _read_existing(path: Path, factors) -> pd.DataFrame:
     table = pd.read_csv(path)
+    for c in table.columns:  # text written formula-safe (trial.textsafe) comes back as it was
+        if table[c].dtype == object or pd.api.types.is_string_dtype(table[c]):
+            table[c] = table[c].map(lambda v: unescape_text(v) if isinstance(v, str) else v)
     if "bath" in table:
         table = table.drop_duplicates("bath")
     if "point" in table:

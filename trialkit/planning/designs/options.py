@@ -14,7 +14,10 @@ missing_design_option      a required option is missing
 conflicting_options        two options that exclude each other
 too_few_factors            the kind needs more factors (of the right sort)
 too_many_factors           the kind cannot take that many factors
-too_many_runs              a full factorial beyond :data:`MAX_FULL_FACTORIAL_RUNS`
+too_many_runs              a full factorial (or a fraction from generators) beyond
+                           :data:`MAX_FULL_FACTORIAL_RUNS` points
+over_limit                 a count above its limit (levels, sweep count, Latin hypercube
+                           runs, iterations; see :mod:`trialkit.trial.limits`)
 categorical_not_two_level  a two-level kind got a categorical factor without 2 levels
 resolution_out_of_range    resolution outside 3..8
 resolution_unreachable     no fraction of this many factors reaches the resolution
@@ -58,6 +61,7 @@ from trialkit.planning.designs.optimal import check_optimal_options
 from trialkit.planning.designs.space import LHS_SPREADS
 from trialkit.planning.designs.twolevel import fraction_matrix
 from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.trial import limits
 from trialkit.trial.factors import FACTOR_LETTERS, Factor
 from trialkit.trial.retired_names import retired_key_hint, retired_value_hint
 from trialkit.trial.spec import DesignSpec
@@ -155,6 +159,16 @@ def check_design_section(table: Mapping, factors: Sequence[Factor],
     return DesignSpec(kind, options)
 
 
+def _within(value, limit, where, what, problems) -> bool:
+    """False (and an ``over_limit`` problem) when ``value`` is above ``limit``."""
+    if value > limit:
+        problems.add(where, f"{what} is limited to {limit:,} (set well above any real "
+                     "trial)", value=value, check="over_limit",
+                     fix=f"use {limit:,} or fewer")
+        return False
+    return True
+
+
 def _two_level_cats(cats, kind, problems, where):
     for f in cats:
         if len(f.levels) != 2:
@@ -174,6 +188,9 @@ def _check_full(factors, cont, cats, opts, problems, where):
         problems.add(f"{where}.levels", "levels must be a whole number >= 2", value=n,
                      fix="e.g. levels = 3", check="levels_invalid")
         n = None
+    elif n is not None and not _within(n, limits.MAX_LEVELS, f"{where}.levels", "levels",
+                                       problems):
+        return
     runs = 1
     for f in factors:
         runs *= len(f.levels) if f.levels else (n or 2)
@@ -234,6 +251,15 @@ def _check_fractional(factors, cont, cats, opts, problems, where):
                 problems.add(f"{where}.generators", str(exc), value=", ".join(gens),
                              check="generators_invalid",
                              fix=f"factors are lettered {' '.join(FACTOR_LETTERS[:k])}")
+                return
+            runs = 2 ** (k - len(gens))
+            if runs > MAX_FULL_FACTORIAL_RUNS:
+                problems.add(f"{where}.generators", f"{len(gens)} generator(s) for {k} "
+                             f"factors give {runs:,} runs, more than "
+                             f"{MAX_FULL_FACTORIAL_RUNS}", value=", ".join(gens),
+                             check="too_many_runs",
+                             fix="add generators (a smaller fraction) or use kind = "
+                                 "'plackett-burman'")
                 return
             if _is_int(res) and 3 <= res <= k:
                 got = alias_structure(fraction_matrix(k, gens)).resolution
@@ -321,6 +347,9 @@ def _check_sweep(factors, cont, cats, opts, problems, where):
                 and all(_is_num(v) for v in levels)):
             problems.add(f"{where}.levels", "levels must be a list of 2 or more numbers",
                          value=levels, check="option_type", fix="e.g. levels = [2, 4, 8]")
+        elif not _within(len(levels), limits.MAX_LEVELS, f"{where}.levels",
+                         "the number of sweep levels", problems):
+            pass
         else:
             if any(b <= a for a, b in zip(levels, levels[1:], strict=False)):
                 problems.add(f"{where}.levels", "sweep levels must be strictly increasing",
@@ -336,6 +365,8 @@ def _check_sweep(factors, cont, cats, opts, problems, where):
     if count is not None and not (_is_int(count) and count >= 2):
         problems.add(f"{where}.count", "count must be a whole number >= 2", value=count,
                      check="sweep_count_invalid", fix="e.g. count = 5")
+    elif count is not None:
+        _within(count, limits.MAX_LEVELS, f"{where}.count", "count", problems)
     if spacing is not None:
         if spacing not in ("linear", "geometric"):
             problems.add(f"{where}.spacing", "spacing must be 'linear' or 'geometric'",
@@ -358,6 +389,8 @@ def _check_lhs(factors, cont, cats, opts, problems, where):
     if runs is not None and not (_is_int(runs) and runs >= 2):
         problems.add(f"{where}.runs", "runs must be a whole number >= 2", value=runs,
                      check="runs_invalid", fix="e.g. runs = 20")
+    elif runs is not None:
+        _within(runs, limits.MAX_DESIGN_POINTS, f"{where}.runs", "runs", problems)
     spread = opts.get("spread")
     if spread is not None and spread not in LHS_SPREADS:
         problems.add(f"{where}.spread", "unknown spread", value=spread,
@@ -368,6 +401,8 @@ def _check_lhs(factors, cont, cats, opts, problems, where):
     if it is not None and not (_is_int(it) and it >= 1):
         problems.add(f"{where}.iterations", "iterations must be a whole number >= 1",
                      value=it, check="option_type", fix="e.g. iterations = 10")
+    elif it is not None:
+        _within(it, limits.MAX_SEARCH, f"{where}.iterations", "iterations", problems)
 
 
 _CHECKERS = {

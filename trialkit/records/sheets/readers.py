@@ -9,6 +9,12 @@ CSV files must be UTF-8 (with or without byte-order mark).  Commas, semicolons a
 are recognised as separators; in a semicolon- or tab-separated file a decimal comma
 (``12,5``) is read as a decimal point, as spreadsheet programs set to such locales write
 it.  In a comma-separated file a number with a comma is refused (it is ambiguous).
+
+Before a workbook is handed to openpyxl its zip is checked: at most :data:`MAX_MEMBERS`
+members and :data:`MAX_XLSX_BYTES` once decompressed (a "zip bomb" is refused without
+being inflated), no DOCTYPE or entity declarations in its XML, and every member whole.  A
+CSV file may hold at most :data:`MAX_CSV_BYTES` and a cell at most :data:`MAX_CELL_CHARS`
+characters.  A stamp of a sheet-format version this trialkit does not know is refused.
 """
 
 from __future__ import annotations
@@ -25,11 +31,17 @@ from trialkit.records.sheets.layout import (
     INSTRUCTIONS_TAB,
     META_TAB,
     SHEET_FORMAT,
+    SHEET_VERSION,
     TAB_NAMES,
 )
 from trialkit.records.sheets.textsafe import unescape_text
 
 _SCAN_ROWS = 12
+#: Size limits of a sheet, far above any real one (a 5,000-coupon sheet is a few MB).
+MAX_XLSX_BYTES = 100_000_000
+MAX_MEMBERS = 1_000
+MAX_CSV_BYTES = 50_000_000
+MAX_CELL_CHARS = 100_000
 
 
 @dataclass
@@ -94,14 +106,55 @@ def read_sheet_file(path: Path, data: bytes, problems: ProblemReport) -> list[Ra
 
 
 # -- XLSX ---------------------------------------------------------------------------
+def _check_zip(data: bytes, problems: ProblemReport) -> bool:
+    """Refuse a workbook zip that is too large inflated, damaged or declares XML entities."""
+    try:
+        archive = zipfile.ZipFile(io.BytesIO(data))
+        members = archive.infolist()
+    except (zipfile.BadZipFile, OSError, ValueError, EOFError) as exc:
+        problems.add("", "the file is not a readable XLSX workbook (the zip is damaged or "
+                     "truncated)", value=type(exc).__name__, check="not_a_workbook",
+                     fix="open it in a spreadsheet program and save it as .xlsx again")
+        return False
+    total = sum(m.file_size for m in members)
+    if len(members) > MAX_MEMBERS or total > MAX_XLSX_BYTES:
+        problems.add("", f"the workbook would be {total:,} bytes in {len(members)} parts once "
+                     f"unpacked; the limit is {MAX_XLSX_BYTES:,} bytes in {MAX_MEMBERS} parts",
+                     value=f"{total:,} bytes", check="too_large",
+                     fix="a recording sheet is a few MB at most: export a fresh one")
+        return False
+    import zlib
+
+    for m in members:
+        try:
+            content = archive.read(m)
+        except (zipfile.BadZipFile, zlib.error, EOFError, OSError, ValueError,
+                NotImplementedError) as exc:
+            problems.add("", f"part {m.filename!r} of the workbook is damaged or truncated",
+                         value=type(exc).__name__, check="not_a_workbook",
+                         fix="open it in a spreadsheet program and save it as .xlsx again")
+            return False
+        if m.filename.endswith((".xml", ".rels")) and (b"<!DOCTYPE" in content
+                                                       or b"<!ENTITY" in content):
+            problems.add("", f"part {m.filename!r} declares a DOCTYPE or entities, which a "
+                         "workbook never needs (they can make a reader expand text without "
+                         "end)", value=m.filename, check="xml_declarations",
+                         fix="save the sheet again from a spreadsheet program")
+            return False
+    return True
+
+
 def _read_xlsx(data: bytes, problems: ProblemReport) -> list[RawTable]:
     from openpyxl import load_workbook
 
+    if not _check_zip(data, problems):
+        return []
     try:
         wb_values = load_workbook(io.BytesIO(data), data_only=True)
         wb_formulas = load_workbook(io.BytesIO(data), data_only=False)
-    except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as exc:
-        problems.add("", "the file is not a readable XLSX workbook", value=type(exc).__name__,
+    except Exception as exc:  # openpyxl raises many types on a damaged workbook
+        problems.add("", "the file is not a readable XLSX workbook (its XML is malformed: "
+                     f"{type(exc).__name__})", value=type(exc).__name__,
                      check="not_a_workbook",
                      fix="open it in a spreadsheet program and save it as .xlsx")
         return []
@@ -118,6 +171,8 @@ def _read_xlsx(data: bytes, problems: ProblemReport) -> list[RawTable]:
         problems.add(META_TAB, "the metadata tab does not hold a trialkit stamp",
                      value=meta.get("format", ""), check="no_metadata",
                      fix="fill in a sheet exported with 'trialkit sheet'")
+        return []
+    if not _known_version(meta, META_TAB, problems):
         return []
     wanted = {TAB_NAMES[name]: name for name in meta.get("layout", "").split(",")
               if name in TAB_NAMES}
@@ -195,6 +250,11 @@ def _read_csv(data: bytes, problems: ProblemReport) -> list[RawTable]:
         problems.add("", "the file is UTF-16 text; trialkit reads CSV in UTF-8",
                      check="wrong_encoding", fix="save the file as 'CSV UTF-8'")
         return []
+    if len(data) > MAX_CSV_BYTES:
+        problems.add("", f"the file has {len(data):,} bytes; the limit is {MAX_CSV_BYTES:,}",
+                     value=f"{len(data):,} bytes", check="too_large",
+                     fix="a recording sheet is a few MB at most: export a fresh one")
+        return []
     try:
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -202,12 +262,24 @@ def _read_csv(data: bytes, problems: ProblemReport) -> list[RawTable]:
                      f"0x{data[exc.start]:02x})", check="wrong_encoding",
                      fix="save the file as 'CSV UTF-8' in your spreadsheet program")
         return []
-    for delimiter in (",", ";", "\t"):
-        grid = list(csv.reader(io.StringIO(text, newline=""), delimiter=delimiter))
-        at = _find_name_row(grid)
-        if at is not None:
-            break
-    else:
+    limit = csv.field_size_limit()
+    csv.field_size_limit(MAX_CELL_CHARS)
+    at = None
+    try:
+        for delimiter in (",", ";", "\t"):
+            grid = list(csv.reader(io.StringIO(text, newline=""), delimiter=delimiter))
+            at = _find_name_row(grid)
+            if at is not None:
+                break
+    except csv.Error as exc:
+        problems.add("", f"the file cannot be read as CSV: {exc} (a cell may hold at most "
+                     f"{MAX_CELL_CHARS:,} characters)", value=str(exc)[:60],
+                     check="csv_unreadable",
+                     fix="shorten the long cell, or export a fresh sheet and fill it in")
+        return []
+    finally:
+        csv.field_size_limit(limit)
+    if at is None:
         problems.add("", "no row of machine names (a cell 'coupon') near the top",
                      check="no_header",
                      fix="keep the two heading rows of the exported sheet as they are")
@@ -226,6 +298,8 @@ def _read_csv(data: bytes, problems: ProblemReport) -> list[RawTable]:
                      fix="fill in a sheet exported with 'trialkit sheet --format csv' and "
                          "keep its first line")
         return []
+    if not _known_version(meta, "", problems):
+        return []
     layout = meta.get("layout", "")
     if layout not in TAB_NAMES or at == 0:
         problems.add("", "the stamp names no known sheet layout", value=layout,
@@ -237,3 +311,16 @@ def _read_csv(data: bytes, problems: ProblemReport) -> list[RawTable]:
             and not all(_blank(v) for v in values)]
     return [RawTable(TAB_NAMES[layout], layout, meta, headings, names, rows, True,
                      delimiter != ",")]
+
+
+def _known_version(meta: dict[str, str], where: str, problems: ProblemReport) -> bool:
+    """False (and a problem) for a stamp of a sheet-format version this build cannot read."""
+    version = meta.get("version", "")
+    if version != SHEET_VERSION:
+        problems.add(where, f"the sheet's stamp has format version {version[:20]!r}; this "
+                     f"trialkit reads version {SHEET_VERSION}", value=version[:20],
+                     check="unknown_sheet_version",
+                     fix="export the sheet again with this trialkit, or read it with the "
+                         "trialkit that exported it")
+        return False
+    return True

@@ -284,6 +284,7 @@ def validate_table(raw: RawTable, plan: Any, config: SheetConfig, problems: Prob
                                  fix="put the plan's value back; plan columns cannot be "
                                      "edited on a sheet (change the trial file instead)")
         _row_checks(raw, row, entries, config, layout, problems, allow_mass_gain)
+        _area_check(raw, row, entries, getattr(plan.trial, "coupons", None), problems)
         inspection = int(key[1]) if len(key) > 1 else 0
         readings += [(coupon, inspection, name, v) for name, v in entries.items()
                      if v is not None]
@@ -314,3 +315,32 @@ def _row_checks(raw: RawTable, row: int, entries: dict[str, Any], config: SheetC
                              row=row, column=name, value=entries[name], check="mass_gain",
                              fix="check the weighing; if deposits really added mass, ingest "
                                  "with --allow-mass-gain (allow_mass_gain=True)")
+
+
+#: A recorded exposed area may differ from the area computed from the coupon's dimensions
+#: by at most this share (either way) before the row is refused.
+AREA_TOLERANCE = 0.25
+
+
+def _area_check(raw: RawTable, row: int, entries: dict[str, Any], spec: Any,
+                problems: ProblemReport) -> None:
+    """A recorded area far from the area of the recorded (or the trial's) dimensions."""
+    area = entries.get("area_cm2")
+    if area is None or spec is None or spec.shape == "given":
+        return
+    from trialkit.trial.geometry import GeometryError, coupon_area_cm2
+
+    dims = {k: entries.get(k) if entries.get(k) is not None else getattr(spec, k)
+            for k in ("length_mm", "width_mm", "thickness_mm", "diameter_mm")}
+    try:
+        computed = coupon_area_cm2(shape=spec.shape, holes=list(spec.holes),
+                                   **{k: v for k, v in dims.items() if v is not None})
+    except (GeometryError, TypeError, ValueError):
+        return  # the dimensions are incomplete: nothing to compare with
+    if computed > 0 and abs(area - computed) > AREA_TOLERANCE * computed:
+        problems.add(raw.tab, f"the exposed area {area:g} cm² differs from the "
+                     f"{computed:.4g} cm² of the coupon's dimensions by more than "
+                     f"{AREA_TOLERANCE:.0%}", row=row, column="area_cm2", value=area,
+                     check="area_mismatch",
+                     fix="check the area and its unit (cm²), or record the measured "
+                         "dimensions; leave the area empty to compute it")
