@@ -56,7 +56,7 @@ def test_unknown_measure_is_refused_at_plan_time_with_a_suggestion(tmp_path, cap
                                                     'measure = "removal_percent"'),
                                        encoding="utf-8")
     before = (folder / "plan.csv").read_bytes()
-    assert main(["plan", str(folder)]) == 2
+    assert main(["plan", str(folder)]) == 1          # refused, the problems listed
     err = capsys.readouterr().err
     assert "unknown measure 'removal_percent'" in err and "removal_pct" in err
     assert (folder / "plan.csv").read_bytes() == before
