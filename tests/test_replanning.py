@@ -96,3 +96,26 @@ def test_a_bath_recorded_off_its_planned_temperature_is_listed(tmp_path):
     quality = build_report(result).section("readings")
     assert any(b.kind == "table" and b.text.startswith("Bath conditions off the plan")
                for b in quality.blocks)
+
+
+def test_the_report_carries_the_head_of_the_record_logs_hash_chain(tmp_path):
+    # issue 14: the head is kept in a second place, and on every exported report
+    import sqlite3
+
+    from trialkit.records.chain import verify_log
+    from trialkit.report.build import build_report
+
+    folder, _ = _recorded(tmp_path)
+    head = verify_log(folder / LOG_FILE).head
+    pairs = dict(build_report(analyze(folder)).section("reproduce").blocks[0].items)
+    assert pairs["Record log"].startswith("intact: 1 ingest(s)") and head in \
+        pairs["Record log"]
+    con = sqlite3.connect(folder / LOG_FILE)          # an edit made outside trialkit
+    con.execute("DROP TRIGGER IF EXISTS readings_no_update")
+    con.execute("UPDATE readings SET value_num = 99 WHERE id = 1")
+    con.commit()
+    con.close()
+    result = analyze(folder)
+    assert result.to_dict()["record_log"]["ok"] is False
+    pairs = dict(build_report(result).section("reproduce").blocks[0].items)
+    assert pairs["Record log"].startswith("BROKEN: ")

@@ -117,6 +117,9 @@ def _load_log(data: TrialAnalysis) -> None:
                               "fill in a sheet and read it in with 'trialkit ingest')")
         return
     try:
+        from trialkit.records.chain import verify_log
+
+        data.log_check = verify_log(path)
         data.log = store.RecordLog.for_folder(data.folder)
         data.history = data.log.history()
         data.current = data.log.current_values(plan=data.plan)

@@ -48,6 +48,7 @@ class TrialAnalysis:
     comparisons: list = field(default_factory=list)  # Tukey, levels of categorical factors
     versus_controls: list = field(default_factory=list)  # Dunnett, against the controls
     bench: pd.DataFrame | None = None  # baths whose recorded pH / temperature is off plan
+    log_check: object | None = None  # trialkit.records.chain.LogVerification of the log
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -90,6 +91,7 @@ class TrialAnalysis:
             "versus_controls": list(self.versus_controls),
             "bench_deviations": ([] if self.bench is None
                                  else self.bench.to_dict("records")),
+            "record_log": None if self.log_check is None else self.log_check.to_dict(),
             "confirmation": {k: v.to_dict() for k, v in self.confirmations.items()},
             "notes": {k: list(v) for k, v in self.notes.items()},
         }

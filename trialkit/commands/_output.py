@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import math
 import sys
+from pathlib import Path
 from typing import Any
 
 
@@ -30,3 +31,13 @@ def print_json(data: Any) -> None:
     """Print ``data`` as indented JSON (NaN becomes null) to standard output."""
     json.dump(_clean(data), sys.stdout, indent=2, allow_nan=False)
     sys.stdout.write("\n")
+
+
+def check_record_log(folder: str) -> None:
+    """A damaged record log refuses the report and the analysis of the whole trial (rather
+    than results that leave the readings out)."""
+    from trialkit.records.log import LOG_FILE, RecordLog
+
+    path = Path(folder) / LOG_FILE
+    if Path(folder).is_dir() and path.exists():
+        RecordLog(path)  # runs SQLite's integrity check; RecordLogError if damaged

@@ -112,6 +112,9 @@ def _whole_trial(args: argparse.Namespace, path: Path) -> int:
 
     if not path.is_dir():
         raise AnalysisError(f"--all needs a trial folder; {path} is not one")
+    from trialkit.commands._output import check_record_log
+
+    check_record_log(str(path))
     result = analyze(path, n_boot=args.bootstrap)
     if args.json:
         print_json(result.to_dict())

@@ -53,17 +53,9 @@ def _bath_results(path: str, folder: str):
     return base.merge(table[extra], on="bath", how="left")
 
 
-def _check_record_log(folder: str) -> None:
-    """A damaged record log refuses the report (rather than a report that leaves it out)."""
-    from trialkit.records.log import LOG_FILE, RecordLog
-
-    path = Path(folder) / LOG_FILE
-    if Path(folder).is_dir() and path.exists():
-        RecordLog(path)  # runs SQLite's integrity check; RecordLogError if damaged
-
-
 def run(args: argparse.Namespace) -> int:
     from trialkit.analysis.trial_analysis import analyze
+    from trialkit.commands._output import check_record_log
     from trialkit.report.build import build_report
     from trialkit.report.document import ReportError
 
@@ -76,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
                           "--out report.html (and --markdown notes.md for Markdown)")
     if args.markdown and Path(args.markdown).suffix.lower() not in (".md", ".markdown"):
         raise ReportError(f"--markdown must name a .md file; got {args.markdown!r}")
-    _check_record_log(args.folder)
+    check_record_log(args.folder)
     baths = _bath_results(args.bath_results, args.folder) if args.bath_results else None
     confirmation = None
     if args.confirmation:

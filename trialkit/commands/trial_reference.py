@@ -172,8 +172,8 @@ def accepted_keys() -> dict[str, tuple[str, ...]]:
     from trialkit.chemistry.ingredient_table import INGREDIENT_KEYS
     from trialkit.planning.evaluation_config import EVALUATION_KEYS
     from trialkit.records.config import _KEYS as SHEET_KEYS
-    from trialkit.trial.file import TRIAL_KEYS
     from trialkit.trial.coupon_checks import COUPON_KEYS
+    from trialkit.trial.file import TRIAL_KEYS
     from trialkit.trial.section_checks import FACTOR_KEYS, LAYOUT_KEYS, RESPONSE_KEYS
 
     return {"[trial]": TRIAL_KEYS, "[[factor]]": FACTOR_KEYS, "[design]": ("kind",),

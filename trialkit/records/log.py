@@ -219,7 +219,7 @@ class RecordLog:
     def plan_fingerprint(self) -> str | None:
         """Fingerprint of the plan the stored readings were recorded against (None when
         nothing is stored yet)."""
-        con = self._connect()
+        con = self._connect(read_only=True)
         try:
             row = con.execute("SELECT value FROM log_info WHERE key='plan_fingerprint'"
                               ).fetchone()

@@ -49,8 +49,14 @@ def reproduce_blocks(data: TrialAnalysis) -> list[Block]:
                                                       ".sqlite", ".py"):
             files.append({"file": str(path.relative_to(data.folder)),
                           "bytes": path.stat().st_size, "sha256": _sha256(path)})
+    check = data.log_check
+    log = [] if check is None else [(
+        "Record log", f"intact: {check.ingests} ingest(s), {check.readings} value(s); "
+                      f"head of its hash chain {check.head}" if check.ok
+        else f"BROKEN: {check.broken[0]} (run 'trialkit verify' for every fault)")]
     blocks = [Block.pairs([("Seed", data.trial.seed),
                            ("Plan fingerprint", data.plan.fingerprint),
+                           *log,
                            ("Written", dt.datetime.now(dt.UTC).strftime("%Y-%m-%d"))]),
               Block.pairs(pairs, "Versions"),
               Block.frame(pd.DataFrame(files), "Source files and their SHA-256")]
