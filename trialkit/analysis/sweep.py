@@ -36,7 +36,7 @@ import pandas as pd
 from scipy import stats
 
 from trialkit.analysis.data import finite
-from trialkit.analysis.linear import batched_refit
+from trialkit.analysis.linear import batched_refit, bootstrap_responses
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
 from trialkit.trial.factors import Factor
@@ -68,6 +68,8 @@ class SweepResult:
     falls_off : bool
     optimum : dict
         settings, predicted, pi_low, pi_high at ``best``.
+    boot_method : str
+        How ``boot_low``/``boot_high`` were computed (``"none"`` when not computed).
     """
 
     fit: object
@@ -85,6 +87,7 @@ class SweepResult:
     falls_off: bool
     drop_at_high: float
     optimum: dict
+    boot_method: str = "none"
 
     def grid(self, n: int = 101) -> pd.DataFrame:
         """Prediction curve with confidence and prediction bands over the swept range."""
@@ -113,6 +116,7 @@ class SweepResult:
         row["vertex"] = finite(self.vertex) if self.vertex is not None else None
         row["fieller_bounded"] = bool(self.fieller_bounded)
         row["aim"] = self.aim
+        row["boot_method"] = self.boot_method
         return {"sweep": row, "optimum": {k: (finite(v) if isinstance(v, float) else v)
                                           for k, v in self.optimum.items()}}
 
@@ -190,25 +194,66 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     drop = float(sign * (best_pred.predicted - pred[-1]))
     falls = bool(p_curv < alpha and vertex is not None and lo < vertex < hi and drop > tol)
     blo = bhi = float("nan")
+    boot_method = "none"
     if n_boot:
-        blo, bhi = _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha)
+        blo, bhi, boot_method = _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed,
+                                                alpha)
     optimum = {"settings": {factor.name: best}, "predicted": float(best_pred.predicted),
                "pi_low": float(best_pred.pi_low), "pi_high": float(best_pred.pi_high),
                "ci_low": float(best_pred.ci_low), "ci_high": float(best_pred.ci_high)}
     return SweepResult(fit, factor, aim, best, None if vertex is None else float(vertex),
-                       flo, fhi, bounded, blo, bhi, tol, lean, falls, drop, optimum)
+                       flo, fhi, bounded, blo, bhi, tol, lean, falls, drop, optimum,
+                       boot_method)
 
 
 def _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha):
+    """Bootstrap interval of the best level: (low, high, method).
+
+    Resamples are the fitted values plus modified residuals (leverage-rescaled, centred;
+    :func:`trialkit.analysis.linear.modified_residuals`).  When the fitted quadratic has
+    an optimum of the aim's kind inside the range, the interval is the studentized
+    (bootstrap-t) interval of the vertex ``-c1 / (2 c2)``, its standard error by the delta
+    method in every resample, cut to the swept range; otherwise (best at an end) the
+    percentile interval of the best level of the resamples.
+    """
     rng = np.random.default_rng(seed)
-    n = fit.n
-    idx = rng.integers(0, n, size=(n, n_boot))
-    betas = batched_refit(fit.mm.X, fit.ls.fitted[:, None] + fit.ls.resid[idx])
-    sl1, sl2 = fit.mm.term_columns[factor.name], fit.mm.term_columns[f"{factor.name}^2"]
-    c1, c2 = betas[sl1.start], betas[sl2.start]  # coded units
+    X = fit.mm.X
+    Ystar = bootstrap_responses(fit.ls, n_boot, rng)
+    betas = batched_refit(X, Ystar)
+    i1 = fit.mm.term_columns[factor.name].start
+    i2 = fit.mm.term_columns[f"{factor.name}^2"].start
+    c1, c2 = betas[i1], betas[i2]  # coded units
+    clo, chi = factor.to_coded(lo), factor.to_coded(hi)
+    b1, b2 = fit.ls.beta[i1], fit.ls.beta[i2]
+    v_hat = -b1 / (2 * b2) if b2 != 0 else np.nan
+    interior = bool(np.isfinite(v_hat) and sign * b2 < 0 and clo <= v_hat <= chi)
+    if interior and fit.df_resid > 0:
+        # the slope c1 + 2 c2 x is zero at the vertex: keep the levels x where the
+        # slope's t statistic lies within the bootstrap quantile of its own pivot
+        resid = Ystar - X @ betas
+        s2 = np.einsum("ij,ij->j", resid, resid) / fit.df_resid
+        V = fit.ls.xtx_inv[np.ix_([i1, i2], [i1, i2])]
+        xs = np.linspace(clo, chi, 401)
+        var0 = V[0, 0] + 4 * xs * V[0, 1] + 4 * xs * xs * V[1, 1]  # (g,)
+        g_hat = b1 + 2 * b2 * xs
+        g_star = c1[None, :] + 2 * c2[None, :] * xs[:, None]  # (g, B)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            pivot = np.abs(g_star - g_hat[:, None]) / np.sqrt(var0[:, None] * s2[None, :])
+            q = np.quantile(pivot, 1 - alpha, axis=1)
+            stat = np.abs(g_hat) / np.sqrt(var0 * fit.ls.sigma2)
+        keep = stat <= q
+        j = int(np.argmin(np.abs(xs - v_hat)))
+        keep[j] = True
+        low_j, high_j = j, j
+        while low_j > 0 and keep[low_j - 1]:
+            low_j -= 1
+        while high_j < xs.size - 1 and keep[high_j + 1]:
+            high_j += 1
+        return (float(factor.to_natural(xs[low_j])), float(factor.to_natural(xs[high_j])),
+                "bootstrap-calibrated slope test (modified residuals): the levels where "
+                "the fitted slope is not significantly different from zero")
     with np.errstate(divide="ignore", invalid="ignore"):
         xv = -c1 / (2 * c2)
-    clo, chi = factor.to_coded(lo), factor.to_coded(hi)
     inside = (sign * c2 < 0) & (xv >= clo) & (xv <= chi)
     # otherwise the better end of the range
     f_lo = c1 * clo + c2 * clo ** 2
@@ -216,4 +261,5 @@ def _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha):
     end = np.where(sign * f_hi >= sign * f_lo, chi, clo)
     best = np.where(inside, xv, end)
     qlo, qhi = np.quantile(best, [alpha / 2, 1 - alpha / 2])
-    return float(factor.to_natural(qlo)), float(factor.to_natural(qhi))
+    return (float(factor.to_natural(qlo)), float(factor.to_natural(qhi)),
+            "percentile bootstrap of the best level (modified residuals; best at an end)")
