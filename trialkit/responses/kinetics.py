@@ -9,12 +9,29 @@ Two models of the rust coverage ``c`` (% of area) against time in the bath ``t``
 
 Both are fitted by least squares (the linear parameters solved exactly for given ``k`` and
 ``L``), the lag-plateau model is kept where its AIC (``n·ln(SSE/n) + 2p``) is lower and it
-has at least two residual degrees of freedom.  The confidence interval of ``k`` is
-``k ± t(n-p)·se``, ``se`` from the Gauss–Newton covariance ``s²(JᵀJ)⁻¹`` (what
-``scipy.optimize.curve_fit`` returns).  Removal is counted from the fitted ``c0``: the
-time to X % removal is when ``c(t) = c0·(1 - X/100)``.  A time beyond the last reading is
-not reported as a result: ``time_to_90_h`` is then NaN, ``reached_90`` False and the model
-value is kept in ``time_to_90_model_h`` with a note.
+has at least two residual degrees of freedom.  The confidence interval of ``k`` for one
+curve is ``k·exp(± t(n-p)·se/k)`` (on the log scale, so it never goes below zero), ``se``
+from the Gauss–Newton covariance ``s²(JᵀJ)⁻¹`` (what ``scipy.optimize.curve_fit``
+returns).
+
+A bath's coupons are replicates of the bath, not independent readings of one curve (each
+coupon starts with its own coverage and removes at its own pace): :func:`fit_baths`
+fits each coupon's curve too and makes the bath's intervals in two stages.  With
+``ln k_bj`` the coupons' log rate constants of bath ``b`` (``m_b`` coupons) and ``v_bj``
+their curve-fit variances, the coupon-to-coupon variance ``tau²`` is pooled over the
+baths (method of moments, within-bath mean square ``MS_w`` less the mean curve-fit
+variance, at least 0); a bath's ``Var(ln k) = max(tau² + mean_j v_bj, MS_w) / m_b`` (its
+own curve-fit variance where that is larger, never less than the pooled scatter), with
+``Σ(m_b - 1)`` degrees of freedom, centred on the coupons' mean ``ln k``.  Coupons whose
+``ln k`` has a standard error above ``POOL_LOG_SE`` (an untreated bath barely moves) do
+not join the pooling: their bath uses its own scatter on ``m_b - 1`` df.  The same is done
+for ln(time to 50 / 90 %), and :func:`time_ratio` uses a t quantile on the right degrees
+of freedom.
+
+Removal is counted from the fitted ``c0``: the time to X % removal is when
+``c(t) = c0·(1 - X/100)``.  A time beyond the last reading is not reported as a result:
+``time_to_90_h`` is then NaN, ``reached_90`` False and the model value is kept in
+``time_to_90_model_h`` with a note.
 
 Examples
 --------
@@ -80,6 +97,12 @@ class RemovalFit:
         The model's time even when beyond the readings (inf if never reached).
     n, aic, aic_other, last_h : number
         Points, AIC of the kept and of the other model, last reading time.
+    coupons : int
+        Coupons whose curves were fitted one by one (1: one curve of all readings).
+    log_k_se, df : float
+        Standard error of ln k and the degrees of freedom of its t quantile.
+    interval_method : str
+        How the intervals were made (one curve, or coupons as replicates of the bath).
     notes : list of str
         What the reader should know (extrapolation, fall-backs).
     """
@@ -103,6 +126,13 @@ class RemovalFit:
     confidence: float
     cov: np.ndarray = field(repr=False)
     notes: list[str] = field(default_factory=list)
+    coupons: int = 1
+    log_k_se: float = math.nan
+    df: float = math.nan
+    interval_method: str = "one curve: reading noise only, t on n - p df"
+    log_time_se_coupons: dict = field(default_factory=dict)
+    log_time_coupon_mean: dict = field(default_factory=dict)
+    k_coupon_mean: float = math.nan
 
     def time_to(self, level_pct: float, params: dict | None = None) -> float:
         """Model time (h) to ``level_pct`` % removal; ``inf`` when never reached."""
@@ -117,7 +147,13 @@ class RemovalFit:
         return p["lag"] + math.log(span / rest) / p["k"]
 
     def log_time_se(self, level_pct: float) -> float:
-        """Standard error of ln(time to ``level_pct``) by the delta method."""
+        """Standard error of ln(time to ``level_pct``): from the coupons as replicates
+        when the bath's coupons were fitted one by one, else by the delta method."""
+        if level_pct in self.log_time_se_coupons:
+            return self.log_time_se_coupons[level_pct]
+        return self._delta_log_time_se(level_pct)
+
+    def _delta_log_time_se(self, level_pct: float) -> float:
         names = list(self.params)
         base = self.time_to(level_pct)
         if not math.isfinite(base) or base <= 0:
@@ -134,7 +170,8 @@ class RemovalFit:
         out = {k: getattr(self, k) for k in (
             "model", "k_per_h", "k_se", "k_lower", "k_upper", "time_to_50_h", "time_to_90_h",
             "reached_50", "reached_90", "time_to_50_model_h", "time_to_90_model_h", "n",
-            "aic", "aic_other", "last_h", "confidence")}
+            "aic", "aic_other", "last_h", "confidence", "coupons", "log_k_se", "df",
+            "interval_method")}
         out["params"] = dict(self.params)
         out["notes"] = list(self.notes)
         return out
@@ -264,9 +301,11 @@ def fit_removal(elapsed_h, coverage_pct, *, model: str = "auto",
     k_se = float(math.sqrt(cov[k_index, k_index])) if cov[k_index, k_index] >= 0 else math.nan
     tq = float(stats.t.ppf(0.5 + confidence / 2, dof))
     k = params["k"]
+    log_k_se = k_se / k if k > 0 else math.nan
     fit = RemovalFit(
-        model=chosen, params=params, k_per_h=k, k_se=k_se, k_lower=k - tq * k_se,
-        k_upper=k + tq * k_se, time_to_50_h=math.nan, time_to_90_h=math.nan,
+        model=chosen, params=params, k_per_h=k, k_se=k_se,
+        k_lower=_scaled(k, -tq * log_k_se), k_upper=_scaled(k, tq * log_k_se),
+        log_k_se=log_k_se, df=float(dof), time_to_50_h=math.nan, time_to_90_h=math.nan,
         reached_50=False, reached_90=False, time_to_50_model_h=math.nan,
         time_to_90_model_h=math.nan, n=n, aic=aics[chosen],
         aic_other=other[0] if other else math.nan, last_h=float(t.max()),
@@ -310,9 +349,11 @@ def time_ratio(fit: RemovalFit, reference: RemovalFit, *, level_pct: float = 90.
                confidence: float = 0.95) -> TimeRatio:
     """How many times as long ``fit`` takes as ``reference`` to reach ``level_pct``.
 
-    The interval combines the two baths' delta-method standard errors of ln(time), the
-    baths being independent; normal quantile.  Raises :class:`ResponseError` when either
-    bath does not reach the level within its readings.
+    The interval combines the two baths' standard errors of ln(time) (the baths being
+    independent) with a t quantile on the Welch–Satterthwaite degrees of freedom of the
+    two baths' own degrees of freedom (:attr:`RemovalFit.df`); when both baths' variances
+    come from the same pooled coupon-to-coupon variance, on its degrees of freedom.
+    Raises :class:`ResponseError` when either bath does not reach the level within its readings.
     """
     for f, name in ((fit, bath), (reference, reference_name)):
         if f.time_to(level_pct) > f.last_h:
@@ -320,8 +361,17 @@ def time_ratio(fit: RemovalFit, reference: RemovalFit, *, level_pct: float = 90.
                 f"{name} does not reach {level_pct:g} % removal within its readings (last "
                 f"at {f.last_h:g} h), so no time ratio is given. Compare at a lower level.")
     ta, tb = fit.time_to(level_pct), reference.time_to(level_pct)
-    se = math.hypot(fit.log_time_se(level_pct), reference.log_time_se(level_pct))
-    z = float(stats.norm.ppf(0.5 + confidence / 2))
+    if level_pct in fit.log_time_coupon_mean and level_pct in reference.log_time_coupon_mean:
+        ta = math.exp(fit.log_time_coupon_mean[level_pct])  # the coupons' geometric mean
+        tb = math.exp(reference.log_time_coupon_mean[level_pct])
+    sa, sb = fit.log_time_se(level_pct), reference.log_time_se(level_pct)
+    se = math.hypot(sa, sb)
+    dfs = [f.df if math.isfinite(f.df) and f.df > 0 else 1.0 for f in (fit, reference)]
+    if fit.coupons > 1 and reference.coupons > 1:
+        df = min(dfs)  # both from the same pooled coupon-to-coupon variance
+    else:
+        df = se ** 4 / (sa ** 4 / dfs[0] + sb ** 4 / dfs[1]) if se > 0 else min(dfs)
+    z = float(stats.t.ppf(0.5 + confidence / 2, df))
     ratio = ta / tb
     lo, hi = ratio * math.exp(-z * se), ratio * math.exp(z * se)
     text = (f"{bath} takes {ratio:.2g}x as long as {reference_name} to {level_pct:g} % "
@@ -329,19 +379,122 @@ def time_ratio(fit: RemovalFit, reference: RemovalFit, *, level_pct: float = 90.
     return TimeRatio(bath, reference_name, level_pct, ratio, lo, hi, confidence, text)
 
 
+def _scaled(value: float, log_step: float) -> float:
+    """``value * exp(log_step)``, inf (or 0) where that overflows, NaN for NaN."""
+    if not math.isfinite(log_step):
+        return math.nan if math.isnan(log_step) else (math.inf if log_step > 0 else 0.0)
+    return value * math.exp(min(log_step, 700.0))
+
+
+POOL_LOG_SE = 0.5  # coupons whose ln k is known to better than this join the pooling
+
+
+def _coupon_fits(grp: pd.DataFrame, model: str, confidence: float) -> list[RemovalFit]:
+    """One fit per coupon of a bath (coupons that cannot be fitted are left out)."""
+    out = []
+    if "coupon" not in grp:
+        return out
+    for _, cg in grp.groupby("coupon", sort=True):
+        try:
+            out.append(fit_removal(cg["elapsed_h"], cg["coverage_pct"],
+                                   model=model if model != "auto" else "first_order",
+                                   confidence=confidence))
+        except ResponseError:
+            continue
+    return out
+
+
+def _pooled_tau2(values: dict[str, np.ndarray], variances: dict[str, np.ndarray]
+                 ) -> tuple[float, float]:
+    """Coupon-to-coupon variance pooled over baths (method of moments) and its df."""
+    ss = df = vsum = 0.0
+    for b, v in values.items():
+        if v.size < 2:
+            continue
+        ss += float(np.sum((v - v.mean()) ** 2))
+        df += v.size - 1
+        vsum += float(np.mean(variances[b])) * (v.size - 1)
+    if df == 0:
+        return math.nan, 0.0
+    return max(ss / df - vsum / df, 0.0), df
+
+
+def _two_stage(fits: dict[str, RemovalFit], coupon_fits: dict[str, list[RemovalFit]],
+               confidence: float) -> None:
+    """Replace each bath's intervals by the two-stage ones (module docstring)."""
+    def collect(get):
+        vals, var = {}, {}
+        for b, cf in coupon_fits.items():
+            pairs = [get(f) for f in cf]
+            pairs = [(x, v) for x, v in pairs if math.isfinite(x) and math.isfinite(v)]
+            if len(pairs) == len(cf) and len(pairs) >= 2:
+                vals[b] = np.array([x for x, _ in pairs])
+                var[b] = np.array([v for _, v in pairs])
+        return vals, var
+
+    def ln_k(f):
+        return (math.log(f.k_per_h) if f.k_per_h > 0 else math.nan), f.log_k_se ** 2
+
+    vals, var = collect(ln_k)
+    pooled = {b for b in vals if np.all(np.sqrt(var[b]) <= POOL_LOG_SE)}
+    tau2, df = _pooled_tau2({b: vals[b] for b in pooled}, var)
+    ms_w = _pooled_tau2({b: vals[b] for b in pooled}, {b: np.zeros(1) for b in vals})[0]
+    for b in vals:
+        fit, m = fits[b], vals[b].size
+        if b in pooled and df:
+            se = math.sqrt(max(tau2 + float(np.mean(var[b])), ms_w) / m)
+            bdf = df
+            how = (f"coupons as replicates of the bath ({m} coupons; coupon-to-coupon "
+                   f"variance pooled over {len(pooled)} baths, t on {df:g} df)")
+        else:  # a poorly determined rate (an untreated bath, say): its own scatter only
+            se = math.sqrt(max(float(np.var(vals[b], ddof=1)), float(np.mean(var[b]))) / m)
+            bdf = float(m - 1)
+            how = (f"coupons as replicates of the bath ({m} coupons, rate too poorly "
+                   f"determined to pool; t on {m - 1} df)")
+        tq = float(stats.t.ppf(0.5 + confidence / 2, bdf))
+        centre = math.exp(float(np.mean(vals[b])))
+        fit.coupons, fit.log_k_se, fit.df, fit.interval_method = m, se, bdf, how
+        fit.k_coupon_mean = centre
+        fit.k_lower = _scaled(centre, -tq * se)
+        fit.k_upper = _scaled(centre, tq * se)
+    for level in LEVELS:
+        def ln_t(f, level=level):
+            t = f.time_to(level)
+            if not (math.isfinite(t) and t > 0):
+                return math.nan, math.nan
+            return math.log(t), f._delta_log_time_se(level) ** 2
+
+        tv, tvar = collect(ln_t)
+        tp = {b: tv[b] for b in tv if b in pooled}
+        t_tau2, t_df = _pooled_tau2(tp, tvar)
+        t_ms = _pooled_tau2(tp, {c: np.zeros(1) for c in tv})[0]
+        for b in tv:
+            if fits[b].coupons <= 1:
+                continue
+            if b in tp and t_df:
+                v = max(t_tau2 + float(np.mean(tvar[b])), t_ms)
+            else:
+                v = max(float(np.var(tv[b], ddof=1)), float(np.mean(tvar[b])))
+            fits[b].log_time_se_coupons[level] = math.sqrt(v / tv[b].size)
+            fits[b].log_time_coupon_mean[level] = float(np.mean(tv[b]))
+
+
 def fit_baths(timecourse: pd.DataFrame, *, model: str = "auto",
               confidence: float = 0.95) -> tuple[pd.DataFrame, dict[str, RemovalFit], list]:
-    """Fit every bath of a long time-course table (columns bath, elapsed_h, coverage_pct).
+    """Fit every bath of a long time-course table (columns bath, elapsed_h, coverage_pct,
+    and coupon when known).
 
-    Coupons of one bath are pooled (they are subsamples of the bath).  Returns the table
-    (one row per bath), the fits by bath and a list of ``(bath, message)`` for baths that
-    could not be fitted.
+    The bath's curve is fitted to all its coupons' readings; when the table names the
+    coupons and a bath has two or more of them, each coupon's curve is fitted as well and
+    the bath's intervals treat the coupons as replicates (two stages, module docstring).
+    Returns the table (one row per bath), the fits by bath and a list of
+    ``(bath, message)`` for baths that could not be fitted.
     """
     missing = [c for c in ("bath", "elapsed_h", "coverage_pct") if c not in timecourse]
     if missing:
         raise ResponseError(
             f"time-course readings lack column(s) {missing}; got {list(timecourse.columns)}.")
-    rows, fits, failed = [], {}, []
+    fits, failed, per_coupon = {}, [], {}
     for bath, grp in timecourse.groupby("bath", sort=True):
         try:
             fit = fit_removal(grp["elapsed_h"], grp["coverage_pct"], model=model,
@@ -350,8 +503,15 @@ def fit_baths(timecourse: pd.DataFrame, *, model: str = "auto",
             failed.append((str(bath), str(exc)))
             continue
         fits[str(bath)] = fit
+        cf = _coupon_fits(grp, fit.model, confidence)
+        if len(cf) >= 2:
+            per_coupon[str(bath)] = cf
+    if per_coupon:
+        _two_stage(fits, per_coupon, confidence)
+    rows = []
+    for bath, fit in fits.items():
         rows.append({
-            "bath": str(bath), "kinetic_model": fit.model, "rate_constant_per_h": fit.k_per_h,
+            "bath": bath, "kinetic_model": fit.model, "rate_constant_per_h": fit.k_per_h,
             "rate_constant_lower": fit.k_lower, "rate_constant_upper": fit.k_upper,
             "time_to_50_h": fit.time_to_50_h, "time_to_90_h": fit.time_to_90_h,
             "reached_90": fit.reached_90, "time_to_90_model_h": fit.time_to_90_model_h,
