@@ -93,7 +93,7 @@ def recommend(data: TrialAnalysis) -> None:
                   f"(best at {sw.best:.3g} {sw.factor.unit})")
     else:
         grid = _corners(data.trial)
-        pred = data.fits[primary].predict(grid).predicted.to_numpy()
+        pred = data.fits[primary].predict(grid, clip=False).predicted.to_numpy()
         k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
         settings = grid.iloc[k].to_dict()
         settings = {kk: (float(v) if isinstance(v, (int, float, np.floating)) else str(v))
@@ -113,7 +113,8 @@ def recommend(data: TrialAnalysis) -> None:
                      "predicted": float(p1.predicted), "ci_low": float(p1.ci_low),
                      "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
                      "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),
-                     "pi3_high": float(p3.pi_high)})
+                     "pi3_high": float(p3.pi_high),
+                     "clipped": bool(p1.clipped or p3.clipped), "scale": fit.scale})
     data.recommendation = {"settings": settings, "source": source,
                            "predictions": pd.DataFrame(rows)}
     _recipe(data)

@@ -210,7 +210,8 @@ class SurfaceResult:
                 "eigenvalues": [float(v) for v in self.eigenvalues],
                 "stationary_point": self.stationary_point, "optimum": opt,
                 "bootstrap": None if self.bootstrap is None
-                else self.bootstrap.to_dict("records")}
+                else [{k: (finite(v) if isinstance(v, float) else v) for k, v in r.items()}
+                      for r in self.bootstrap.to_dict("records")]}
 
     def __repr__(self) -> str:
         o = self.optimum
@@ -315,7 +316,8 @@ def fit_surface(fit, *, aim: str = "higher", fixed: Mapping[str, str] | None = N
     result.optimum = {"settings": settings, "coded": x, "predicted": float(pred.predicted),
                       "se_fit": float(pred.se_fit), "ci_low": float(pred.ci_low),
                       "ci_high": float(pred.ci_high), "pi_low": float(pred.pi_low),
-                      "pi_high": float(pred.pi_high), "on_boundary": at_bound}
+                      "pi_high": float(pred.pi_high), "on_boundary": at_bound,
+                      "clipped": bool(pred.clipped)}
     if n_boot:
         result.bootstrap = bootstrap_optimum(fit, ops, region, sign, n_boot, seed)
     return result

@@ -57,7 +57,8 @@ class SweepResult:
     vertex : float or None
         Vertex of the quadratic (may be outside the range).
     fieller_low, fieller_high : float
-        Fieller interval of the vertex (inf when unbounded).
+        Fieller interval of the vertex, cut to the swept range (the whole range when
+        unbounded).
     fieller_bounded : bool
     boot_low, boot_high : float
         Bootstrap percentile interval of ``best`` (NaN when not computed).
@@ -70,6 +71,9 @@ class SweepResult:
         settings, predicted, pi_low, pi_high at ``best``.
     boot_method : str
         How ``boot_low``/``boot_high`` were computed (``"none"`` when not computed).
+    fieller_cut : list of str
+        Ends (``"low"``, ``"high"``) where Fieller's interval ran beyond the swept range
+        and was cut to it.
     """
 
     fit: object
@@ -88,6 +92,7 @@ class SweepResult:
     drop_at_high: float
     optimum: dict
     boot_method: str = "none"
+    fieller_cut: list = None
 
     def grid(self, n: int = 101) -> pd.DataFrame:
         """Prediction curve with confidence and prediction bands over the swept range."""
@@ -117,6 +122,14 @@ class SweepResult:
         row["fieller_bounded"] = bool(self.fieller_bounded)
         row["aim"] = self.aim
         row["boot_method"] = self.boot_method
+        row["fieller_cut_to_range"] = list(self.fieller_cut or [])
+        row["swept_range"] = list(self._range())
+        row["at_edge"] = bool(min(abs(self.best - e) for e in self._range())
+                              <= 1e-9 * max(1.0, abs(self.best)))
+        row["lean_level_interval"] = None
+        row["lean_level_interval_note"] = (
+            "the lean level has no interval: it is the lowest level whose prediction is "
+            "within the tolerance of the best, a rule applied to the fitted curve")
         return {"sweep": row, "optimum": {k: (finite(v) if isinstance(v, float) else v)
                                           for k, v in self.optimum.items()}}
 
@@ -149,7 +162,7 @@ def fieller_vertex(b1: float, b2: float, v11: float, v12: float, v22: float, t: 
 def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = "higher",
               tolerance: float | None = None, relative_tolerance: float = 0.05,
               alpha: float = 0.05, n_boot: int = 2000, seed: int = 0,
-              block: str | None = None) -> SweepResult:
+              block: str | None = None, limits: tuple = (None, None)) -> SweepResult:
     """Analyse a sweep of ``factor`` (see the module docstring).
 
     Parameters
@@ -157,6 +170,8 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     tolerance : float, optional
         Allowed shortfall from the best, in response units; default
         ``relative_tolerance * |best prediction|``.
+    limits : tuple
+        Physical range of the response (predictions and intervals are cut to it).
     """
     if aim not in ("higher", "lower"):
         raise AnalysisError(f"aim must be 'higher' or 'lower', got {aim!r}")
@@ -164,7 +179,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
         raise AnalysisError(f"a sweep needs a continuous factor; {factor.name!r} is "
                             f"{factor.kind}")
     fit = fit_model(table, response, [factor], f"{factor.name} + {factor.name}^2",
-                    block=block, alpha=alpha)
+                    block=block, alpha=alpha, limits=limits)
     levels = fit.natural[factor.name].astype(float)
     if levels.nunique() < 3:
         raise AnalysisError(f"a sweep needs at least three levels of {factor.name!r}; got "
@@ -178,18 +193,22 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     sign = 1.0 if aim == "higher" else -1.0
     lo, hi = float(levels.min()), float(levels.max())
     grid = np.linspace(lo, hi, 4001)
-    pred = fit.predict(pd.DataFrame({factor.name: grid})).predicted.to_numpy()
+    pred = fit.predict(pd.DataFrame({factor.name: grid}), clip=False).predicted.to_numpy()
     j = int(np.argmax(sign * pred))
     vertex = -b1 / (2 * b2) if b2 != 0 else None
     best = float(vertex) if vertex is not None and lo <= vertex <= hi and sign * b2 < 0 \
         else float(grid[j])
-    best_pred = fit.predict(pd.DataFrame({factor.name: [best]})).iloc[0]
+    best_pred = fit.predict(pd.DataFrame({factor.name: [best]}), clip=False).iloc[0]
     tol = float(tolerance) if tolerance is not None else \
         relative_tolerance * abs(float(best_pred.predicted))
     ok = sign * (pred - best_pred.predicted) >= -tol
     lean = float(grid[np.argmax(ok)])
     t = float(stats.t.ppf(1 - alpha / 2, fit.df_resid))
     flo, fhi, bounded = fieller_vertex(b1, b2, cov[i1, i1], cov[i1, i2], cov[i2, i2], t)
+    # the optimum lies in the swept range (a concentration is never negative): cut the
+    # interval to it and say which ends were cut
+    fieller_cut = [side for side, cut in (("low", flo < lo), ("high", fhi > hi)) if cut]
+    flo, fhi = max(flo, lo), min(fhi, hi)
     p_curv = float(coefs.loc[f"{factor.name}^2", "p"])
     drop = float(sign * (best_pred.predicted - pred[-1]))
     falls = bool(p_curv < alpha and vertex is not None and lo < vertex < hi and drop > tol)
@@ -198,12 +217,14 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     if n_boot:
         blo, bhi, boot_method = _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed,
                                                 alpha)
-    optimum = {"settings": {factor.name: best}, "predicted": float(best_pred.predicted),
-               "pi_low": float(best_pred.pi_low), "pi_high": float(best_pred.pi_high),
-               "ci_low": float(best_pred.ci_low), "ci_high": float(best_pred.ci_high)}
+    shown = fit.predict(pd.DataFrame({factor.name: [best]})).iloc[0]  # cut to the range
+    optimum = {"settings": {factor.name: best}, "predicted": float(shown.predicted),
+               "pi_low": float(shown.pi_low), "pi_high": float(shown.pi_high),
+               "ci_low": float(shown.ci_low), "ci_high": float(shown.ci_high),
+               "clipped": bool(shown.clipped)}
     return SweepResult(fit, factor, aim, best, None if vertex is None else float(vertex),
                        flo, fhi, bounded, blo, bhi, tol, lean, falls, drop, optimum,
-                       boot_method)
+                       boot_method, fieller_cut)
 
 
 def _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha):

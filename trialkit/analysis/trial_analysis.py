@@ -179,6 +179,15 @@ def config_of(trial):
     return sec if isinstance(sec, AnalysisConfig) else AnalysisConfig()
 
 
+def _limits(spec) -> tuple:
+    """Physical range of a trial response (from its measure, else its unit)."""
+    try:
+        from trialkit.responses.definitions import physical_range
+    except ImportError:  # pragma: no cover - the responses package ships it
+        return (None, None)
+    return physical_range(spec.measure or spec.name, getattr(spec, "unit", None))
+
+
 def _aim(spec) -> str:
     return spec.aim if spec.aim in ("higher", "lower") else "higher"
 
@@ -207,13 +216,14 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             data.note("analysis", f"{spec.name}: no bath has a value yet")
             continue
         model = cfg.response_models.get(spec.name) or cfg.model
+        limits = _limits(spec)
         try:
             res = analyze_table(data.baths, spec.name, trial.factors, model=model,
                                 anova_type=cfg.anova_type, alpha=cfg.alpha, sweep=sweep,
                                 aim=_aim(spec) if spec.is_wanted else "higher",
                                 reduce=cfg.reduce, threshold=cfg.threshold, n_boot=boot,
                                 seed=trial.seed, tolerance=cfg.tolerance,
-                                relative_tolerance=cfg.relative_tolerance)
+                                relative_tolerance=cfg.relative_tolerance, limits=limits)
         except TrialkitError as exc:
             data.note("analysis", f"{spec.name}: no model could be fitted ({first_line(exc)})")
             continue
