@@ -195,6 +195,7 @@ def check_confirmation(data: TrialAnalysis, confirmation) -> None:
             continue
         try:
             data.confirmations[name] = confirm(fit, settings, values.tolist(),
-                                               baths=[str(b) for b in values.index])
+                                               baths=[str(b) for b in values.index],
+                                               n_responses=len(data.fits))
         except TrialkitError as exc:
             data.note("confirm", f"{name}: confirmation not checked ({first_line(exc)})")

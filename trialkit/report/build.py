@@ -309,6 +309,7 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
         text += (f"Inside the prediction intervals: {', '.join(ok)}. " if ok else "")
         text += (f"Outside: {', '.join(bad)} — the model does not hold there; look again "
                  "before adopting the recipe." if bad else "The model holds there.")
+        text += f" Each response is {next(iter(data.confirmations.values())).rule}."
         blocks += [Block.para(text), Block.frame(pd.DataFrame(rows),
                    "Confirmation baths against the 95 % prediction interval of their mean")]
     return blocks + _notes(data, "confirm") + [Block.para(
