@@ -16,7 +16,12 @@ import pandas as pd
 from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report import figure_list as figs
 from trialkit.report.document import Block, Report, Section
-from trialkit.report.findings import effects_findings, model_findings, pretty_unit
+from trialkit.report.findings import (
+    caveat_findings,
+    effects_findings,
+    model_findings,
+    pretty_unit,
+)
 from trialkit.report.quality import readings_blocks
 from trialkit.report.reproduce import reproduce_blocks
 
@@ -123,6 +128,10 @@ def _findings(data: TrialAnalysis) -> list:
             out += model_findings(fit, unit=unit, detectable=data.detectable.get(name))
         elif name in data.effects:
             out += effects_findings(data.effects[name], unit=unit)
+        res = data.results.get(name)
+        out += caveat_findings(fit, unit=unit, reduced=getattr(res, "reduction", None)
+                               is not None, surface=data.surfaces.get(name),
+                               sweep=data.sweeps.get(name))
         sw = data.sweeps.get(name)
         if sw is not None:
             from trialkit.report.findings import Finding
