@@ -69,3 +69,48 @@ def test_sweep_whose_slow_baths_never_reach_90_uses_every_bath():
     assert hits / 100 >= 0.9
     assert abs(np.mean(slopes) - 0.25) < 0.01
     assert np.mean(dropped_slopes) < np.mean(slopes) - 0.008
+
+
+def test_trial_analysis_counts_and_fits_the_censored_baths():
+    # invented: the chelator-sweep plan with removal curves that slow down at high
+    # chelator, k = 0.2 exp(-0.45 (x - 1)) /h; above about 5 % w/v the baths do not get to
+    # 90 % by the last inspection (72 h).  The JSON says how many are censored, the
+    # log-normal time model uses every bath and covers the true slope of ln t90.
+    from pathlib import Path
+
+    from trialkit.analysis.trial_analysis import analyze
+    from trialkit.planning.plan import load_plan
+
+    folder = Path(__file__).resolve().parents[1] / "example_trials" / "chelator-sweep"
+    plan = load_plan(folder)
+    baths = plan.baths.copy()
+    baths["bath"] = baths["bath"].astype(str)
+    rng = np.random.default_rng(15)
+    rows, times = [], [4.0, 8, 16, 24, 48, 72]
+    for rec in baths.to_dict("records"):
+        if rec["point"] in ("control", "reference"):
+            continue
+        k_bath = 0.2 * np.exp(-0.45 * (rec["chelator"] - 1) + rng.normal(0, 0.08))
+        for j in range(2):
+            kc, c0 = k_bath * np.exp(rng.normal(0, 0.05)), rng.uniform(70, 95)
+            for t in times:
+                rows.append({"bath": rec["bath"], "coupon": f"{rec['bath']}-{j}",
+                             "elapsed_h": t, "coverage_pct": float(np.clip(
+                                 c0 * np.exp(-kc * t) + rng.normal(0, 0.5), 0, 100))})
+    tc = pd.DataFrame(rows)
+    from trialkit.responses.kinetics import fit_baths
+
+    table, fits, _ = fit_baths(tc)
+    t90 = table.set_index("bath")["time_to_90_h"]
+    for name in ("removal", "rust_removed", "attack"):
+        baths[name] = np.nan
+    baths["time_to_clean"] = baths["bath"].map(t90.to_dict())
+    data = analyze(folder, baths=baths, timecourse=tc)
+    cen = data.to_dict()["responses"]["time_to_clean"]["censoring"]
+    treated = int((~baths.point.isin(["control", "reference"])).sum())
+    assert cen["n_baths"] == treated and cen["n_censored"] >= 3
+    assert cen["n_censored"] == int(t90.isna().sum())
+    coef = {r["term"]: r for r in cen["censored_fit"]["coefficients"]}
+    # truth: ln t90 = ln(ln 10 / 0.2) + 0.45 (x - 1); coded slope = 0.45 x half-range 4
+    assert coef["chelator"]["ci_low"] <= 0.45 * 4 <= coef["chelator"]["ci_high"]
+    assert any("right-censored" in s for s in data.notes["analysis"])

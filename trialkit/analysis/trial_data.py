@@ -45,6 +45,7 @@ class TrialAnalysis:
     recommendation: dict | None = None
     recipe: object | None = None
     confirmations: dict = field(default_factory=dict)  # response -> ConfirmationResult
+    censoring: dict = field(default_factory=dict)  # time response -> censoring (plain)
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -71,7 +72,9 @@ class TrialAnalysis:
         return {
             "trial": getattr(self.trial, "title", ""),
             "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
-            "responses": {name: res.to_dict() for name, res in self.results.items()},
+            "responses": {name: {**res.to_dict(), **({"censoring": self.censoring[name]}
+                                                      if name in self.censoring else {})}
+                          for name, res in self.results.items()},
             "recommendation": self.recommendation_dict(),
             "confirmation": {k: v.to_dict() for k, v in self.confirmations.items()},
             "notes": {k: list(v) for k, v in self.notes.items()},
