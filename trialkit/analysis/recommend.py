@@ -102,9 +102,11 @@ def recommend(data: TrialAnalysis) -> None:
                   "model (a screening model: confirm before relying on it)")
         quiet = _undetected_factors(data.fits[primary], settings)
         if quiet:
-            source += ("; " + ", ".join(quiet) + " had no detectable effect on "
-                       f"{primary}, so either setting will do there (the one shown is the "
-                       "fitted best, within noise)")
+            source += "; " + _equivalence_text(data, primary, settings, quiet)
+    pr = data.fits[primary].pred_r_squared
+    if np.isfinite(pr) and pr < WEAK_PRED_R2:
+        source += (f"; the model for {primary} is weak (predicted R² = {pr:.2f}, below "
+                   f"{WEAK_PRED_R2:g}): it should not decide on its own; confirm first")
     rows = []
     for name, fit in data.fits.items():
         p1 = fit.predict(settings, n_new=1).iloc[0]
@@ -118,6 +120,48 @@ def recommend(data: TrialAnalysis) -> None:
     data.recommendation = {"settings": settings, "source": source,
                            "predictions": pd.DataFrame(rows)}
     _recipe(data)
+
+
+WEAK_PRED_R2 = 0.5
+
+
+def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
+                      quiet: list[str]) -> str:
+    """"Either setting will do" only where the change's interval lies inside the practical
+    margin (the [analysis] tolerance, else relative_tolerance x |prediction|)."""
+    from scipy import stats
+
+    from trialkit.analysis.config import AnalysisConfig
+
+    fit = data.fits[primary]
+    cfg = (data.trial.sections or {}).get("analysis")
+    cfg = cfg if isinstance(cfg, AnalysisConfig) else AnalysisConfig()
+    pred = float(fit.predict(settings, clip=False).predicted.iloc[0])
+    margin = float(cfg.tolerance) if cfg.tolerance is not None else \
+        cfg.relative_tolerance * abs(pred)
+    t = float(stats.t.ppf(1 - fit.alpha / 2, fit.df_resid)) if fit.df_resid > 0 else np.nan
+    same, open_ = [], []
+    factors = {f.name: f for f in data.trial.factors}
+    for name in quiet:
+        f = factors[name]
+        ends = [f.low, f.high] if f.is_continuous else list(f.levels[:2])
+        rows = pd.DataFrame([{**settings, name: v} for v in ends])
+        X = fit.design_rows(rows)
+        d = X[1] - X[0]
+        diff = float(d @ fit.ls.beta)
+        half = t * float(np.sqrt(d @ fit.ls.xtx_inv @ d * fit.sigma2))
+        lo, hi = diff - half, diff + half
+        (same if np.isfinite(half) and -margin <= lo and hi <= margin else open_).append(
+            f"{name} ({lo:.3g} to {hi:.3g})")
+    parts = []
+    if same:
+        parts.append(", ".join(same) + f": the change over the range lies within the "
+                     f"practical margin of ±{margin:.3g}, so either setting will do there")
+    if open_:
+        parts.append(", ".join(open_) + f": no detectable effect, but the interval of the "
+                     f"change reaches beyond the practical margin of ±{margin:.3g}, so the "
+                     "trial cannot say that either setting will do")
+    return "; ".join(parts)
 
 
 def _undetected_factors(fit, settings: dict) -> list[str]:
