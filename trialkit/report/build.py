@@ -131,7 +131,8 @@ def _findings(data: TrialAnalysis) -> list:
         res = data.results.get(name)
         out += caveat_findings(fit, unit=unit, reduced=getattr(res, "reduction", None)
                                is not None, surface=data.surfaces.get(name),
-                               sweep=data.sweeps.get(name))
+                               sweep=data.sweeps.get(name),
+                               diagnostics=getattr(res, "diagnostics", None))
         sw = data.sweeps.get(name)
         if sw is not None:
             from trialkit.report.findings import Finding

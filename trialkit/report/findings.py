@@ -287,7 +287,7 @@ def _range_text(lo, hi) -> str:
 
 
 def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
-                    sweep=None, weak_below: float = 0.5) -> list[Finding]:
+                    sweep=None, diagnostics=None, weak_below: float = 0.5) -> list[Finding]:
     """What a reader must know before acting on a model's numbers (issue 15).
 
     Sentences on the scale and physical range of the response, a weak model (predicted
@@ -303,6 +303,13 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
             f"{pretty_unit(unit)}".rstrip() + ": the model is fitted on the raw scale and "
             "its predictions and intervals are cut to that range (flagged where cut).",
             resp, "scale", "model", {"physical_range": list(fit.limits)}))
+    box = getattr(diagnostics, "box_cox", None)
+    if box and not box.get("raw_scale_supported", True):
+        out.append(Finding(
+            f"The Box–Cox check does not support the raw scale for {resp} (power "
+            f"{box['lambda_hat']:.2g}, interval {box['ci_low']:.2g} to {box['ci_high']:.2g}"
+            f"); a {box['transform']} scale would fit better.", resp, "scale", "model",
+            {"box_cox": dict(box)}))
     pr = fit.pred_r_squared
     if math.isfinite(pr) and pr < weak_below:
         out.append(Finding(
