@@ -98,7 +98,7 @@ def test_trial_analysis_counts_and_fits_the_censored_baths():
                              "elapsed_h": t, "coverage_pct": float(np.clip(
                                  c0 * np.exp(-kc * t) + rng.normal(0, 0.5), 0, 100))})
     tc = pd.DataFrame(rows)
-    from trialkit.responses.kinetics import fit_baths
+    from trialkit.responses.bath_kinetics import fit_baths
 
     table, fits, _ = fit_baths(tc)
     t90 = table.set_index("bath")["time_to_90_h"]

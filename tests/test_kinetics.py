@@ -11,9 +11,9 @@ import pytest
 from scipy.optimize import curve_fit
 
 from trialkit.exceptions import ResponseError
+from trialkit.responses.bath_kinetics import fit_baths
 from trialkit.responses.kinetics import (
     first_order,
-    fit_baths,
     fit_removal,
     lag_plateau,
     time_ratio,

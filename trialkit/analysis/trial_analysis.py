@@ -157,7 +157,7 @@ def _timecourse(data: TrialAnalysis, timecourse: pd.DataFrame | None) -> None:
         timecourse = timecourse.dropna(subset=["elapsed_h", "coverage_pct"])
         if not fits:
             try:
-                from trialkit.responses.kinetics import fit_baths
+                from trialkit.responses.bath_kinetics import fit_baths
 
                 _, fits, failed = fit_baths(timecourse)
                 for bath, msg in failed:
