@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 from pathlib import Path
 
 import numpy as np
@@ -228,3 +229,39 @@ def test_profile_averages_hidden_categorical_factors():
     assert np.allclose(np.diff(line.predicted, 2), 0)  # straight line in temperature
     with pytest.raises(AnalysisError, match="not a factor"):
         fit.profile("colour")
+
+
+def _unreplicated_with_one_centre(seed, bump, model):
+    """Invented 2^3 factorial plus one centre point, no replicates (no pure error)."""
+    import itertools
+
+    from trialkit.analysis.model import fit_model
+    from trialkit.trial.factors import Factor
+
+    pts = [*itertools.product([-1.0, 1.0], repeat=3), (0.0, 0.0, 0.0)]
+    df = pd.DataFrame(pts, columns=["a", "b", "c"])
+    rng = np.random.default_rng(seed)
+    df["y"] = (10 + 2 * df.a - df.b + 0.5 * df.c + bump * (df.a == 0)
+               + rng.normal(0, 1.0, len(df)))
+    fs = [Factor.continuous(n, -1, 1) for n in "abc"]
+    return fit_model(df, "y", fs, model, block=None)
+
+
+def test_curvature_without_pure_error_keeps_its_level_and_power():
+    # issue 15: with no pure error the old test divided by a residual that held the
+    # curvature itself and could never reject.  400 fresh seeded trials each (invented):
+    # rejection <= 0.06 with no curvature, >= 0.8 with a bump of 6 SD at the centre.
+    null = [_unreplicated_with_one_centre(10_000 + s, 0.0, "main").anova(2).curvature
+            for s in range(400)]
+    bump = [_unreplicated_with_one_centre(20_000 + s, 6.0, "main").anova(2).curvature
+            for s in range(400)]
+    assert all(c["error"] == "residual_with_centre_indicator" and c["error_df"] == 4
+               for c in null)
+    assert np.mean([c["p"] < 0.05 for c in null]) <= 0.06
+    assert np.mean([c["p"] < 0.05 for c in bump]) >= 0.8
+
+
+def test_curvature_not_testable_when_no_residual_is_left():
+    cur = _unreplicated_with_one_centre(1, 5.0, "a + b + c + a:b + a:c + b:c + a:b:c"
+                                        ).anova(2).curvature
+    assert cur is None or (cur["testable"] is False and math.isnan(cur["p"]))

@@ -11,9 +11,9 @@ import pytest
 from scipy.optimize import curve_fit
 
 from trialkit.exceptions import ResponseError
+from trialkit.responses.bath_kinetics import fit_baths
 from trialkit.responses.kinetics import (
     first_order,
-    fit_baths,
     fit_removal,
     lag_plateau,
     time_ratio,
@@ -138,3 +138,45 @@ def test_fit_baths_pools_coupons_and_reports_failures():
 def test_bad_timecourse_input(t, y, words):
     with pytest.raises(ResponseError, match=words):
         fit_removal(t, y)
+
+
+def _coupon_trial(seed, times, k_base, coupons=2, baths=8):
+    """Invented trial (self-consistency): each bath its own rate, each coupon its own
+    start and a rate scattered 8 % about the bath's, readings as the demo draws them."""
+    rng = np.random.default_rng(seed)
+    rows, truth = [], {}
+    for b in range(baths):
+        kb = k_base * math.exp(rng.normal(0, 0.3))
+        truth[f"B{b}"] = kb
+        for j in range(coupons):
+            kc, c0 = kb * math.exp(0.08 * rng.normal()), rng.uniform(70, 95)
+            for ti in times:
+                c = c0 * math.exp(-kc * ti)
+                c += 2.0 * math.sqrt(c * (100 - c)) / 50 * rng.normal()
+                rows.append({"bath": f"B{b}", "coupon": f"B{b}-{j}", "elapsed_h": ti,
+                             "coverage_pct": round(min(100.0, max(0.0, c)))})
+    return pd.DataFrame(rows), truth
+
+
+@pytest.mark.parametrize("times, k_base, reps", [
+    ((4.0, 8, 16, 24, 48, 72), 0.08, 100),   # the sweep example's inspections
+    ((1.0, 2, 4, 8), 0.35, 150),             # the surface example's inspections
+])
+def test_coupons_as_replicates_give_intervals_that_cover(times, k_base, reps):
+    # invented data, fresh seeds: bath rate constants and time ratios (50 % removal,
+    # against bath B0) must cover their truth 0.93-0.97 (issue 15; one-curve intervals
+    # with a normal quantile covered 0.84-0.91 here)
+    hk = nk = hr = nr = 0
+    for seed in range(reps):
+        table, truth = _coupon_trial(40_000 + seed, times, k_base)
+        _, fits, _ = fit_baths(table, model="first_order")
+        for bath, f in fits.items():
+            nk += 1
+            hk += f.k_lower <= truth[bath] <= f.k_upper
+            assert f.coupons == 2 and f.df == 8 and f.k_lower > 0
+        for bath in ("B1", "B2", "B3"):
+            r = time_ratio(fits[bath], fits["B0"], level_pct=50)
+            nr += 1
+            hr += r.lower <= truth["B0"] / truth[bath] <= r.upper
+    assert 0.93 <= hk / nk <= 0.97
+    assert 0.93 <= hr / nr <= 0.97

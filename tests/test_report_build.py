@@ -94,7 +94,8 @@ def test_confirmation_baths_checked_against_prediction_intervals():
     c = conf["removal"]
     # the same check straight from the analysis package
     obs = [b["observed"] for b in c["baths"]]
-    ref = confirm(data.fits["removal"], c["settings"], obs)
+    ref = confirm(data.fits["removal"], c["settings"], obs, n_responses=c["n_responses"])
+    assert c["n_responses"] == len(data.fits)  # Bonferroni over the responses (issue 15)
     assert c["mean"]["pi_low"] == pytest.approx(ref.mean["pi_low"])
     assert c["all_inside"] == ref.all_inside
     text = " ".join(b.text for b in report.section("confirm").blocks if b.kind == "text")

@@ -135,3 +135,104 @@ def test_interval_and_decimals():
     assert fd.interval(-17.3, -14.1, 1) == "−17.3 to −14.1"
     assert fd.fmt(-0.0001, 2) == "0.00"
     assert fd.pretty_unit("g/m**2") == "g/m²"
+
+
+# -- issue 15: claims only where the data reach ------------------------------------------
+def _line_fit(high_seen, factor_high=20.0, limits=(None, None)):
+    """Invented: time to clean rises 3 h per % w/v of chelator, baths from 2 to high_seen."""
+    import numpy as np
+    import pandas as pd
+
+    from trialkit.trial.factors import Factor
+
+    x = np.repeat(np.linspace(2.0, high_seen, 4), 3)
+    rng = np.random.default_rng(5)
+    df = pd.DataFrame({"chelator": x, "t": 10 + 3 * x + rng.normal(0, 1, x.size)})
+    f = Factor.continuous("chelator", 2.0, factor_high, unit="% w/v")
+    return fit_model(df, "t", [f], "main", block=None, limits=limits)
+
+
+def test_effect_is_quoted_over_the_fitted_range_only():
+    # fitted on 2-8 % of a declared 2-20 % range: the sentence says 2 to 8 and the change
+    # over that range (about 3 h x 6 = 18 h), never 2 to 20 (which would be 54 h)
+    sent = fd.model_findings(_line_fit(8.0), unit="h")[0]
+    assert "from 2 to 8 % w/v" in sent.text and "to 20 %" not in sent.text
+    assert sent.numbers["fitted_range"] == [2.0, 8.0]
+    assert 15 < sent.numbers["effect"] < 21
+    full = fd.model_findings(_line_fit(20.0), unit="h")[0]
+    assert "from 2 to 20 % w/v" in full.text and 50 < full.numbers["effect"] < 58
+
+
+def test_caveats_scale_holm_reduction_and_weak_model():
+    fit = _line_fit(8.0, limits=(0.0, None))
+    cav = fd.caveat_findings(fit, unit="h", reduced=True)
+    text = " ".join(c.text for c in cav)
+    assert "can only lie at or above 0 h" in text and "raw scale" in text
+    assert "from the reduced model" in text and "optimistic" in text
+    assert not any(c.numbers.get("weak") for c in cav)  # a strong model is not flagged
+    two = fit_model(rt_two_terms(), "y", rt_two_factors(), "main", block=None)
+    holm = next(c for c in fd.caveat_findings(two) if c.kind == "multiplicity")
+    p = fd._anova_p(two)
+    assert holm.numbers["n_tested"] == 2
+    # Holm (1979): the smaller p times 2, the larger max(previous, itself)
+    small, large = sorted(p[k] for k in ("a", "b"))
+    assert sorted(holm.numbers["p_holm"].values()) == pytest.approx(
+        [min(1, 2 * small), min(1, max(2 * small, large))])
+    weak = fit_model(rt_two_terms(noise_only=True), "y", rt_two_factors(), "main",
+                     block=None)
+    assert any(c.numbers.get("weak") for c in fd.caveat_findings(weak))
+
+
+def rt_two_factors():
+    from trialkit.trial.factors import Factor
+
+    return [Factor.continuous("a", -1, 1), Factor.continuous("b", -1, 1)]
+
+
+def rt_two_terms(noise_only=False):
+    import itertools
+
+    import numpy as np
+    import pandas as pd
+
+    pts = list(itertools.product([-1.0, 1.0], [-1.0, 1.0])) * 3
+    df = pd.DataFrame(pts, columns=["a", "b"])
+    rng = np.random.default_rng(9)
+    df["y"] = (0 if noise_only else 3 * df.a + 0.4 * df.b) + rng.normal(0, 1, len(df))
+    return df
+
+
+def test_edge_optimum_says_so():
+    import numpy as np
+    import pandas as pd
+
+    from trialkit.analysis.sweep import fit_sweep
+    from trialkit.trial.factors import Factor
+
+    x = np.repeat([1.0, 3, 5, 7, 9], 3)
+    rng = np.random.default_rng(2)
+    y = 50 + 4 * x - 0.05 * x ** 2 + rng.normal(0, 1, x.size)  # still rising at 9
+    sw = fit_sweep(pd.DataFrame({"chelator": x, "r": y}), "r",
+                   Factor.continuous("chelator", 1, 9), n_boot=0)
+    cav = fd.caveat_findings(sw.fit, sweep=sw)
+    edge = next(c for c in cav if c.kind == "edge")
+    assert "at the edge" in edge.text and "extend the range" in edge.text
+
+
+def test_lenth_p_values_are_labelled_approximate():
+    import itertools
+
+    import numpy as np
+    import pandas as pd
+
+    from trialkit.analysis.effects import two_level_effects
+    from trialkit.trial.factors import Factor
+
+    pts = list(itertools.product([-1.0, 1.0], repeat=3))
+    df = pd.DataFrame(pts, columns=["a", "b", "c"])
+    df["y"] = 10 + 5 * df.a + np.random.default_rng(1).normal(0, 0.3, len(df))
+    eff = two_level_effects(df, "y", [Factor.continuous(n, -1, 1) for n in "abc"])
+    sentences = fd.effects_findings(eff)
+    loud = [s for s in sentences if s.kind == "screening"]
+    assert loud and all("approximate p" in s.text and "simultaneous margin" in s.text
+                        for s in loud)

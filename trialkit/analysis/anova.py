@@ -188,7 +188,12 @@ def curvature(fit) -> dict | None:
 
     Only for models without squares of continuous factors, with at least one centre
     point (every continuous factor at coded 0) and factorial points (all at +-1).
-    The error term is the pure error when there is one, else the residual.
+    The error term is the pure error when there is one.  Without pure error the residual
+    holds the curvature itself (so ``F`` could never pass the residual df); then a
+    centre-point indicator is added to the model and tested against the residual of that
+    larger model (``error`` = ``"residual_with_centre_indicator"``, one df fewer).  With
+    no residual left after that, the curvature is reported as not testable
+    (``testable`` False, ``F`` and ``p`` NaN) — never a test that cannot reject.
     """
     cont = [f.name for f in fit.spec.used_factors if f.is_continuous]
     if not cont or any(t.power == 2 for t in fit.spec.terms):
@@ -202,14 +207,24 @@ def curvature(fit) -> dict | None:
     yc, yf = fit.y[center].mean(), fit.y[factorial].mean()
     ss = nf * nc * (yf - yc) ** 2 / (nf + nc)
     lof = lack_of_fit(fit)
+    shift = float(fit.shift)
+    out = {"n_factorial": nf, "n_center": nc, "mean_factorial": yf + shift,
+           "mean_center": yc + shift, "sum_sq": ss, "df": 1, "testable": True}
     if lof is not None and lof["pure_error_sum_sq"] > 0:
         ms, df, source = lof["pure_error_mean_sq"], lof["pure_error_df"], "pure_error"
-    elif fit.df_resid > 0:
-        ms, df, source = fit.sigma2, fit.df_resid, "residual"
     else:
-        return None
+        X1 = np.column_stack([fit.mm.X, center.astype(float)])
+        df = fit.df_resid - 1
+        rss1 = rss_of(X1, fit.y) if df > 0 else 0.0
+        if df <= 0 or rss1 <= 0:
+            out.update(error_df=max(int(df), 0), error="none", F=float("nan"),
+                       p=float("nan"), testable=False,
+                       reason="no pure error and no residual left once a centre-point "
+                              "term is in the model: curvature cannot be tested")
+            return out
+        ss = max(fit.ls.rss - rss1, 0.0)
+        ms, source = rss1 / df, "residual_with_centre_indicator"
+        out["sum_sq"] = ss
     F = ss / ms
-    shift = float(fit.shift)
-    return {"n_factorial": nf, "n_center": nc, "mean_factorial": yf + shift,
-            "mean_center": yc + shift, "sum_sq": ss, "df": 1, "error_df": int(df),
-            "error": source, "F": F, "p": float(stats.f.sf(F, 1, df))}
+    out.update(error_df=int(df), error=source, F=F, p=float(stats.f.sf(F, 1, df)))
+    return out

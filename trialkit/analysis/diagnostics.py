@@ -147,5 +147,6 @@ def diagnose(fit, *, alpha: float = 0.05) -> Diagnostics:
         grows = np.isfinite(spread["p"]) and spread["rho"] > 0 and spread["p"] < alpha
         box = {"lambda_hat": lam, "ci_low": lo, "ci_high": hi, "suggested": suggested,
                "transform": NAMES[suggested],
-               "recommended": bool(grows and not lo <= 1.0 <= hi)}
+               "recommended": bool(grows and not lo <= 1.0 <= hi),
+               "raw_scale_supported": bool(lo <= 1.0 <= hi)}
     return Diagnostics(table, normality, spread, box, drift)

@@ -63,6 +63,9 @@ class ModelFit:
         For confidence and prediction intervals.
     n_dropped : int
         Rows left out (missing factor values or response, e.g. controls).
+    limits : tuple
+        Physical range ``(low, high)`` of the response (None: no bound on that side);
+        :meth:`predict` cuts predictions and intervals to it and flags the rows it cut.
     """
 
     spec: ModelSpec
@@ -75,7 +78,17 @@ class ModelFit:
     shift: Decimal
     alpha: float = 0.05
     n_dropped: int = 0
+    limits: tuple = (None, None)
     _cache: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def scale(self) -> str:
+        """How the model respects the response's physical range (a sentence)."""
+        lo, hi = self.limits
+        if lo is None and hi is None:
+            return "raw scale (no physical range known)"
+        return (f"raw scale; predictions and intervals cut to the physical range "
+                f"{range_text(self.limits)} and flagged where cut")
 
     # -- basic quantities ---------------------------------------------------------
     @property
@@ -191,8 +204,8 @@ class ModelFit:
             X[:, self.mm.term_columns[BLOCK]] = 0.0  # average over blocks (sum coding)
         return X
 
-    def predict(self, settings: pd.DataFrame | Mapping[str, object], *, n_new: int = 1
-                ) -> pd.DataFrame:
+    def predict(self, settings: pd.DataFrame | Mapping[str, object], *, n_new: int = 1,
+                clip: bool = True) -> pd.DataFrame:
         """Predicted mean with confidence and prediction intervals.
 
         Parameters
@@ -201,11 +214,15 @@ class ModelFit:
             Factor values in natural units (labels for categorical factors).
         n_new : int
             The prediction interval covers the mean of this many new baths.
+        clip : bool
+            Cut predictions and intervals to the physical range (``limits``); False gives
+            the raw linear predictions (for searching an optimum).
 
         Returns
         -------
         DataFrame
-            predicted, se_fit, ci_low, ci_high, pi_low, pi_high.
+            predicted, se_fit, ci_low, ci_high, pi_low, pi_high, and ``clipped`` (True
+            where a value was cut to the physical range).
         """
         X = self.design_rows(settings)
         pred = X @ self.ls.beta + float(self.shift)
@@ -213,9 +230,19 @@ class ModelFit:
         se = np.sqrt(var_fit)
         t = self._t()
         se_pi = np.sqrt(var_fit + self.sigma2 / n_new)
-        return pd.DataFrame({"predicted": pred, "se_fit": se, "ci_low": pred - t * se,
-                             "ci_high": pred + t * se, "pi_low": pred - t * se_pi,
-                             "pi_high": pred + t * se_pi})
+        out = pd.DataFrame({"predicted": pred, "se_fit": se, "ci_low": pred - t * se,
+                            "ci_high": pred + t * se, "pi_low": pred - t * se_pi,
+                            "pi_high": pred + t * se_pi})
+        lo, hi = self.limits
+        if clip and (lo is not None or hi is not None):
+            cols = ["predicted", "ci_low", "ci_high", "pi_low", "pi_high"]
+            raw = out[cols].to_numpy()
+            cut = np.clip(raw, -np.inf if lo is None else lo, np.inf if hi is None else hi)
+            out[cols] = cut
+            out["clipped"] = np.any(cut != raw, axis=1)
+        else:
+            out["clipped"] = False
+        return out
 
     def profile(self, factor: str, *, by: str | None = None, n: int = 21) -> pd.DataFrame:
         """Predictions along one factor (and per level of ``by``), others at their centre.
@@ -289,7 +316,8 @@ class ModelFit:
                      "ci_high": finite(r.ci_high)} for r in df.itertuples()]
 
         out = {"response": self.response, "model": self.spec.to_text(), "n": self.n,
-               "n_dropped": self.n_dropped, "alpha": self.alpha}
+               "n_dropped": self.n_dropped, "alpha": self.alpha,
+               "physical_range": list(self.limits), "scale": self.scale}
         out.update(table.to_dict())
         out.update({"r_squared": finite(self.r_squared),
                     "adj_r_squared": finite(self.adj_r_squared),
@@ -330,6 +358,16 @@ class ModelFit:
                 + self.coded_coefficients.to_html(index=False))
 
 
+def range_text(limits: tuple) -> str:
+    """``"0 to 100"``, ``"at least 0"``, ``"at most 10"`` or ``"unbounded"``."""
+    lo, hi = limits
+    if lo is not None and hi is not None:
+        return f"{lo:g} to {hi:g}"
+    if lo is not None:
+        return f"at least {lo:g}"
+    return f"at most {hi:g}" if hi is not None else "unbounded"
+
+
 def with_block(spec: ModelSpec, natural: pd.DataFrame, block: str | None
                ) -> tuple[ModelSpec, pd.DataFrame]:
     """Add blocks as a fixed effect (first term) when the block column varies."""
@@ -349,7 +387,8 @@ def with_block(spec: ModelSpec, natural: pd.DataFrame, block: str | None
 
 def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
               model: str | ModelSpec = "main", *, block: str | None = BLOCK,
-              alpha: float = 0.05, coding: str = "sum") -> ModelFit:
+              alpha: float = 0.05, coding: str = "sum",
+              limits: tuple = (None, None)) -> ModelFit:
     """Fit ``response`` to a model over ``factors`` on a bath-level table.
 
     Parameters
@@ -368,6 +407,8 @@ def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
         1 - confidence level of every interval.
     coding : {"sum", "treatment"}
         Contrasts of categorical factors (type 3 tables require "sum").
+    limits : tuple
+        Physical range of the response, ``(low, high)``, None for no bound.
 
     Returns
     -------
@@ -389,4 +430,5 @@ def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
             f"{response!r}; use a smaller model (e.g. 'main') or run more baths")
     y, shift = shift_decimal(natural[column].tolist(), name=column)
     ls = least_squares(mm.X, y, mm.columns)
-    return ModelFit(spec, response, natural, coded, mm, ls, y, shift, alpha, prep.n_dropped)
+    return ModelFit(spec, response, natural, coded, mm, ls, y, shift, alpha, prep.n_dropped,
+                    tuple(limits))

@@ -89,6 +89,7 @@ class AnalysisResult:
         lines = [f"Response {f.response!r}: model {f.spec.to_text()} ({f.n} baths"
                  + (f", {f.n_dropped} rows without values left out" if f.n_dropped else "")
                  + ")",
+                 f"scale: {f.scale}",
                  f"ANOVA (type {self.anova_type}" + (", Lenth's method: saturated model"
                                                      if a.test == "lenth" else "") + ")"]
         tab = a.summary.copy()
@@ -214,8 +215,13 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
                   block: str | None = "block", sweep: str | None = None,
                   aim: str = "higher", reduce: str = "none", threshold: float = 0.05,
                   n_boot: int = 2000, seed: int = 0, tolerance: float | None = None,
-                  relative_tolerance: float = 0.05) -> AnalysisResult:
-    """Analyse one response of a bath-level table (see the module docstring)."""
+                  relative_tolerance: float = 0.05,
+                  limits: tuple = (None, None)) -> AnalysisResult:
+    """Analyse one response of a bath-level table (see the module docstring).
+
+    ``limits`` is the response's physical range: predictions and intervals are cut to it
+    and flagged (:meth:`trialkit.analysis.model.ModelFit.predict`).
+    """
     if anova_type not in (1, 2, 3):
         raise AnalysisError(f"ANOVA type must be 1, 2 or 3, got {anova_type!r}")
     factors = tuple(factors)
@@ -229,10 +235,10 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
                                 f"{[f.name for f in factors]}")
         sw = fit_sweep(table, response, fac, aim=aim, tolerance=tolerance,
                        relative_tolerance=relative_tolerance, alpha=alpha, n_boot=n_boot,
-                       seed=seed, block=block)
+                       seed=seed, block=block, limits=limits)
         return AnalysisResult(sw.fit, anova_type, sweep=sw, diagnostics=diagnose(sw.fit))
     text = model or default_model(table, response, factors)
-    fit = fit_model(table, response, factors, text, block=block, alpha=alpha)
+    fit = fit_model(table, response, factors, text, block=block, alpha=alpha, limits=limits)
     red = None
     if reduce != "none":
         red = reduce_model(fit, criterion=reduce, threshold=threshold)

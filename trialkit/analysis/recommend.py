@@ -119,7 +119,7 @@ def _breaks(data: TrialAnalysis, names: list[str], grid: pd.DataFrame) -> np.nda
     worst = np.zeros(len(grid))
     for name in names:
         spec = data.specs[name]
-        pred = data.fits[name].predict(grid).predicted.to_numpy()
+        pred = data.fits[name].predict(grid, clip=False).predicted.to_numpy()
         short = np.array([limit_shortfall(spec, v) for v in pred])
         worst = np.maximum(worst, short)
     return worst
@@ -143,7 +143,7 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
             f"predicted {primary} is within {sw.tolerance:.3g} {spec.unit} of the best "
             f"(best at {sw.best:.3g} {sw.factor.unit})")
     grid = _candidates(data.trial, 3)
-    pred = data.fits[primary].predict(grid).predicted.to_numpy()
+    pred = data.fits[primary].predict(grid, clip=False).predicted.to_numpy()
     k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
     settings = _plain_settings(grid.iloc[k])
     what = ("best of the low, middle and high settings" if any(
@@ -154,9 +154,7 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
               else f"{what} for {primary} by the fitted model")
     quiet = _undetected_factors(data.fits[primary], settings)
     if quiet:
-        source += ("; " + ", ".join(quiet) + " had no detectable effect on "
-                   f"{primary}, so either setting will do there (the one shown is the "
-                   "fitted best, within noise)")
+        source += "; " + _equivalence_text(data, primary, settings, quiet)
     return settings, source
 
 
@@ -164,7 +162,8 @@ def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
                  limited: list[str], reasons: list[str]) -> tuple[dict, str]:
     """Move ``settings`` to the best candidate that keeps every stated limit, saying why."""
     here = pd.DataFrame([settings])
-    values = {n: float(data.fits[n].predict(here).predicted.iloc[0]) for n in limited}
+    values = {n: float(data.fits[n].predict(here, clip=False).predicted.iloc[0])
+              for n in limited}
     broken = [(n, limit_shortfall(data.specs[n], values[n])) for n in limited]
     broken = [(n, s) for n, s in broken if s > 0]
     if not broken:
@@ -181,7 +180,7 @@ def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
                        "that limit; widen the region or revisit the limit.")
         return settings, source
     spec = data.specs[primary]
-    pred = data.fits[primary].predict(grid[ok]).predicted.to_numpy()
+    pred = data.fits[primary].predict(grid[ok], clip=False).predicted.to_numpy()
     k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
     new = _plain_settings(grid[ok].iloc[k])
     reasons.append(f"Passed over {_settings_text(settings)} ({source.split(' (')[0]}): "
@@ -246,6 +245,10 @@ def recommend(data: TrialAnalysis) -> None:
     settings, source = _primary_choice(data, primary)
     limited = _limited(data)
     settings, source = _keep_limits(data, primary, settings, source, limited, reasons)
+    pr = data.fits[primary].pred_r_squared
+    if np.isfinite(pr) and pr < WEAK_PRED_R2:
+        source += (f"; the model for {primary} is weak (predicted R² = {pr:.2f}, below "
+                   f"{WEAK_PRED_R2:g}): it should not decide on its own; confirm first")
     rows = []
     for name, fit in data.fits.items():
         p1 = fit.predict(settings, n_new=1).iloc[0]
@@ -254,7 +257,8 @@ def recommend(data: TrialAnalysis) -> None:
                      "predicted": float(p1.predicted), "ci_low": float(p1.ci_low),
                      "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
                      "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),
-                     "pi3_high": float(p3.pi_high)})
+                     "pi3_high": float(p3.pi_high),
+                     "clipped": bool(p1.clipped or p3.clipped), "scale": fit.scale})
     met = all(limit_shortfall(data.specs[r["response"]], r["predicted"]) == 0
               for r in rows if r["response"] in limited)
     _flag_unlimited(data, rows, reasons)
@@ -262,6 +266,48 @@ def recommend(data: TrialAnalysis) -> None:
                            "predictions": pd.DataFrame(rows), "limits_met": met,
                            "reasons": reasons, "primary": primary}
     _recipe(data)
+
+
+WEAK_PRED_R2 = 0.5
+
+
+def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
+                      quiet: list[str]) -> str:
+    """"Either setting will do" only where the change's interval lies inside the practical
+    margin (the [analysis] tolerance, else relative_tolerance x |prediction|)."""
+    from scipy import stats
+
+    from trialkit.analysis.config import AnalysisConfig
+
+    fit = data.fits[primary]
+    cfg = (data.trial.sections or {}).get("analysis")
+    cfg = cfg if isinstance(cfg, AnalysisConfig) else AnalysisConfig()
+    pred = float(fit.predict(settings, clip=False).predicted.iloc[0])
+    margin = float(cfg.tolerance) if cfg.tolerance is not None else \
+        cfg.relative_tolerance * abs(pred)
+    t = float(stats.t.ppf(1 - fit.alpha / 2, fit.df_resid)) if fit.df_resid > 0 else np.nan
+    same, open_ = [], []
+    factors = {f.name: f for f in data.trial.factors}
+    for name in quiet:
+        f = factors[name]
+        ends = [f.low, f.high] if f.is_continuous else list(f.levels[:2])
+        rows = pd.DataFrame([{**settings, name: v} for v in ends])
+        X = fit.design_rows(rows)
+        d = X[1] - X[0]
+        diff = float(d @ fit.ls.beta)
+        half = t * float(np.sqrt(d @ fit.ls.xtx_inv @ d * fit.sigma2))
+        lo, hi = diff - half, diff + half
+        (same if np.isfinite(half) and -margin <= lo and hi <= margin else open_).append(
+            f"{name} ({lo:.3g} to {hi:.3g})")
+    parts = []
+    if same:
+        parts.append(", ".join(same) + f": the change over the range lies within the "
+                     f"practical margin of ±{margin:.3g}, so either setting will do there")
+    if open_:
+        parts.append(", ".join(open_) + f": no detectable effect, but the interval of the "
+                     f"change reaches beyond the practical margin of ±{margin:.3g}, so the "
+                     "trial cannot say that either setting will do")
+    return "; ".join(parts)
 
 
 def _undetected_factors(fit, settings: dict) -> list[str]:
@@ -339,6 +385,7 @@ def check_confirmation(data: TrialAnalysis, confirmation) -> None:
             continue
         try:
             data.confirmations[name] = confirm(fit, settings, values.tolist(),
-                                               baths=[str(b) for b in values.index])
+                                               baths=[str(b) for b in values.index],
+                                               n_responses=len(data.fits))
         except TrialkitError as exc:
             data.note("confirm", f"{name}: confirmation not checked ({first_line(exc)})")

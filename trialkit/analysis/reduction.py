@@ -78,7 +78,7 @@ class ReductionResult:
 
 def _refit(fit: ModelFit, spec) -> ModelFit:
     return fit_model(fit.natural, fit.response, spec.factors, spec, block=None,
-                     alpha=fit.alpha, coding=fit.mm.coding)
+                     alpha=fit.alpha, coding=fit.mm.coding, limits=fit.limits)
 
 
 def reduce_model(fit: ModelFit, *, criterion: str = "p", threshold: float = 0.05

@@ -39,7 +39,8 @@ import pandas as pd
 from scipy import optimize, stats
 
 from trialkit.analysis.data import finite
-from trialkit.analysis.linear import batched_refit
+from trialkit.analysis.linear import batched_refit, bootstrap_responses
+from trialkit.analysis.optimum_region import METHOD, bootstrap_region
 from trialkit.exceptions import AnalysisError
 from trialkit.trial.model_matrix import model_matrix
 
@@ -209,7 +210,8 @@ class SurfaceResult:
                 "eigenvalues": [float(v) for v in self.eigenvalues],
                 "stationary_point": self.stationary_point, "optimum": opt,
                 "bootstrap": None if self.bootstrap is None
-                else self.bootstrap.to_dict("records")}
+                else [{k: (finite(v) if isinstance(v, float) else v) for k, v in r.items()}
+                      for r in self.bootstrap.to_dict("records")]}
 
     def __repr__(self) -> str:
         o = self.optimum
@@ -314,7 +316,8 @@ def fit_surface(fit, *, aim: str = "higher", fixed: Mapping[str, str] | None = N
     result.optimum = {"settings": settings, "coded": x, "predicted": float(pred.predicted),
                       "se_fit": float(pred.se_fit), "ci_low": float(pred.ci_low),
                       "ci_high": float(pred.ci_high), "pi_low": float(pred.pi_low),
-                      "pi_high": float(pred.pi_high), "on_boundary": at_bound}
+                      "pi_high": float(pred.pi_high), "on_boundary": at_bound,
+                      "clipped": bool(pred.clipped)}
     if n_boot:
         result.bootstrap = bootstrap_optimum(fit, ops, region, sign, n_boot, seed)
     return result
@@ -346,21 +349,38 @@ def region_statistics(fit, Y: np.ndarray, natural: Mapping[str, float],
 def bootstrap_optimum(fit, ops, region: np.ndarray, sign: float, n_boot: int, seed: int,
                       *, level: float | None = None, grid_n: int | None = None
                       ) -> pd.DataFrame:
-    """Residual-bootstrap percentile interval of the best point, solved in one batch.
+    """Bootstrap interval of the best point, one row per factor.
 
-    Every resample's coefficients come from one QR; its best point is the stationary
-    point when that is an optimum of the aim's kind inside the region, otherwise the best
-    point of a grid over the region.
+    When the fitted stationary point is an optimum of the aim's kind inside the region,
+    the intervals are the shadow of the joint bootstrap-calibrated region of the
+    stationary point (:mod:`trialkit.analysis.optimum_region`): they hold jointly
+    (``joint`` True).  Otherwise (best on the edge, a saddle or a ridge) they are
+    percentile intervals of the resamples' best points, one factor at a time
+    (``joint`` False).  Resamples use modified residuals
+    (:func:`trialkit.analysis.linear.modified_residuals`); every one is solved in one
+    batch.  Columns: factor, low, high, share_interior, joint, reaches_edge, method.
     """
-    rng = np.random.default_rng(seed)
-    n = fit.n
-    idx = rng.integers(0, n, size=(n, n_boot))
-    Ystar = fit.ls.fitted[:, None] + fit.ls.resid[idx]
-    betas = batched_refit(fit.mm.X, Ystar)  # (p, n_boot)
     _, Lb, LB = ops
+    b, B = Lb @ fit.ls.beta, np.einsum("ijp,p->ij", LB, fit.ls.beta)
+    k = b.size
+    try:
+        xs_hat = np.linalg.solve(B, -b / 2)
+        interior = bool(np.all(sign * np.linalg.eigvalsh(B) < 0)
+                        and np.all((xs_hat >= region[:, 0]) & (xs_hat <= region[:, 1])))
+    except np.linalg.LinAlgError:
+        interior = False
+    if interior and fit.df_resid > 0:
+        reg = bootstrap_region(fit, ops, region, n_boot=n_boot, seed=seed, level=level)
+        out = reg.intervals()
+        out["share_interior"] = float("nan")
+        out["method"] = METHOD
+        return out[["factor", "low", "high", "share_interior", "joint", "reaches_edge",
+                    "method"]]
+    rng = np.random.default_rng(seed)
+    Ystar = bootstrap_responses(fit.ls, n_boot, rng)
+    betas = batched_refit(fit.mm.X, Ystar)  # (p, n_boot)
     bs = Lb @ betas  # (k, n_boot)
     Bs = np.einsum("ijp,pb->bij", LB, betas)  # (n_boot, k, k)
-    k = bs.shape[0]
     with np.errstate(all="ignore"):
         xs = np.linalg.solve(Bs, -bs.T[:, :, None] / 2)[:, :, 0]
     eig = np.linalg.eigvalsh(Bs)
@@ -379,6 +399,10 @@ def bootstrap_optimum(fit, ops, region: np.ndarray, sign: float, n_boot: int, se
                          "low": [float(f.to_natural(v)) for f, v in zip(cont, lo, strict=True)],
                          "high": [float(f.to_natural(v)) for f, v in zip(cont, hi,
                                                                           strict=True)],
-                         "share_interior": float(good.mean())})
-
-
+                         "share_interior": float(good.mean()), "joint": False,
+                         "reaches_edge": [bool(np.isclose(lo[i], region[i, 0])
+                                               or np.isclose(hi[i], region[i, 1]))
+                                          for i in range(k)],
+                         "method": "percentile bootstrap of the best point (modified "
+                                   "residuals; best not an interior optimum): one factor "
+                                   "at a time, not joint"})

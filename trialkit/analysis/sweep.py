@@ -36,7 +36,7 @@ import pandas as pd
 from scipy import stats
 
 from trialkit.analysis.data import finite
-from trialkit.analysis.linear import batched_refit
+from trialkit.analysis.linear import batched_refit, bootstrap_responses
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
 from trialkit.trial.factors import Factor
@@ -57,7 +57,8 @@ class SweepResult:
     vertex : float or None
         Vertex of the quadratic (may be outside the range).
     fieller_low, fieller_high : float
-        Fieller interval of the vertex (inf when unbounded).
+        Fieller interval of the vertex, cut to the swept range (the whole range when
+        unbounded).
     fieller_bounded : bool
     boot_low, boot_high : float
         Bootstrap percentile interval of ``best`` (NaN when not computed).
@@ -68,6 +69,11 @@ class SweepResult:
     falls_off : bool
     optimum : dict
         settings, predicted, pi_low, pi_high at ``best``.
+    boot_method : str
+        How ``boot_low``/``boot_high`` were computed (``"none"`` when not computed).
+    fieller_cut : list of str
+        Ends (``"low"``, ``"high"``) where Fieller's interval ran beyond the swept range
+        and was cut to it.
     """
 
     fit: object
@@ -85,6 +91,8 @@ class SweepResult:
     falls_off: bool
     drop_at_high: float
     optimum: dict
+    boot_method: str = "none"
+    fieller_cut: list = None
 
     def grid(self, n: int = 101) -> pd.DataFrame:
         """Prediction curve with confidence and prediction bands over the swept range."""
@@ -113,6 +121,15 @@ class SweepResult:
         row["vertex"] = finite(self.vertex) if self.vertex is not None else None
         row["fieller_bounded"] = bool(self.fieller_bounded)
         row["aim"] = self.aim
+        row["boot_method"] = self.boot_method
+        row["fieller_cut_to_range"] = list(self.fieller_cut or [])
+        row["swept_range"] = list(self._range())
+        row["at_edge"] = bool(min(abs(self.best - e) for e in self._range())
+                              <= 1e-9 * max(1.0, abs(self.best)))
+        row["lean_level_interval"] = None
+        row["lean_level_interval_note"] = (
+            "the lean level has no interval: it is the lowest level whose prediction is "
+            "within the tolerance of the best, a rule applied to the fitted curve")
         return {"sweep": row, "optimum": {k: (finite(v) if isinstance(v, float) else v)
                                           for k, v in self.optimum.items()}}
 
@@ -145,7 +162,7 @@ def fieller_vertex(b1: float, b2: float, v11: float, v12: float, v22: float, t: 
 def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = "higher",
               tolerance: float | None = None, relative_tolerance: float = 0.05,
               alpha: float = 0.05, n_boot: int = 2000, seed: int = 0,
-              block: str | None = None) -> SweepResult:
+              block: str | None = None, limits: tuple = (None, None)) -> SweepResult:
     """Analyse a sweep of ``factor`` (see the module docstring).
 
     Parameters
@@ -153,6 +170,8 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     tolerance : float, optional
         Allowed shortfall from the best, in response units; default
         ``relative_tolerance * |best prediction|``.
+    limits : tuple
+        Physical range of the response (predictions and intervals are cut to it).
     """
     if aim not in ("higher", "lower"):
         raise AnalysisError(f"aim must be 'higher' or 'lower', got {aim!r}")
@@ -160,7 +179,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
         raise AnalysisError(f"a sweep needs a continuous factor; {factor.name!r} is "
                             f"{factor.kind}")
     fit = fit_model(table, response, [factor], f"{factor.name} + {factor.name}^2",
-                    block=block, alpha=alpha)
+                    block=block, alpha=alpha, limits=limits)
     levels = fit.natural[factor.name].astype(float)
     if levels.nunique() < 3:
         raise AnalysisError(f"a sweep needs at least three levels of {factor.name!r}; got "
@@ -174,41 +193,88 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
     sign = 1.0 if aim == "higher" else -1.0
     lo, hi = float(levels.min()), float(levels.max())
     grid = np.linspace(lo, hi, 4001)
-    pred = fit.predict(pd.DataFrame({factor.name: grid})).predicted.to_numpy()
+    pred = fit.predict(pd.DataFrame({factor.name: grid}), clip=False).predicted.to_numpy()
     j = int(np.argmax(sign * pred))
     vertex = -b1 / (2 * b2) if b2 != 0 else None
     best = float(vertex) if vertex is not None and lo <= vertex <= hi and sign * b2 < 0 \
         else float(grid[j])
-    best_pred = fit.predict(pd.DataFrame({factor.name: [best]})).iloc[0]
+    best_pred = fit.predict(pd.DataFrame({factor.name: [best]}), clip=False).iloc[0]
     tol = float(tolerance) if tolerance is not None else \
         relative_tolerance * abs(float(best_pred.predicted))
     ok = sign * (pred - best_pred.predicted) >= -tol
     lean = float(grid[np.argmax(ok)])
     t = float(stats.t.ppf(1 - alpha / 2, fit.df_resid))
     flo, fhi, bounded = fieller_vertex(b1, b2, cov[i1, i1], cov[i1, i2], cov[i2, i2], t)
+    # the optimum lies in the swept range (a concentration is never negative): cut the
+    # interval to it and say which ends were cut
+    fieller_cut = [side for side, cut in (("low", flo < lo), ("high", fhi > hi)) if cut]
+    flo, fhi = max(flo, lo), min(fhi, hi)
     p_curv = float(coefs.loc[f"{factor.name}^2", "p"])
     drop = float(sign * (best_pred.predicted - pred[-1]))
     falls = bool(p_curv < alpha and vertex is not None and lo < vertex < hi and drop > tol)
     blo = bhi = float("nan")
+    boot_method = "none"
     if n_boot:
-        blo, bhi = _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha)
-    optimum = {"settings": {factor.name: best}, "predicted": float(best_pred.predicted),
-               "pi_low": float(best_pred.pi_low), "pi_high": float(best_pred.pi_high),
-               "ci_low": float(best_pred.ci_low), "ci_high": float(best_pred.ci_high)}
+        blo, bhi, boot_method = _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed,
+                                                alpha)
+    shown = fit.predict(pd.DataFrame({factor.name: [best]})).iloc[0]  # cut to the range
+    optimum = {"settings": {factor.name: best}, "predicted": float(shown.predicted),
+               "pi_low": float(shown.pi_low), "pi_high": float(shown.pi_high),
+               "ci_low": float(shown.ci_low), "ci_high": float(shown.ci_high),
+               "clipped": bool(shown.clipped)}
     return SweepResult(fit, factor, aim, best, None if vertex is None else float(vertex),
-                       flo, fhi, bounded, blo, bhi, tol, lean, falls, drop, optimum)
+                       flo, fhi, bounded, blo, bhi, tol, lean, falls, drop, optimum,
+                       boot_method, fieller_cut)
 
 
 def _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha):
+    """Bootstrap interval of the best level: (low, high, method).
+
+    Resamples are the fitted values plus modified residuals (leverage-rescaled, centred;
+    :func:`trialkit.analysis.linear.modified_residuals`).  When the fitted quadratic has
+    an optimum of the aim's kind inside the range, the interval is the studentized
+    (bootstrap-t) interval of the vertex ``-c1 / (2 c2)``, its standard error by the delta
+    method in every resample, cut to the swept range; otherwise (best at an end) the
+    percentile interval of the best level of the resamples.
+    """
     rng = np.random.default_rng(seed)
-    n = fit.n
-    idx = rng.integers(0, n, size=(n, n_boot))
-    betas = batched_refit(fit.mm.X, fit.ls.fitted[:, None] + fit.ls.resid[idx])
-    sl1, sl2 = fit.mm.term_columns[factor.name], fit.mm.term_columns[f"{factor.name}^2"]
-    c1, c2 = betas[sl1.start], betas[sl2.start]  # coded units
+    X = fit.mm.X
+    Ystar = bootstrap_responses(fit.ls, n_boot, rng)
+    betas = batched_refit(X, Ystar)
+    i1 = fit.mm.term_columns[factor.name].start
+    i2 = fit.mm.term_columns[f"{factor.name}^2"].start
+    c1, c2 = betas[i1], betas[i2]  # coded units
+    clo, chi = factor.to_coded(lo), factor.to_coded(hi)
+    b1, b2 = fit.ls.beta[i1], fit.ls.beta[i2]
+    v_hat = -b1 / (2 * b2) if b2 != 0 else np.nan
+    interior = bool(np.isfinite(v_hat) and sign * b2 < 0 and clo <= v_hat <= chi)
+    if interior and fit.df_resid > 0:
+        # the slope c1 + 2 c2 x is zero at the vertex: keep the levels x where the
+        # slope's t statistic lies within the bootstrap quantile of its own pivot
+        resid = Ystar - X @ betas
+        s2 = np.einsum("ij,ij->j", resid, resid) / fit.df_resid
+        V = fit.ls.xtx_inv[np.ix_([i1, i2], [i1, i2])]
+        xs = np.linspace(clo, chi, 401)
+        var0 = V[0, 0] + 4 * xs * V[0, 1] + 4 * xs * xs * V[1, 1]  # (g,)
+        g_hat = b1 + 2 * b2 * xs
+        g_star = c1[None, :] + 2 * c2[None, :] * xs[:, None]  # (g, B)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            pivot = np.abs(g_star - g_hat[:, None]) / np.sqrt(var0[:, None] * s2[None, :])
+            q = np.quantile(pivot, 1 - alpha, axis=1)
+            stat = np.abs(g_hat) / np.sqrt(var0 * fit.ls.sigma2)
+        keep = stat <= q
+        j = int(np.argmin(np.abs(xs - v_hat)))
+        keep[j] = True
+        low_j, high_j = j, j
+        while low_j > 0 and keep[low_j - 1]:
+            low_j -= 1
+        while high_j < xs.size - 1 and keep[high_j + 1]:
+            high_j += 1
+        return (float(factor.to_natural(xs[low_j])), float(factor.to_natural(xs[high_j])),
+                "bootstrap-calibrated slope test (modified residuals): the levels where "
+                "the fitted slope is not significantly different from zero")
     with np.errstate(divide="ignore", invalid="ignore"):
         xv = -c1 / (2 * c2)
-    clo, chi = factor.to_coded(lo), factor.to_coded(hi)
     inside = (sign * c2 < 0) & (xv >= clo) & (xv <= chi)
     # otherwise the better end of the range
     f_lo = c1 * clo + c2 * clo ** 2
@@ -216,4 +282,5 @@ def _bootstrap_best(fit, factor, sign, lo, hi, n_boot, seed, alpha):
     end = np.where(sign * f_hi >= sign * f_lo, chi, clo)
     best = np.where(inside, xv, end)
     qlo, qhi = np.quantile(best, [alpha / 2, 1 - alpha / 2])
-    return float(factor.to_natural(qlo)), float(factor.to_natural(qhi))
+    return (float(factor.to_natural(qlo)), float(factor.to_natural(qhi)),
+            "percentile bootstrap of the best level (modified residuals; best at an end)")

@@ -187,7 +187,7 @@ def _timecourse(data: TrialAnalysis, timecourse: pd.DataFrame | None) -> None:
         timecourse = timecourse.dropna(subset=["elapsed_h", "coverage_pct"])
         if not fits:
             try:
-                from trialkit.responses.kinetics import fit_baths
+                from trialkit.responses.bath_kinetics import fit_baths
 
                 _, fits, failed = fit_baths(timecourse)
                 for bath, msg in failed:
@@ -207,6 +207,15 @@ def config_of(trial):
         return None
     sec = (trial.sections or {}).get("analysis")
     return sec if isinstance(sec, AnalysisConfig) else AnalysisConfig()
+
+
+def _limits(spec) -> tuple:
+    """Physical range of a trial response (from its measure, else its unit)."""
+    try:
+        from trialkit.responses.definitions import physical_range
+    except ImportError:  # pragma: no cover - the responses package ships it
+        return (None, None)
+    return physical_range(spec.measure or spec.name, getattr(spec, "unit", None))
 
 
 def _aim(spec) -> str:
@@ -237,13 +246,14 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             data.note("analysis", f"{spec.name}: no bath has a value yet")
             continue
         model = cfg.response_models.get(spec.name) or cfg.model
+        limits = _limits(spec)
         try:
             res = analyze_table(data.baths, spec.name, trial.factors, model=model,
                                 anova_type=cfg.anova_type, alpha=cfg.alpha, sweep=sweep,
                                 aim=_aim(spec) if spec.is_wanted else "higher",
                                 reduce=cfg.reduce, threshold=cfg.threshold, n_boot=boot,
                                 seed=trial.seed, tolerance=cfg.tolerance,
-                                relative_tolerance=cfg.relative_tolerance)
+                                relative_tolerance=cfg.relative_tolerance, limits=limits)
         except TrialkitError as exc:
             data.note("analysis", f"{spec.name}: no model could be fitted ({first_line(exc)})")
             continue
@@ -260,6 +270,8 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             _effects(data, spec)
         if res.sweep is None:
             _detectable(data, spec)
+        if (spec.measure or spec.name) in CENSORED_LEVELS:
+            _censoring(data, spec, res.fit)
     _comparisons(data)
     from trialkit.analysis.recommend import desirability, recommend
 
@@ -289,6 +301,49 @@ def _comparisons(data: TrialAnalysis) -> None:
         except (TrialkitError, ValueError) as exc:
             data.note("analysis", f"{name}: treatments not compared with the controls "
                                   f"({first_line(exc)})")
+
+
+CENSORED_LEVELS = {"time_to_50_h": 50.0, "time_to_90_h": 90.0}
+
+
+def _censoring(data: TrialAnalysis, spec, fit) -> None:
+    """Count the baths that had not reached the level by their last inspection and, when
+    there are any, fit the time with them right-censored (log-normal AFT)."""
+    level = CENSORED_LEVELS[spec.measure or spec.name]
+    tag = int(level)
+    names = [f.name for f in fit.spec.used_factors if f.name != "block"]
+    rows = []
+    for rec in data.baths.to_dict("records"):
+        k = data.kinetics.get(str(rec.get("bath")))
+        if k is None or any(pd.isna(rec.get(n)) for n in names):
+            continue
+        reached = bool(getattr(k, f"reached_{tag}"))
+        rows.append({**{n: rec[n] for n in names}, "bath": str(rec["bath"]),
+                     "time": getattr(k, f"time_to_{tag}_h") if reached else k.last_h,
+                     "censored": not reached})
+    if not rows:
+        return
+    table = pd.DataFrame(rows)
+    cens = table[table.censored]
+    out = {"level_pct": level, "n_baths": len(table), "n_censored": len(cens),
+           "censored_baths": cens.bath.tolist(), "censored_fit": None,
+           "linear_fit_uses": "only the baths that reached the level"}
+    if len(cens):
+        from trialkit.analysis.censored import fit_censored
+
+        terms = " + ".join(t.name for t in fit.spec.terms if t.name != "block")
+        try:
+            cf = fit_censored(table, "time", fit.spec.used_factors, terms or None,
+                              censored="censored", alpha=fit.alpha)
+            out["censored_fit"] = cf.to_dict()
+        except TrialkitError as exc:
+            out["censored_fit_error"] = first_line(exc)
+        data.note("analysis", f"{spec.name}: {len(cens)} of {len(table)} baths had not "
+                              f"reached {tag} % removal by their last inspection; they are "
+                              "right-censored in the log-normal time model under "
+                              "'censoring', while the linear model uses only the baths that "
+                              "got there")
+    data.censoring[spec.name] = out
 
 
 def _effects(data: TrialAnalysis, spec) -> None:

@@ -49,6 +49,7 @@ class TrialAnalysis:
     versus_controls: list = field(default_factory=list)  # Dunnett, against the controls
     bench: pd.DataFrame | None = None  # baths whose recorded pH / temperature is off plan
     log_check: object | None = None  # trialkit.records.chain.LogVerification of the log
+    censoring: dict = field(default_factory=dict)  # time response -> censoring (plain)
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -85,7 +86,9 @@ class TrialAnalysis:
         return {
             "trial": getattr(self.trial, "title", ""),
             "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
-            "responses": {name: res.to_dict() for name, res in self.results.items()},
+            "responses": {name: {**res.to_dict(), **({"censoring": self.censoring[name]}
+                                                      if name in self.censoring else {})}
+                          for name, res in self.results.items()},
             "recommendation": self.recommendation_dict(),
             "comparisons": list(self.comparisons),
             "versus_controls": list(self.versus_controls),

@@ -18,7 +18,12 @@ from trialkit.report import figure_list as figs
 from trialkit.report.answer import answer_blocks
 from trialkit.report.comparison_text import comparison_blocks
 from trialkit.report.document import Block, Report, Section
-from trialkit.report.findings import effects_findings, model_findings, pretty_unit
+from trialkit.report.findings import (
+    caveat_findings,
+    effects_findings,
+    model_findings,
+    pretty_unit,
+)
 from trialkit.report.quality import readings_blocks
 from trialkit.report.reproduce import reproduce_blocks
 
@@ -127,6 +132,11 @@ def _findings(data: TrialAnalysis) -> list:
             out += model_findings(fit, unit=unit, detectable=data.detectable.get(name))
         elif name in data.effects:
             out += effects_findings(data.effects[name], unit=unit)
+        res = data.results.get(name)
+        out += caveat_findings(fit, unit=unit, reduced=getattr(res, "reduction", None)
+                               is not None, surface=data.surfaces.get(name),
+                               sweep=data.sweeps.get(name),
+                               diagnostics=getattr(res, "diagnostics", None))
         sw = data.sweeps.get(name)
         if sw is not None:
             from trialkit.report.findings import Finding
@@ -317,6 +327,7 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
         text += (f"Inside the prediction intervals: {', '.join(ok)}. " if ok else "")
         text += (f"Outside: {', '.join(bad)} — the model does not hold there; look again "
                  "before adopting the recipe." if bad else "The model holds there.")
+        text += f" Each response is {next(iter(data.confirmations.values())).rule}."
         blocks += [Block.para(text), Block.frame(pd.DataFrame(rows),
                    "Confirmation baths against the 95 % prediction interval of their mean")]
     return blocks + _notes(data, "confirm") + [Block.para(

@@ -91,11 +91,14 @@ def _amount(effect: float, unit: str, dec: int) -> str:
     return f"{size} {unit}".strip()
 
 
-def _span(f) -> str:
-    """``from 2 to 10 % w/v`` or ``from pH 5.5 to pH 7.5``."""
+def _span(f, low: float | None = None, high: float | None = None) -> str:
+    """``from 2 to 10 % w/v`` or ``from pH 5.5 to pH 7.5`` (the factor's range, or the
+    ``low``-``high`` range given: the one the model was fitted on)."""
+    low = f.low if low is None else low
+    high = f.high if high is None else high
     if f.unit == "pH":
-        return f"from pH {f.low:g} to pH {f.high:g}"
-    return f"from {f.low:g} to {f.high:g} {pretty_unit(f.unit)}".rstrip()
+        return f"from pH {low:g} to pH {high:g}"
+    return f"from {low:g} to {high:g} {pretty_unit(f.unit)}".rstrip()
 
 
 def interval(lo: float, hi: float, dec: int) -> str:
@@ -164,8 +167,15 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
             eff, lo, hi = float(row.effect), float(row.ci_low), float(row.ci_high)
             dec = decimals_for((hi - lo) / 2)
             if f.is_continuous:
+                # quote the change over the range the model was fitted on, never beyond
+                seen = fit.natural[name].astype(float)
+                lo_seen, hi_seen = float(seen.min()), float(seen.max())
+                scale = (hi_seen - lo_seen) / (f.high - f.low) if f.high > f.low else 1.0
+                eff, lo, hi = eff * scale, lo * scale, hi * scale
+                dec = decimals_for((hi - lo) / 2)
+                nums["fitted_range"] = [lo_seen, hi_seen]
                 verb = "increased" if eff > 0 else "decreased"
-                head = f"Raising {name} {_span(f)}"
+                head = f"Raising {name} {_span(f, lo_seen, hi_seen)}"
                 change_sign = 1.0
             else:
                 # sum coding: the column of the first level; effect = first - second
@@ -245,21 +255,93 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
     """Sentences for a two-level effects analysis judged by Lenth's margin of error."""
     df = effects.summary
     me = effects.lenth.me
+    sme = effects.lenth.sme
     unit = pretty_unit(unit)
     dec = decimals_for(me / 2)
     out = []
     for r in df.itertuples():
-        nums = {"effect": float(r.effect), "p": float(r.p), "me": me}
+        nums = {"effect": float(r.effect), "p": float(r.p), "me": me, "sme": sme,
+                "p_approximate": True}
         if r.significant:
             verb = "raised" if r.effect > 0 else "lowered"
             text = (f"Going from the low to the high level of {r.term} {verb} "
                     f"{effects.response} by {_amount(r.effect, unit, dec)}, beyond "
-                    f"Lenth's margin of error of {_amount(me, unit, dec)} ({fmt_p(r.p)}).")
+                    f"Lenth's margin of error of {_amount(me, unit, dec)} (simultaneous "
+                    f"margin {_amount(sme, unit, dec)}; approximate {fmt_p(r.p)}, from "
+                    f"Lenth's pseudo standard error).")
             out.append(Finding(text, effects.response, r.term, "screening", nums))
     quiet = [r.term for r in df.itertuples() if not r.significant]
     if quiet:
-        text = (f"Within Lenth's margin of error ({_amount(me, unit, dec)}), no effect on "
-                f"{effects.response} was detected for: {', '.join(quiet)}.")
+        text = (f"Within Lenth's margin of error ({_amount(me, unit, dec)}; simultaneous "
+                f"margin {_amount(sme, unit, dec)}), no effect on {effects.response} was "
+                f"detected for: {', '.join(quiet)}.")
         out.append(Finding(text, effects.response, ", ".join(quiet), "not_detected",
-                           {"me": me}))
+                           {"me": me, "sme": sme}))
+    return out
+
+
+def _range_text(lo, hi) -> str:
+    if lo is not None and hi is not None:
+        return f"between {lo:g} and {hi:g}"
+    return f"at or above {lo:g}" if lo is not None else f"at or below {hi:g}"
+
+
+def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
+                    sweep=None, diagnostics=None, weak_below: float = 0.5) -> list[Finding]:
+    """What a reader must know before acting on a model's numbers (issue 15).
+
+    Sentences on the scale and physical range of the response, a weak model (predicted
+    R² below ``weak_below``), p-values after model reduction, how many terms were tested
+    with Holm-adjusted p-values, and a best point at the edge of the region.
+    """
+    resp = fit.response
+    out: list[Finding] = []
+    lo, hi = fit.limits
+    if lo is not None or hi is not None:
+        out.append(Finding(
+            f"{resp.capitalize()} can only lie {_range_text(lo, hi)} "
+            f"{pretty_unit(unit)}".rstrip() + ": the model is fitted on the raw scale and "
+            "its predictions and intervals are cut to that range (flagged where cut).",
+            resp, "scale", "model", {"physical_range": list(fit.limits)}))
+    box = getattr(diagnostics, "box_cox", None)
+    if box and not box.get("raw_scale_supported", True):
+        out.append(Finding(
+            f"The Box–Cox check does not support the raw scale for {resp} (power "
+            f"{box['lambda_hat']:.2g}, interval {box['ci_low']:.2g} to {box['ci_high']:.2g}"
+            f"); a {box['transform']} scale would fit better.", resp, "scale", "model",
+            {"box_cox": dict(box)}))
+    pr = fit.pred_r_squared
+    if math.isfinite(pr) and pr < weak_below:
+        out.append(Finding(
+            f"The model for {resp} is weak: it predicts left-out baths with R² = {pr:.2f} "
+            f"(below {weak_below:g}); do not let it decide on its own.", resp, "model",
+            "model", {"pred_r_squared": pr, "weak": True}))
+    pvals = {k: v for k, v in _anova_p(fit).items() if k != "block" and math.isfinite(v)}
+    if len(pvals) > 1:
+        from statsmodels.stats.multitest import multipletests
+
+        names = list(pvals)
+        holm = multipletests([pvals[n] for n in names], method="holm")[1]
+        listed = "; ".join(f"{n} {fmt_p(float(h)).removeprefix('p ')}"
+                           for n, h in zip(names, holm, strict=True))
+        out.append(Finding(
+            f"{len(names)} terms were tested for {resp}; Holm-adjusted p-values (for "
+            f"testing them all at once): {listed}.", resp, "model", "multiplicity",
+            {"n_tested": len(names), "p_holm": dict(zip(names, map(float, holm),
+                                                        strict=True))}))
+    if reduced:
+        out.append(Finding(
+            f"The p-values for {resp} are from the reduced model, after terms were dropped "
+            "on the same data: they are optimistic.", resp, "model", "model",
+            {"reduced": True}))
+    edge = []
+    if surface is not None:
+        edge = list(surface.optimum.get("on_boundary") or [])
+    elif sweep is not None and sweep.to_dict()["sweep"]["at_edge"]:
+        edge = [sweep.factor.name]
+    if edge:
+        out.append(Finding(
+            f"The best point for {resp} is at the edge of the region in {', '.join(edge)}: "
+            "the best may lie beyond; extend the range to find it.", resp,
+            ", ".join(edge), "edge", {"at_edge": edge}))
     return out

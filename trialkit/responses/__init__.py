@@ -2,7 +2,8 @@
 
 Holds metal densities (``materials``), ASTM G1 corrosion rates and cleaning corrections
 (``corrosion``), ASTM D610 rust grades (``rust_grade``), removal curves over time
-(``kinetics``), the measures a trial may name (``definitions``) and the per-coupon and
+(``kinetics``; every bath's, its coupons as replicates: ``bath_kinetics``), the measures a
+trial may name (``definitions``) and the per-coupon and
 per-bath responses of a trial (``compute``).
 
 May import: ``trialkit.records``, ``trialkit.chemistry``, ``trialkit.planning``,

@@ -38,8 +38,9 @@ import pandas as pd
 from trialkit.exceptions import ResponseError, TrialkitError, TrialkitWarning
 from trialkit.problems import ProblemReport
 from trialkit.responses import definitions as defs
+from trialkit.responses.bath_kinetics import fit_baths
 from trialkit.responses.corrosion import corrosion_rate, cycle_extrapolation
-from trialkit.responses.kinetics import RemovalFit, fit_baths
+from trialkit.responses.kinetics import RemovalFit
 from trialkit.responses.materials import metal as lookup_metal
 from trialkit.responses.rust_grade import d610_grades
 from trialkit.trial.geometry import coupon_area_cm2

@@ -53,6 +53,40 @@ RESPONSES: dict[str, tuple[str, str, str]] = {
                      "missing if not reached within the readings"),
 }
 
+#: Physical range of each measure, (low, high), None for no bound on that side: shares of
+#: a surface are 0-100 %, rates, masses removed, corrosion rates and times are at least 0
+#: (common practice).  A mass loss may come out slightly negative from weighing noise, so
+#: the mass-loss measures have no bound.
+RANGES: dict[str, tuple[float | None, float | None]] = {
+    "area_cm2": (0.0, None),
+    "exposure_h": (0.0, None),
+    "rust_removed_g_per_m2": (0.0, None),
+    "corrosion_rate_mm_per_y": (0.0, None),
+    "removal_pct": (0.0, 100.0),
+    "coverage_after_pct": (0.0, 100.0),
+    "rust_grade": (0.0, 10.0),
+    "rate_constant_per_h": (0.0, None),
+    "time_to_50_h": (0.0, None),
+    "time_to_90_h": (0.0, None),
+}
+
+
+def physical_range(measure: str | None, unit: str | None = None
+                   ) -> tuple[float | None, float | None]:
+    """The physical range of a measure; a response in ``%`` of no known measure is 0-100.
+
+    >>> physical_range("removal_pct"), physical_range("my_share", "%")
+    ((0.0, 100.0), (0.0, 100.0))
+    >>> physical_range("cost_per_l")
+    (None, None)
+    """
+    if measure in RANGES:
+        return RANGES[measure]
+    if unit is not None and unit.strip() == "%":
+        return (0.0, 100.0)
+    return (None, None)
+
+
 #: Responses summarised per bath (mean, SD, n) and the coupon kind each is taken from.
 BATH_SUMMARY: dict[str, str] = {
     "mass_loss_g_per_m2": "rusted",

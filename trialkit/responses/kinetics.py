@@ -9,12 +9,29 @@ Two models of the rust coverage ``c`` (% of area) against time in the bath ``t``
 
 Both are fitted by least squares (the linear parameters solved exactly for given ``k`` and
 ``L``), the lag-plateau model is kept where its AIC (``n·ln(SSE/n) + 2p``) is lower and it
-has at least two residual degrees of freedom.  The confidence interval of ``k`` is
-``k ± t(n-p)·se``, ``se`` from the Gauss–Newton covariance ``s²(JᵀJ)⁻¹`` (what
-``scipy.optimize.curve_fit`` returns).  Removal is counted from the fitted ``c0``: the
-time to X % removal is when ``c(t) = c0·(1 - X/100)``.  A time beyond the last reading is
-not reported as a result: ``time_to_90_h`` is then NaN, ``reached_90`` False and the model
-value is kept in ``time_to_90_model_h`` with a note.
+has at least two residual degrees of freedom.  The confidence interval of ``k`` for one
+curve is ``k·exp(± t(n-p)·se/k)`` (on the log scale, so it never goes below zero), ``se``
+from the Gauss–Newton covariance ``s²(JᵀJ)⁻¹`` (what ``scipy.optimize.curve_fit``
+returns).
+
+A bath's coupons are replicates of the bath, not independent readings of one curve (each
+coupon starts with its own coverage and removes at its own pace):
+:func:`trialkit.responses.bath_kinetics.fit_baths` fits each coupon's curve too and makes
+the bath's intervals in two stages. With ``ln k_bj`` the coupons' log rate constants of
+bath ``b`` (``m_b`` coupons) and ``v_bj`` their curve-fit variances, the coupon-to-coupon
+variance ``tau²`` is pooled over the baths (method of moments, within-bath mean square
+``MS_w`` less the mean curve-fit variance, at least 0); a bath's ``Var(ln k) = max(tau² +
+mean_j v_bj, MS_w) / m_b`` (its own curve-fit variance where that is larger, never less
+than the pooled scatter), with ``Σ(m_b - 1)`` degrees of freedom, centred on the coupons'
+mean ``ln k``. Coupons whose ``ln k`` has a standard error above ``POOL_LOG_SE`` (an
+untreated bath barely moves) do not join the pooling: their bath uses its own scatter on
+``m_b - 1`` df. The same is done for ln(time to 50 / 90 %), and :func:`time_ratio` uses a
+t quantile on the right degrees of freedom.
+
+Removal is counted from the fitted ``c0``: the time to X % removal is when
+``c(t) = c0·(1 - X/100)``.  A time beyond the last reading is not reported as a result:
+``time_to_90_h`` is then NaN, ``reached_90`` False and the model value is kept in
+``time_to_90_model_h`` with a note.
 
 Examples
 --------
@@ -31,7 +48,6 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-import pandas as pd
 from scipy import optimize, stats
 
 from trialkit.exceptions import ResponseError
@@ -80,6 +96,12 @@ class RemovalFit:
         The model's time even when beyond the readings (inf if never reached).
     n, aic, aic_other, last_h : number
         Points, AIC of the kept and of the other model, last reading time.
+    coupons : int
+        Coupons whose curves were fitted one by one (1: one curve of all readings).
+    log_k_se, df : float
+        Standard error of ln k and the degrees of freedom of its t quantile.
+    interval_method : str
+        How the intervals were made (one curve, or coupons as replicates of the bath).
     notes : list of str
         What the reader should know (extrapolation, fall-backs).
     """
@@ -103,6 +125,13 @@ class RemovalFit:
     confidence: float
     cov: np.ndarray = field(repr=False)
     notes: list[str] = field(default_factory=list)
+    coupons: int = 1
+    log_k_se: float = math.nan
+    df: float = math.nan
+    interval_method: str = "one curve: reading noise only, t on n - p df"
+    log_time_se_coupons: dict = field(default_factory=dict)
+    log_time_coupon_mean: dict = field(default_factory=dict)
+    k_coupon_mean: float = math.nan
 
     def time_to(self, level_pct: float, params: dict | None = None) -> float:
         """Model time (h) to ``level_pct`` % removal; ``inf`` when never reached."""
@@ -117,7 +146,13 @@ class RemovalFit:
         return p["lag"] + math.log(span / rest) / p["k"]
 
     def log_time_se(self, level_pct: float) -> float:
-        """Standard error of ln(time to ``level_pct``) by the delta method."""
+        """Standard error of ln(time to ``level_pct``): from the coupons as replicates
+        when the bath's coupons were fitted one by one, else by the delta method."""
+        if level_pct in self.log_time_se_coupons:
+            return self.log_time_se_coupons[level_pct]
+        return self._delta_log_time_se(level_pct)
+
+    def _delta_log_time_se(self, level_pct: float) -> float:
         names = list(self.params)
         base = self.time_to(level_pct)
         if not math.isfinite(base) or base <= 0:
@@ -134,7 +169,8 @@ class RemovalFit:
         out = {k: getattr(self, k) for k in (
             "model", "k_per_h", "k_se", "k_lower", "k_upper", "time_to_50_h", "time_to_90_h",
             "reached_50", "reached_90", "time_to_50_model_h", "time_to_90_model_h", "n",
-            "aic", "aic_other", "last_h", "confidence")}
+            "aic", "aic_other", "last_h", "confidence", "coupons", "log_k_se", "df",
+            "interval_method")}
         out["params"] = dict(self.params)
         out["notes"] = list(self.notes)
         return out
@@ -264,9 +300,11 @@ def fit_removal(elapsed_h, coverage_pct, *, model: str = "auto",
     k_se = float(math.sqrt(cov[k_index, k_index])) if cov[k_index, k_index] >= 0 else math.nan
     tq = float(stats.t.ppf(0.5 + confidence / 2, dof))
     k = params["k"]
+    log_k_se = k_se / k if k > 0 else math.nan
     fit = RemovalFit(
-        model=chosen, params=params, k_per_h=k, k_se=k_se, k_lower=k - tq * k_se,
-        k_upper=k + tq * k_se, time_to_50_h=math.nan, time_to_90_h=math.nan,
+        model=chosen, params=params, k_per_h=k, k_se=k_se,
+        k_lower=_scaled(k, -tq * log_k_se), k_upper=_scaled(k, tq * log_k_se),
+        log_k_se=log_k_se, df=float(dof), time_to_50_h=math.nan, time_to_90_h=math.nan,
         reached_50=False, reached_90=False, time_to_50_model_h=math.nan,
         time_to_90_model_h=math.nan, n=n, aic=aics[chosen],
         aic_other=other[0] if other else math.nan, last_h=float(t.max()),
@@ -310,9 +348,11 @@ def time_ratio(fit: RemovalFit, reference: RemovalFit, *, level_pct: float = 90.
                confidence: float = 0.95) -> TimeRatio:
     """How many times as long ``fit`` takes as ``reference`` to reach ``level_pct``.
 
-    The interval combines the two baths' delta-method standard errors of ln(time), the
-    baths being independent; normal quantile.  Raises :class:`ResponseError` when either
-    bath does not reach the level within its readings.
+    The interval combines the two baths' standard errors of ln(time) (the baths being
+    independent) with a t quantile on the Welch–Satterthwaite degrees of freedom of the
+    two baths' own degrees of freedom (:attr:`RemovalFit.df`); when both baths' variances
+    come from the same pooled coupon-to-coupon variance, on its degrees of freedom.
+    Raises :class:`ResponseError` when either bath does not reach the level within its readings.
     """
     for f, name in ((fit, bath), (reference, reference_name)):
         if f.time_to(level_pct) > f.last_h:
@@ -320,8 +360,17 @@ def time_ratio(fit: RemovalFit, reference: RemovalFit, *, level_pct: float = 90.
                 f"{name} does not reach {level_pct:g} % removal within its readings (last "
                 f"at {f.last_h:g} h), so no time ratio is given. Compare at a lower level.")
     ta, tb = fit.time_to(level_pct), reference.time_to(level_pct)
-    se = math.hypot(fit.log_time_se(level_pct), reference.log_time_se(level_pct))
-    z = float(stats.norm.ppf(0.5 + confidence / 2))
+    if level_pct in fit.log_time_coupon_mean and level_pct in reference.log_time_coupon_mean:
+        ta = math.exp(fit.log_time_coupon_mean[level_pct])  # the coupons' geometric mean
+        tb = math.exp(reference.log_time_coupon_mean[level_pct])
+    sa, sb = fit.log_time_se(level_pct), reference.log_time_se(level_pct)
+    se = math.hypot(sa, sb)
+    dfs = [f.df if math.isfinite(f.df) and f.df > 0 else 1.0 for f in (fit, reference)]
+    if fit.coupons > 1 and reference.coupons > 1:
+        df = min(dfs)  # both from the same pooled coupon-to-coupon variance
+    else:
+        df = se ** 4 / (sa ** 4 / dfs[0] + sb ** 4 / dfs[1]) if se > 0 else min(dfs)
+    z = float(stats.t.ppf(0.5 + confidence / 2, df))
     ratio = ta / tb
     lo, hi = ratio * math.exp(-z * se), ratio * math.exp(z * se)
     text = (f"{bath} takes {ratio:.2g}x as long as {reference_name} to {level_pct:g} % "
@@ -329,32 +378,8 @@ def time_ratio(fit: RemovalFit, reference: RemovalFit, *, level_pct: float = 90.
     return TimeRatio(bath, reference_name, level_pct, ratio, lo, hi, confidence, text)
 
 
-def fit_baths(timecourse: pd.DataFrame, *, model: str = "auto",
-              confidence: float = 0.95) -> tuple[pd.DataFrame, dict[str, RemovalFit], list]:
-    """Fit every bath of a long time-course table (columns bath, elapsed_h, coverage_pct).
-
-    Coupons of one bath are pooled (they are subsamples of the bath).  Returns the table
-    (one row per bath), the fits by bath and a list of ``(bath, message)`` for baths that
-    could not be fitted.
-    """
-    missing = [c for c in ("bath", "elapsed_h", "coverage_pct") if c not in timecourse]
-    if missing:
-        raise ResponseError(
-            f"time-course readings lack column(s) {missing}; got {list(timecourse.columns)}.")
-    rows, fits, failed = [], {}, []
-    for bath, grp in timecourse.groupby("bath", sort=True):
-        try:
-            fit = fit_removal(grp["elapsed_h"], grp["coverage_pct"], model=model,
-                              confidence=confidence)
-        except ResponseError as exc:
-            failed.append((str(bath), str(exc)))
-            continue
-        fits[str(bath)] = fit
-        rows.append({
-            "bath": str(bath), "kinetic_model": fit.model, "rate_constant_per_h": fit.k_per_h,
-            "rate_constant_lower": fit.k_lower, "rate_constant_upper": fit.k_upper,
-            "time_to_50_h": fit.time_to_50_h, "time_to_90_h": fit.time_to_90_h,
-            "reached_90": fit.reached_90, "time_to_90_model_h": fit.time_to_90_model_h,
-            "timecourse_n": fit.n, "kinetics_notes": " ".join(fit.notes),
-        })
-    return pd.DataFrame(rows), fits, failed
+def _scaled(value: float, log_step: float) -> float:
+    """``value * exp(log_step)``, inf (or 0) where that overflows, NaN for NaN."""
+    if not math.isfinite(log_step):
+        return math.nan if math.isnan(log_step) else (math.inf if log_step > 0 else 0.0)
+    return value * math.exp(min(log_step, 700.0))
