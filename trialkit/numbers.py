@@ -51,7 +51,8 @@ def readable(value, digits: int = 4) -> str:
 
 def readable_unit(unit: str | None) -> str:
     """A unit as a reader writes it: ``g/m**2`` -> ``g/m²``, ``degC`` -> ``°C``."""
-    return str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C")
+    return (str(unit or "").replace("**2", "²").replace("**3", "³").replace("^2", "²")
+            .replace("degC", "°C"))
 
 
 def readable_p(value) -> str:

@@ -14,6 +14,7 @@ import matplotlib.pyplot as plt
 from matplotlib.axes import Axes
 
 from trialkit.exceptions import TrialkitError
+from trialkit.numbers import readable_unit
 
 #: Okabe & Ito (2008), "Color Universal Design": colours told apart with any colour vision.
 PALETTE = ("#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -33,8 +34,8 @@ class PlotError(TrialkitError):
 
 
 def pretty(unit: str | None) -> str:
-    """A unit as a reader writes it: ``g/m**2`` -> ``g/m²``, ``degC`` -> ``°C``."""
-    return str(unit or "").replace("**2", "²").replace("**3", "³").replace("degC", "°C")
+    """A unit as a reader writes it (:func:`trialkit.numbers.readable_unit`)."""
+    return readable_unit(unit)
 
 
 def label(name: str, unit: str | None) -> str:

@@ -25,6 +25,8 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
+from trialkit.numbers import readable_unit
+
 DASH = "\u2013"
 MINUS = "\u2212"
 
@@ -79,9 +81,8 @@ def fmt_p(p: float) -> str:
 
 
 def pretty_unit(unit: str) -> str:
-    """``g/m**2`` -> ``g/m²``; ``degC`` -> ``°C``."""
-    return (str(unit or "").replace("**2", "²").replace("**3", "³").replace("^2", "²")
-            .replace("degC", "°C"))
+    """``g/m**2`` -> ``g/m²``; ``degC`` -> ``°C`` (:func:`trialkit.numbers.readable_unit`)."""
+    return readable_unit(unit)
 
 
 def _amount(effect: float, unit: str, dec: int) -> str:
