@@ -9,7 +9,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data, settings_text
+from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data
+from trialkit.numbers import settings_text
 
 
 def _result(tmp_path: Path) -> DemoResult:
@@ -19,7 +20,8 @@ def _result(tmp_path: Path) -> DemoResult:
                   {"report": tmp_path / "sweep" / "report.html",
                    "figures": [tmp_path / "sweep" / "figures" / "01.png"]},
                   {"baths": 24, "values_stored": np.int64(954), "best": np.float64(5.1),
-                   "bad": float("nan"), "recommended": {"chelator": 4.99}})
+                   "bad": float("nan"), "recommended": {"chelator": 4.99},
+                   "recommended_text": "chelator 4.99 % w/v"})
     b = DemoTrial("screen", tmp_path / "screen", "", [DemoStage("copy", "failed", "exists")])
     return DemoResult(tmp_path, [a, b])
 
@@ -47,7 +49,7 @@ def test_summary_and_reprs_name_what_did_not_run(tmp_path):
                                "recommended", "report"]
     assert s["stages_done"].tolist() == [1, 0]
     assert "recipes (skipped: the trial file has no [bath] section)" in s.loc[0, "skipped"]
-    assert s.loc[0, "recommended"] == "chelator 4.99"
+    assert s.loc[0, "recommended"] == "chelator 4.99 % w/v"
     assert res.reports == [tmp_path / "sweep" / "report.html"]
     text = repr(res)
     assert "invented" in text and "recipes: skipped" in text and "no report" in text
@@ -67,6 +69,7 @@ def test_lookups_raise_key_errors_naming_what_exists(tmp_path):
 def test_plain_data_and_settings_text():
     assert plain_data({"a": (np.float32(1.5), math.inf), 2: Path("x")}) == \
         {"a": [1.5, None], "2": "x"}
-    assert settings_text({"chelator": 5.6977, "ph": 6.227, "agitation": "periodic"}) == \
-        "chelator 5.7, ph 6.23, agitation periodic"
+    assert settings_text({"chelator": 5.6977, "ph": 6.227, "agitation": "periodic"},
+                         {"chelator": "% w/v"}) == \
+        "chelator 5.7 % w/v, pH 6.23, agitation = periodic"
     assert settings_text(None) == ""

@@ -10,11 +10,16 @@ Examples
 ['0.05163', '12346', '40', '0.00000001007', '≈ 0', '']
 >>> readable_p(1.443e-15), readable_p(0.01372)
 ('< 0.001', '0.014')
+>>> settings_text({"chelator": 3.9312, "ph": 6.2, "surfactant": "added"},
+...               {"chelator": "% w/v", "ph": "pH"})
+'chelator 3.93 % w/v, pH 6.2, surfactant = added'
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
+from typing import Any
 
 #: Column names that hold p-values.
 P_COLUMNS = frozenset({"p", "p_adjusted", "p_value", "p-value", "PR(>F)", "p adj",
@@ -63,3 +68,22 @@ def readable_p(value) -> str:
     if math.isnan(v):
         return ""
     return "< 0.001" if v < 0.001 else readable(v, 2)
+
+
+def settings_text(settings: Mapping[str, Any] | None,
+                  units: Mapping[str, str | None] | None = None, digits: int = 3) -> str:
+    """Factor settings as a person reads them: ``chelator 3.93 % w/v, pH 6.2, surfactant =
+    added``.  ``units`` maps factor names to units; a factor in pH is written ``pH 6.2``."""
+    if not settings:
+        return ""
+    units = units or {}
+    parts = []
+    for name, value in settings.items():
+        unit = readable_unit(units.get(name))
+        if isinstance(value, (bool, str)) or not hasattr(value, "__float__"):
+            parts.append(f"{name} = {value}")
+        elif unit == "pH" or (not unit and str(name).lower() == "ph"):
+            parts.append(f"pH {readable(value, digits)}")
+        else:
+            parts.append(f"{name} {readable(value, digits)}{' ' + unit if unit else ''}")
+    return ", ".join(parts)

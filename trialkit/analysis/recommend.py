@@ -12,6 +12,7 @@ import pandas as pd
 
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
+from trialkit.numbers import readable, readable_unit, settings_text
 
 #: Random starts of the desirability search besides its 8 best grid points (each start
 #: costs about a second on the shared machine; the grid already brackets the optimum).
@@ -91,22 +92,19 @@ def limit_shortfall(spec, value: float) -> float:
 
 def _limit_text(spec) -> str:
     limit = spec.unacceptable
-    unit = f" {spec.unit}" if spec.unit else ""
+    unit = f" {readable_unit(spec.unit)}" if spec.unit else ""
     if isinstance(limit, tuple):
-        return f"({limit[0]:g} to {limit[1]:g}{unit})"
-    return f"{limit:g}{unit}"
+        return f"({readable(limit[0])} to {readable(limit[1])}{unit})"
+    return f"{readable(limit)}{unit}"
 
 
 def _fmt(value: float, unit: str) -> str:
-    from trialkit.numbers import readable_unit
-
     unit = readable_unit(unit)
-    return f"{value:.3g}{(' ' + unit) if unit else ''}"
+    return f"{readable(value, 3)}{(' ' + unit) if unit else ''}"
 
 
-def _settings_text(settings: dict) -> str:
-    return ", ".join(f"{k} = {v:.3g}" if isinstance(v, float) else f"{k} = {v}"
-                     for k, v in settings.items())
+def _settings_text(data: TrialAnalysis, settings: dict) -> str:
+    return settings_text(settings, {f.name: f.unit for f in data.trial.factors})
 
 
 def _limited(data: TrialAnalysis) -> list[str]:
@@ -183,7 +181,7 @@ def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
     pred = data.fits[primary].predict(grid[ok], clip=False).predicted.to_numpy()
     k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
     new = _plain_settings(grid[ok].iloc[k])
-    reasons.append(f"Passed over {_settings_text(settings)} ({source.split(' (')[0]}): "
+    reasons.append(f"Passed over {_settings_text(data, settings)} ({source.split(' (')[0]}): "
                    f"there {said}. Recommended instead: the best {primary} among the "
                    "settings that keep every stated limit.")
     return new, (f"best {primary} among the settings that keep every stated limit "

@@ -10,6 +10,8 @@ from pathlib import Path
 
 import pandas as pd
 
+from trialkit.numbers import settings_text
+
 TWO_LEVEL_KINDS = ("full-factorial", "fractional-factorial", "plackett-burman")
 SURFACE_KINDS = ("central-composite", "box-behnken")
 
@@ -106,8 +108,8 @@ class TrialAnalysis:
             lines.append(f"  {name}: modelled on {res.fit.spec.to_text()}")
         rec = self.recommendation
         if rec is not None:
-            settings = ", ".join(f"{k} {v:.3g}" if isinstance(v, float) else f"{k} {v}"
-                                 for k, v in rec["settings"].items())
+            settings = settings_text(rec["settings"],
+                                     {f.name: f.unit for f in self.trial.factors})
             lines.append(f"  recommended: {settings}")
             lines += [f"    {r}" for r in rec.get("reasons", [])]
         if self.comparisons or self.versus_controls:

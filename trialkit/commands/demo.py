@@ -46,11 +46,8 @@ def run(args: argparse.Namespace) -> int:
         for s in t.stages:
             if not s.done:
                 print(f"  {s.name}: {s.status}" + (f" ({s.detail})" if s.detail else ""))
-        rec = n.get("recommended")
-        if rec:
-            parts = ", ".join(f"{k} {v:.3g}" if isinstance(v, (int, float)) else f"{k} {v}"
-                              for k, v in rec.items())
-            print(f"  recommended: {parts}")
+        if n.get("recommended_text"):
+            print(f"  recommended: {n['recommended_text']}")
         if t.report:
             print(f"  report: {t.report}")
     return 0

@@ -9,8 +9,6 @@ Examples
 {'name': 'plan', 'status': 'done', 'detail': '24 baths'}
 >>> DemoStage("recipes", "skipped: no [bath] section").done
 False
->>> settings_text({"chelator": 5.0, "surfactant": "added"})
-'chelator 5, surfactant added'
 """
 
 from __future__ import annotations
@@ -116,7 +114,7 @@ class DemoResult:
                          "stages_done": sum(s.done for s in t.stages),
                          "skipped": "; ".join(f"{s.name} ({s.status})" for s in t.stages
                                               if not s.done),
-                         "recommended": settings_text(t.numbers.get("recommended")),
+                         "recommended": t.numbers.get("recommended_text") or "",
                          "report": str(t.report) if t.report else ""})
         return pd.DataFrame(rows)
 
@@ -136,14 +134,6 @@ class DemoResult:
         head = (f"<p><b>trialkit demo</b> in <code>{html.escape(str(self.out_dir))}</code> "
                 "(invented example trials and readings)</p>")
         return head + self.summary.to_html(index=False, escape=True)
-
-
-def settings_text(settings: Any) -> str:
-    """``{"chelator": 5.0, "surfactant": "added"}`` -> ``"chelator 5, surfactant added"``."""
-    if not settings:
-        return ""
-    return ", ".join(f"{k} {v:.3g}" if isinstance(v, (int, float)) else f"{k} {v}"
-                     for k, v in settings.items())
 
 
 def plain_data(obj: Any) -> Any:

@@ -32,8 +32,9 @@ from typing import Any
 import pandas as pd
 
 from trialkit.demo.findings import demo_findings
-from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data, settings_text
+from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data
 from trialkit.exceptions import TrialkitError
+from trialkit.numbers import settings_text
 
 #: Stages in the order they run.
 STAGES = ("copy", "plan", "recipes", "sheets", "fill", "ingest", "responses", "analysis",
@@ -296,10 +297,15 @@ class _Runner:
             if "active" in f:
                 bits.append(f"{name}: {', '.join(f['active']) or 'nothing'} significant")
             elif "best" in f:
-                bits.append(f"{name}: best at {f['best']:.3g}")
+                bits.append(f"{name}: best at "
+                            f"{settings_text({f['factor']: f['best']}, self._units())}")
             elif "optimum" in f:
-                bits.append(f"{name}: best at {settings_text(f['optimum'])}")
+                bits.append(f"{name}: best at {settings_text(f['optimum'], self._units())}")
         return "; ".join(bits[:3]) or "no response could be analysed"
+
+    def _units(self) -> dict:
+        """Each factor's unit, for the sentences the demo prints."""
+        return {f.name: f.unit for f in self.plan.trial.factors}
 
     def _report(self) -> str:
         try:
@@ -311,6 +317,8 @@ class _Runner:
         self.t.paths["report"] = out
         rec = report.data.get("recommendation")
         self.t.numbers["recommended"] = None if rec is None else dict(rec["settings"])
+        self.t.numbers["recommended_text"] = (None if rec is None
+                                              else settings_text(rec["settings"], self._units()))
         figs = _write_figures(report, self.t.folder / FIGURES_FOLDER)
         self.t.paths["figures"] = figs
         missing = [s.title for s in report.sections if not s.available]

@@ -10,6 +10,7 @@ trial when the best lies at the edge of the region).  Written from the numbers o
 from __future__ import annotations
 
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis
+from trialkit.numbers import settings_text
 from trialkit.report.document import Block
 from trialkit.report.findings import pretty_unit
 
@@ -34,17 +35,7 @@ def strength(data: TrialAnalysis, response: str) -> tuple[str, str]:
 
 
 def _settings(settings: dict, trial) -> str:
-    units = {f.name: f.unit for f in trial.factors}
-    parts = []
-    for k, v in settings.items():
-        if isinstance(v, float):
-            unit = pretty_unit(units.get(k) or "")
-            unit = "" if unit in ("", "pH") else f" {unit}"
-            parts.append(f"pH {v:.3g}" if units.get(k) == "pH" or k == "ph"
-                         else f"{k} {v:.3g}{unit}")
-        else:
-            parts.append(f"{k} = {v}")
-    return ", ".join(parts)
+    return settings_text(settings, {f.name: f.unit for f in trial.factors})
 
 
 def _at_edge(data: TrialAnalysis) -> list[str]:
