@@ -116,3 +116,40 @@ def test_null_whole_plot_factor_false_positive_rate_by_simulation():
     assert right <= 0.06 + se  # exact F test: nominal 5 %
     assert right >= 0.05 - 3 * se
     assert naive > 0.25  # tested against bath-to-bath error, the null is rejected often
+
+
+def _run_cli(*argv: str):
+    import subprocess
+    import sys
+    return subprocess.run([sys.executable, "-m", "trialkit", *argv], capture_output=True,
+                          text=True, check=False)
+
+
+def test_cli_table_with_whole_plot_column(tmp_path):
+    # the published data above through the command line: every row states its stratum
+    data, published = _paper()
+    data = data.rename(columns={"day": "block"})
+    path = tmp_path / "baths.csv"
+    data.to_csv(path, index=False)
+    argv = ["analyze", str(path), "--response", "strength", "--factor",
+            "method:categorical", "--factor", "temperature:categorical",
+            "--hard-to-change", "method", "--whole-plot", "wp", "--json"]
+    done = _run_cli(*argv)
+    assert done.returncode == 0, done.stderr
+    out = json.loads(done.stdout)
+    rows = {r["term"]: r for r in out["rows"]}
+    assert rows["method"]["error_stratum"] == "whole plot" and rows["method"]["error_df"] == 4
+    assert rows["temperature"]["error_df"] == 18
+    assert rows["method"]["sum_sq"] == pytest.approx(published["method"]["sum_sq"], abs=0.01)
+    assert "balanced" in out["method"]
+    # one bath missing: unbalanced, so REML with stated df
+    data.iloc[1:].to_csv(path, index=False)
+    done = _run_cli(*argv)
+    assert done.returncode == 0, done.stderr
+    out = json.loads(done.stdout)
+    assert out["method"].startswith("REML")
+    assert {t["term"]: t["error_stratum"] for t in out["tests"]}["method"] == "whole plot"
+    # no hard-to-change factor named: a clear message, no traceback
+    done = _run_cli(*argv[:7], "--whole-plot", "wp")
+    assert done.returncode != 0 and "Traceback" not in done.stderr
+    assert "--hard-to-change" in done.stderr + done.stdout
