@@ -8,7 +8,9 @@ Modules: :mod:`~trialkit.analysis.model` (fit), :mod:`~trialkit.analysis.anova` 
 :mod:`~trialkit.analysis.surface`, :mod:`~trialkit.analysis.sweep`,
 :mod:`~trialkit.analysis.desirability`, :mod:`~trialkit.analysis.confirm`,
 :mod:`~trialkit.analysis.pipeline` (everything for one response),
-:mod:`~trialkit.analysis.config` (the ``[analysis]`` trial-file section).
+:mod:`~trialkit.analysis.config` (the ``[analysis]`` trial-file section),
+:mod:`~trialkit.analysis.split_plot` (exact two-stratum ANOVA of a balanced split plot) and
+:mod:`~trialkit.analysis.split_plot_mixed` (the same by REML with statsmodels MixedLM).
 :mod:`~trialkit.analysis.trial_analysis` analyses a whole trial folder once
 (``trialkit.analyze``) into a :class:`~trialkit.analysis.trial_data.TrialAnalysis`, with the
 recommendation of :mod:`~trialkit.analysis.recommend`.
@@ -48,6 +50,10 @@ _EXPORTS: dict[str, str] = {
     "AnalysisResult": "trialkit.analysis.pipeline",
     "factors_from_table": "trialkit.analysis.data",
     "AnalysisConfig": "trialkit.analysis.config",
+    "split_plot_anova": "trialkit.analysis.split_plot",
+    "SplitPlotAnova": "trialkit.analysis.split_plot",
+    "split_plot_mixed_model": "trialkit.analysis.split_plot_mixed",
+    "SplitPlotMixedFit": "trialkit.analysis.split_plot_mixed",
 }
 
 __all__ = sorted(_EXPORTS)

@@ -50,6 +50,13 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--all", dest="whole_trial", action="store_true",
                         help="trial folders: every response, the recommendation and the "
                         "notes, as the report shows them")
+    parser.add_argument("--whole-plot", dest="whole_plot", metavar="COLUMN",
+                        help="plain tables: column naming each bath's whole plot (tank or "
+                        "run); analyses a split plot with the right error strata")
+    parser.add_argument("--hard-to-change", dest="hard_to_change", metavar="NAME",
+                        action="append", default=[],
+                        help="with --whole-plot: a factor set per whole plot (repeat); the "
+                        "other --factor columns vary within whole plots")
     parser.add_argument("--json", action="store_true", help="print JSON")
 
 
@@ -74,6 +81,8 @@ def run(args: argparse.Namespace) -> int:
         if args.factor:
             names = [s.partition(":")[0] for s in args.factor]
             source.factors = tuple(f for f in source.factors if f.name in names)
+    elif args.whole_plot:
+        return _split_plot(args, read_table(path), path)
     else:
         table = read_table(path)
         source = AnalysisSource(table, factors_from_table(table, args.factor),
@@ -144,6 +153,41 @@ def _compromise(args: argparse.Namespace, source) -> int:
         print_json(out)
     else:
         print(repr(res))
+    return 0
+
+
+def _split_plot(args: argparse.Namespace, table, path: Path) -> int:
+    """A plain table with a whole-plot column: exact two-stratum ANOVA when balanced, REML
+    (statsmodels MixedLM) otherwise.  Rows are baths (coupons averaged within a bath)."""
+    from trialkit.analysis.split_plot import split_plot_anova
+    from trialkit.analysis.split_plot_mixed import split_plot_mixed_model
+    from trialkit.exceptions import AnalysisError
+
+    names = [s.partition(":")[0] for s in args.factor]
+    hard = list(args.hard_to_change)
+    easy = [n for n in names if n not in hard]
+    if not hard or not easy or not args.response:
+        raise AnalysisError("--whole-plot needs --response, at least one --hard-to-change "
+                            "factor and at least one other --factor (easy to change)")
+    _check_response(table, args.response)
+    block = args.block if args.block in table.columns else None
+    split = dict(whole_plot_factors=hard, subplot_factors=easy, whole_plot=args.whole_plot,
+                 block=block)
+    try:
+        result = split_plot_anova(table, args.response, **split)
+        method = "exact two-stratum ANOVA (balanced)"
+    except AnalysisError as err:
+        if "not balanced" not in str(err) and "not replicated" not in str(err):
+            raise
+        result = split_plot_mixed_model(table, args.response, **split)
+        method = "REML (statsmodels MixedLM), whole plot random"
+    if args.json:
+        out = result.to_dict()
+        out.update(source=str(path), method=method,
+                   unit_of_analysis="bath (coupons within a bath are subsamples)")
+        print_json(out)
+    else:
+        print(f"{method}; rows are baths\n{result!r}")
     return 0
 
 
