@@ -1,0 +1,62 @@
+"""Synthetic coupon photographs with a known rusted area, for the photo tests.
+
+Invented scenes (no real photographs): a grey steel plate on a plain background with
+rust-coloured patches whose pixel area is known exactly, optionally under a colour cast,
+with sensor noise and lens blur.  The truth is the patch pixels over the plate pixels.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.ndimage import gaussian_filter
+
+STEEL = (0.55, 0.55, 0.57)       # bare grey steel (sRGB, 0..1)
+RUST = (0.58, 0.32, 0.16)        # orange-brown rust
+BACKGROUND = (0.92, 0.92, 0.90)  # plain light paper
+CARD = (0.75, 0.75, 0.75)        # a neutral grey card
+
+
+@dataclass
+class Scene:
+    rgb: np.ndarray          # (h, w, 3) uint8
+    truth_pct: float         # rust pixels / plate pixels, percent
+    plate: tuple             # (x0, y0, x1, y1)
+    card: tuple | None       # (x0, y0, x1, y1)
+    rust: np.ndarray         # (h, w) bool: the rust pixels as drawn
+
+
+def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0),
+           noise=0.02, blur=1.0, card=False, background=BACKGROUND) -> Scene:
+    """A photo whose plate has about ``target_pct`` % rust (the exact truth is returned)."""
+    rng = np.random.default_rng(seed)
+    h, w = size
+    img = np.empty((h, w, 3))
+    img[:] = background
+    x0, y0, x1, y1 = int(0.15 * w), int(0.2 * h), int(0.7 * w), int(0.8 * h)
+    plate = np.zeros((h, w), bool)
+    plate[y0:y1, x0:x1] = True
+    # rust patches: a smooth random field cut at the plate's quantile gives blobs of an
+    # exactly known pixel count
+    field = gaussian_filter(rng.normal(size=(h, w)), sigma=min(h, w) / 25)
+    vals = field[plate]
+    n_rust = int(round(target_pct / 100 * vals.size))
+    rust = np.zeros((h, w), bool)
+    if n_rust:
+        order = np.argsort(vals)[::-1][:n_rust]
+        flat = np.zeros(vals.size, bool)
+        flat[order] = True
+        rust[plate] = flat
+    img[plate] = STEEL
+    img[rust] = RUST
+    cbox = None
+    if card:
+        cbox = (int(0.78 * w), int(0.1 * h), int(0.95 * w), int(0.35 * h))
+        img[cbox[1]:cbox[3], cbox[0]:cbox[2]] = CARD
+    img = img * np.asarray(cast)[None, None, :]
+    if blur:
+        img = gaussian_filter(img, sigma=(blur, blur, 0))
+    img = img + rng.normal(scale=noise, size=img.shape)
+    rgb = (np.clip(img, 0, 1) * 255).round().astype(np.uint8)
+    return Scene(rgb, 100.0 * n_rust / plate.sum(), (x0, y0, x1, y1), cbox, rust)
