@@ -178,8 +178,11 @@ def _timecourse(data: TrialAnalysis, timecourse: pd.DataFrame | None) -> None:
     if timecourse is None and data.log is not None:
         try:
             from trialkit.responses.compute import timecourse_from_log
+            from trialkit.responses.coverage_source import coverage_source, use_coverage_long
 
-            tc = timecourse_from_log(data.log.current_timecourse(), data.plan.table)
+            long = use_coverage_long(data.log.current_timecourse(),
+                                     coverage_source(data.trial))
+            tc = timecourse_from_log(long, data.plan.table)
             timecourse = tc if len(tc) else None
         except (ImportError, TrialkitError):
             timecourse = None
