@@ -73,7 +73,18 @@ def overlay_image(m: PhotoCoverage) -> np.ndarray:
 
 def overlay_name(m: PhotoCoverage) -> str:
     """File name of the overlay: the photo's stem and the start of its SHA-256."""
-    return f"{Path(m.photo).stem}-{m.sha256[:10]}.png"
+    return overlay_file_name(m.photo, m.sha256)
+
+
+def overlay_file_name(photo: str, sha256: str) -> str:
+    """File name of the overlay of the photo called ``photo`` with hash ``sha256``.
+
+    Examples
+    --------
+    >>> overlay_file_name("B01-R1_after.jpg", "ab" * 32)
+    'B01-R1_after-ababababab.png'
+    """
+    return f"{Path(photo).stem}-{sha256[:10]}.png"
 
 
 def write_overlay(m: PhotoCoverage, folder: str | os.PathLike) -> Path:

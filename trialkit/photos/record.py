@@ -34,7 +34,7 @@ import pandas as pd
 
 from trialkit.exceptions import PhotoError
 from trialkit.photos.measure import PhotoCoverage, measure_coverage
-from trialkit.photos.overlay import OVERLAY_FOLDER, write_overlay
+from trialkit.photos.overlay import OVERLAY_FOLDER, overlay_file_name, write_overlay
 from trialkit.photos.settings import PhotoSettings, photo_settings
 from trialkit.records.fields import PHOTO_COVERAGE_FIELDS
 
@@ -225,3 +225,37 @@ def record_photos(folder: str | os.PathLike, photos: Iterable[str | os.PathLike]
         rows.append(_row(m, overlay, t, res.status))
     return PhotoBatch(found, pd.DataFrame(rows, columns=list(TABLE_COLUMNS)), settings,
                       trial_folder)
+
+
+PHOTO_TABLE_COLUMNS = ("coupon", "inspection", "reading", "rust_pct", "revision", "photo",
+                       "method", "sha256", "overlay", "ingested_at")
+
+
+def photo_readings(history: pd.DataFrame, folder: str | os.PathLike) -> pd.DataFrame:
+    """Every coverage a photo gave, from the record log's history, with its overlay file.
+
+    Parameters
+    ----------
+    history : DataFrame
+        ``RecordLog.history()``.
+    folder : path-like
+        The trial folder (its ``photo-overlays/``).
+
+    Returns
+    -------
+    DataFrame
+        ``coupon, inspection, reading, rust_pct, revision, photo, method, sha256, overlay,
+        ingested_at``; ``overlay`` is the overlay's path, or ``""`` when the file is not
+        there (moved, or the log copied without it).
+    """
+    if history is None or not len(history):
+        return pd.DataFrame(columns=list(PHOTO_TABLE_COLUMNS))
+    rows = history[history["source"].astype(str).str.startswith(SOURCE_PREFIX)]
+    out = []
+    for r in rows.itertuples(index=False):
+        name, _, method = str(r.source)[len(SOURCE_PREFIX):].partition(": ")
+        path = Path(folder) / OVERLAY_FOLDER / overlay_file_name(name, str(r.sha256))
+        out.append((r.coupon, int(r.inspection), r.field, float(r.value), int(r.revision),
+                    name, method, r.sha256, str(path) if path.exists() else "",
+                    r.ingested_at))
+    return pd.DataFrame(out, columns=list(PHOTO_TABLE_COLUMNS))
