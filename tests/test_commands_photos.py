@@ -6,9 +6,9 @@ from __future__ import annotations
 import json
 
 from malformed_sheets.make_corpus import make_test_plan
-from photo_scenes import render
 from PIL import Image
 
+from trialkit.demo.photo_scenes import render
 from trialkit.records.log import RecordLog
 
 

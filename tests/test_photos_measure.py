@@ -9,9 +9,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from photo_scenes import render
 from PIL import Image
 
+from trialkit.demo.photo_scenes import render
 from trialkit.exceptions import PhotoError
 from trialkit.photos.measure import measure_coverage, rustness
 from trialkit.photos.settings import PhotoSettings

@@ -8,9 +8,9 @@ import hashlib
 import numpy as np
 import pytest
 from malformed_sheets.make_corpus import fill_csv, make_test_plan
-from photo_scenes import render
 from PIL import Image
 
+from trialkit.demo.photo_scenes import render
 from trialkit.exceptions import PhotoError
 from trialkit.photos.record import photo_target, record_photos, target_of
 from trialkit.records.log import RecordLog

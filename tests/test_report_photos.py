@@ -9,11 +9,11 @@ import base64
 import numpy as np
 import pytest
 from malformed_sheets.make_corpus import fill_csv, make_test_plan
-from photo_scenes import render
 from PIL import Image
 
 from trialkit.analysis.agreement import bland_altman
 from trialkit.analysis.trial_analysis import analyze
+from trialkit.demo.photo_scenes import render
 from trialkit.photos.record import record_photos
 from trialkit.records.sheets import export_csv, ingest_sheet
 from trialkit.report.build import build_report

@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import pytest
 from malformed_sheets.make_corpus import fill_csv, make_test_plan, write_trial
-from photo_scenes import render
 from PIL import Image
 
+from trialkit.demo.photo_scenes import render
 from trialkit.exceptions import TrialFileError
 from trialkit.photos.record import record_photos
 from trialkit.records.log import RecordLog

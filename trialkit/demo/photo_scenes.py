@@ -1,8 +1,15 @@
-"""Synthetic coupon photographs with a known rusted area, for the photo tests.
+"""Invented coupon photographs with a known rusted area (for the tests and the example).
 
-Invented scenes (no real photographs): a grey steel plate on a plain background with
-rust-coloured patches whose pixel area is known exactly, optionally under a colour cast,
-with sensor noise and lens blur.  The truth is the patch pixels over the plate pixels.
+Invented scenes, not photographs: a grey steel plate on a plain background with
+rust-coloured patches whose pixel area is known exactly, optionally under a colour cast
+and with a grey card in the frame, with sensor noise and lens blur.  The truth is the
+patch pixels over the plate pixels.
+
+Examples
+--------
+>>> scene = render(30.0, seed=1, size=(120, 160))
+>>> scene.rgb.shape, round(scene.truth_pct, 2)
+((120, 160, 3), 30.0)
 """
 
 from __future__ import annotations
@@ -20,6 +27,8 @@ CARD = (0.75, 0.75, 0.75)        # a neutral grey card
 
 @dataclass
 class Scene:
+    """An invented photo (``rgb``, uint8) and its truth."""
+
     rgb: np.ndarray          # (h, w, 3) uint8
     truth_pct: float         # rust pixels / plate pixels, percent
     plate: tuple             # (x0, y0, x1, y1)
@@ -29,7 +38,12 @@ class Scene:
 
 def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0),
            noise=0.02, blur=1.0, card=False, background=BACKGROUND) -> Scene:
-    """A photo whose plate has about ``target_pct`` % rust (the exact truth is returned)."""
+    """A photo whose plate has about ``target_pct`` % rust (the exact truth is returned).
+
+    ``cast`` multiplies the R, G, B channels (a colour cast of the light), ``card`` puts a
+    neutral grey card in the top right, ``noise`` is the SD of Gaussian sensor noise and
+    ``blur`` the sigma (pixels) of a Gaussian lens blur.
+    """
     rng = np.random.default_rng(seed)
     h, w = size
     img = np.empty((h, w, 3))
@@ -59,4 +73,4 @@ def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0
         img = gaussian_filter(img, sigma=(blur, blur, 0))
     img = img + rng.normal(scale=noise, size=img.shape)
     rgb = (np.clip(img, 0, 1) * 255).round().astype(np.uint8)
-    return Scene(rgb, 100.0 * n_rust / plate.sum(), (x0, y0, x1, y1), cbox, rust)
+    return Scene(rgb, 100.0 * n_rust / int(plate.sum()), (x0, y0, x1, y1), cbox, rust)
