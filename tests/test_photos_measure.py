@@ -235,3 +235,24 @@ def test_result_to_dict_and_repr(tmp_path):
     assert json.loads(json.dumps(d))["rust_pct"] == pytest.approx(m.rust_pct)
     assert d["settings"]["threshold"] == "otsu" and "CIELAB" in d["method"]
     assert "rust_pct=" in repr(m) and "ndarray" not in repr(m)
+
+
+@pytest.mark.parametrize("pct", [0, 30, 100])
+def test_grey_card_found_without_a_box(tmp_path, pct):
+    # card = "auto": the grey card of the scene is found and corrects the amber cast
+    scene = render(pct, seed=400 + pct, size=SMALL, cast=(1.2, 1.0, 0.75), card=True)
+    m = measure_coverage(_save(scene, tmp_path), PhotoSettings(card="auto"))
+    assert m.white_balance == "grey card" and any("grey card found" in n for n in m.notes)
+    x0, y0, x1, y1 = scene.card
+    found = next(n for n in m.notes if "grey card found" in n)
+    fx0, fy0, fx1, fy1 = json.loads(found.split(" at ")[1].split(" (")[0])
+    assert x0 <= fx0 < fx1 <= x1 and y0 <= fy0 < fy1 <= y1
+    assert abs(m.rust_pct - scene.truth_pct) <= 3.0
+
+
+def test_auto_card_without_a_card_in_the_frame_says_so(tmp_path):
+    scene = render(30, seed=410, size=SMALL)
+    m = measure_coverage(_save(scene, tmp_path), PhotoSettings(card="auto"))
+    assert m.white_balance == "none" and m.gains == (1.0, 1.0, 1.0)
+    assert any("no grey card found" in n for n in m.notes)
+    assert abs(m.rust_pct - scene.truth_pct) <= 2.0

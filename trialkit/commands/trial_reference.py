@@ -142,8 +142,8 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
                           "photos with 'trialkit photos' (both are kept in the record log)"),
         "region": ("[x0, y0, x1, y1] pixels", "found by its outline", "the coupon's box in "
                    "every photo of the series"),
-        "card": ("[x0, y0, x1, y1] pixels", "none", "a grey or white card's box: corrects "
-                 "the white balance"),
+        "card": ("[x0, y0, x1, y1] pixels or \"auto\"", "none", "a grey or white card's "
+                 "box, or auto to find a grey card in the frame: corrects the white balance"),
         "threshold": ("otsu | marked", '"otsu"', "rust against steel by Otsu's threshold on "
                       "the CIELAB rust-ness, or half-way between marked pixels"),
         "rust_pixels": ("list of [x, y]", "[]", "pixels marked as rust (threshold = marked)"),

@@ -3,8 +3,9 @@
 Method (every setting is recorded with the result, :class:`PhotoCoverage`):
 
 1. **Read** the photo upright (:func:`trialkit.photos.reading.read_photo`).
-2. **White balance** (when a card box is given): each channel is scaled so that the
-   card's median colour becomes neutral grey of the same mean (a von Kries-type gain;
+2. **White balance** (when a card box is given, or ``card = "auto"`` finds a grey card:
+   :mod:`trialkit.photos.card`): each channel is scaled so that the card's median colour
+   becomes neutral grey of the same mean (a von Kries-type gain;
    applied to the sRGB values, which for the near power-law sRGB curve is close to the
    same gain on linear light).
 3. **Coupon**: the box the user gives (``region``), or found by its outline: the colour
@@ -59,6 +60,7 @@ import numpy as np
 
 from trialkit.exceptions import EXIT_REFUSED, PhotoError
 from trialkit.photos.reading import Photo, read_photo
+from trialkit.photos.regions import MIN_CONTRAST, foreground_labels
 from trialkit.photos.settings import PhotoSettings
 from trialkit.responses.rust_grade import d610_grade
 
@@ -66,12 +68,9 @@ from trialkit.responses.rust_grade import d610_grade
 #: yellow (90), where iron oxides and hydroxides lie (common practice: rust is
 #: orange-brown).
 RUST_HUE_DEG = 60.0
-#: The coupon found by its outline must cover at least this share of the photo.
+#: The coupon found by its outline must cover at least this share of the photo (and
+#: differ from the background by MIN_CONTRAST, see trialkit.photos.regions).
 MIN_COUPON_SHARE = 0.02
-#: ... and differ from the background by at least this much (CIE76 ΔE, median).
-MIN_CONTRAST = 8.0
-#: Width of the photo's outer frame whose median colour is the background (share of side).
-FRAME = 0.03
 
 
 @dataclass
@@ -177,26 +176,38 @@ def _scaled_box(box, photo: Photo, what: str) -> tuple[int, int, int, int]:
     return b
 
 
-def _white_balance(photo: Photo, settings: PhotoSettings) -> tuple[np.ndarray, tuple]:
+def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
+                   ) -> tuple[np.ndarray, tuple, tuple | None]:
+    """(balanced rgb, gains, the card's box in measured pixels or None)."""
     if settings.card is None:
-        return photo.rgb, (1.0, 1.0, 1.0)
-    x0, y0, x1, y1 = _scaled_box(settings.card, photo, "card")
+        return photo.rgb, (1.0, 1.0, 1.0), None
+    if settings.card == "auto":
+        from trialkit.photos.card import find_card
+
+        box = find_card(photo.rgb)
+        if box is None:
+            notes.append("no grey card found in the frame: no white-balance correction")
+            return photo.rgb, (1.0, 1.0, 1.0), None
+        shown = [round(v / photo.scale) for v in box]
+        notes.append(f"grey card found at {shown} (x0, y0, x1, y1)")
+        what = f"found at {shown}"
+    else:
+        box = _scaled_box(settings.card, photo, "card")
+        what = f"box {list(settings.card)}"
+    x0, y0, x1, y1 = box
     card = np.median(photo.rgb[y0:y1, x0:x1].reshape(-1, 3), axis=0)
     if float(card.min()) < 0.05:
-        raise PhotoError(f"{photo.path}: the card box {list(settings.card)} is nearly black "
-                         f"in one channel (median {np.round(card, 3).tolist()}); it cannot set "
-                         "the white balance. Check the card box.", exit_code=EXIT_REFUSED)
+        raise PhotoError(f"{photo.path}: the card ({what}) is nearly black in one channel "
+                         f"(median {np.round(card, 3).tolist()}); it cannot set the white "
+                         "balance. Check the card box.", exit_code=EXIT_REFUSED)
     gains = card.mean() / card
-    return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains)
+    return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains), box
 
 
-def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings) -> np.ndarray:
+def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
+                 card: tuple | None) -> np.ndarray:
     """Boolean mask of the coupon (the region's box, or the largest outlined region)."""
     from scipy.ndimage import binary_fill_holes
-    from skimage.color import deltaE_cie76
-    from skimage.filters import gaussian, threshold_otsu
-    from skimage.measure import label
-    from skimage.morphology import disk, opening
 
     h, w = lab.shape[:2]
     mask = np.zeros((h, w), bool)
@@ -204,33 +215,22 @@ def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings) -> np.n
         x0, y0, x1, y1 = _scaled_box(settings.region, photo, "region")
         mask[y0:y1, x0:x1] = True
     else:
-        f = max(2, int(round(FRAME * min(h, w))))
-        frame = np.concatenate([lab[:f].reshape(-1, 3), lab[-f:].reshape(-1, 3),
-                                lab[:, :f].reshape(-1, 3), lab[:, -f:].reshape(-1, 3)])
-        background = np.median(frame, axis=0)
-        diff = gaussian(deltaE_cie76(lab, background[None, None, :]), sigma=1.0,
-                        preserve_range=True)
-        if settings.card is not None:
-            cx0, cy0, cx1, cy1 = _scaled_box(settings.card, photo, "card")
-            diff[cy0:cy1, cx0:cx1] = 0.0
-        if float(np.ptp(diff)) > 0:
-            cut = max(float(threshold_otsu(diff)), MIN_CONTRAST / 2)
-            fg = opening(diff > cut, disk(2))
-            labels = label(fg, connectivity=2)
-            if labels.max() > 0:
-                sizes = np.bincount(labels.ravel())
-                sizes[0] = 0
-                mask = binary_fill_holes(labels == int(np.argmax(sizes)))
+        labels, diff = foreground_labels(lab, exclude=card)
+        if labels.max() > 0:
+            sizes = np.bincount(labels.ravel())
+            sizes[0] = 0
+            mask = binary_fill_holes(labels == int(np.argmax(sizes)))
         contrast = float(np.median(diff[mask])) if mask.any() else 0.0
         if mask.sum() < MIN_COUPON_SHARE * h * w or contrast < MIN_CONTRAST:
             raise PhotoError(
                 f"{photo.path}: no coupon found (no region of at least "
                 f"{MIN_COUPON_SHARE:.0%} of the photo stands out from the background by "
                 f"{MIN_CONTRAST:g} CIELAB units). Photograph the coupon on a plain "
-                "background of another colour (white, black or blue), or give its box with "
-                "--region / [photos] region.", exit_code=EXIT_REFUSED)
-    if settings.card is not None:
-        cx0, cy0, cx1, cy1 = _scaled_box(settings.card, photo, "card")
+                "background of another colour (white, black or blue) with a margin of "
+                "background all round, or give its box with --region / [photos] region.",
+                exit_code=EXIT_REFUSED)
+    if card is not None:
+        cx0, cy0, cx1, cy1 = card
         mask[cy0:cy1, cx0:cx1] = False
     if not mask.any():
         raise PhotoError(f"{photo.path}: the coupon region is empty once the card box is "
@@ -307,9 +307,10 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
 
     settings = settings or PhotoSettings()
     photo = read_photo(path, max_side=settings.max_side)
-    rgb, gains = _white_balance(photo, settings)
+    notes = list(photo.notes)
+    rgb, gains, card = _white_balance(photo, settings, notes)
     lab = rgb2lab(rgb)
-    mask = _find_coupon(photo, lab, settings)
+    mask = _find_coupon(photo, lab, settings, card)
     r = rustness(lab)
     if settings.smoothing > 0:
         r = gaussian(r, sigma=settings.smoothing, preserve_range=True)
@@ -318,7 +319,6 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
     rust = mask & (r > threshold)
     n_coupon, n_rust = int(mask.sum()), int(rust.sum())
     pct = 100.0 * n_rust / n_coupon
-    notes = list(photo.notes)
     if rule == "fixed cut" and separation is not None \
             and separation >= settings.min_separation:
         notes.append(f"the coupon's colours form two classes {separation:.1f} apart on the "
@@ -332,7 +332,7 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
         photo=photo.path.name, sha256=photo.sha256, rust_pct=pct, d610_grade=d610_grade(pct),
         coupon_px=n_coupon, rust_px=n_rust,
         coupon_found_by="region" if settings.region is not None else "outline",
-        white_balance="grey card" if settings.card is not None else "none", gains=gains,
+        white_balance="grey card" if card is not None else "none", gains=gains,
         rule=rule, threshold=threshold, separation=separation,
         size=(rgb.shape[1], rgb.shape[0]), scale=photo.scale, settings=settings, notes=notes,
         path=photo.path, rgb=rgb, coupon_mask=mask, rust_mask=rust)

@@ -5,7 +5,8 @@ Keys (all optional)::
     [photos]
     coverage_from = "hand"        # hand | photo: which coverage readings the analysis uses
     region = [40, 30, 600, 420]   # the coupon's box in the photos, x0, y0, x1, y1 (pixels)
-    card = [620, 20, 700, 100]    # a grey or white card's box, for the white balance
+    card = [620, 20, 700, 100]    # a grey or white card's box, for the white balance,
+                                  # or "auto": a grey card found in the frame
     threshold = "otsu"            # otsu | marked
     rust_pixels = [[120, 80]]     # pixels marked as rust (x, y), for threshold = "marked"
     steel_pixels = [[300, 200]]   # pixels marked as bare steel
@@ -59,8 +60,9 @@ class PhotoSettings:
     region : tuple or None
         The coupon's box ``(x0, y0, x1, y1)`` in pixels of the photo as it is viewed (EXIF
         orientation applied); None: find the coupon by its outline.
-    card : tuple or None
-        A grey or white card's box; None: no white-balance correction.
+    card : tuple, "auto" or None
+        A grey or white card's box; ``"auto"``: find a grey card in the frame
+        (:mod:`trialkit.photos.card`); None: no white-balance correction.
     threshold : str
         ``"otsu"`` (Otsu's threshold on the rust-ness of the coupon's pixels) or
         ``"marked"`` (half-way between the marked rust and steel pixels).
@@ -83,7 +85,7 @@ class PhotoSettings:
 
     coverage_from: str = "hand"
     region: Box | None = None
-    card: Box | None = None
+    card: Box | str | None = None
     threshold: str = "otsu"
     rust_pixels: tuple[Pixel, ...] = ()
     steel_pixels: tuple[Pixel, ...] = ()
@@ -100,7 +102,7 @@ class PhotoSettings:
         """Plain data for JSON (boxes and pixels as lists)."""
         d = asdict(self)
         for key in ("region", "card"):
-            d[key] = list(d[key]) if d[key] is not None else None
+            d[key] = list(d[key]) if isinstance(d[key], tuple) else d[key]
         d["rust_pixels"] = [list(p) for p in self.rust_pixels]
         d["steel_pixels"] = [list(p) for p in self.steel_pixels]
         return d
@@ -177,7 +179,9 @@ def parse_photos_section(raw: Any, trial: Any, problems: ProblemReport,
                              value=raw[key], fix=f'write e.g. {key} = "{allowed[0]}"',
                              check="unknown_choice")
     for key in ("region", "card"):
-        if key in raw:
+        if key == "card" and raw.get(key) == "auto":
+            out[key] = "auto"
+        elif key in raw:
             out[key] = _box(raw[key], key, where, problems)
     for key in ("rust_pixels", "steel_pixels"):
         if key in raw:
