@@ -35,7 +35,7 @@ def test_text_output_and_overlays(cli, tmp_path):
     a, scene = _photo(tmp_path, "a.png", 25, 3)
     res = cli("photos", str(a), "--overlays", str(tmp_path / "ov"))
     assert res.returncode == 0, res.stderr
-    assert "a.png: " in res.stdout and "% rusted (ASTM D610 grade 2" in res.stdout
+    assert "a.png: " in res.stdout and "ASTM D610 grade 2;" in res.stdout
     assert len(list((tmp_path / "ov").glob("a-*.png"))) == 1
 
 

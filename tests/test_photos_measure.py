@@ -62,7 +62,7 @@ def test_clean_coupon_has_no_invented_rust_and_rusted_all_over_no_invented_steel
     # Otsu on one class of colour would split its noise in two: the fixed cut decides
     clean = measure_coverage(_save(render(0, seed=3, size=SMALL), tmp_path, "a.png"))
     full = measure_coverage(_save(render(100, seed=4, size=SMALL), tmp_path, "b.png"))
-    assert clean.rule == full.rule == "fixed cut"
+    assert clean.rule == full.rule == "fixed"
     assert clean.rust_pct == 0.0 and clean.d610_grade == 10  # ASTM D610: <= 0.01 % is 10
     assert full.rust_pct == 100.0 and full.d610_grade == 0   # ASTM D610: > 50 % is 0
     assert any("one class" in n for n in clean.notes)
@@ -256,3 +256,24 @@ def test_auto_card_without_a_card_in_the_frame_says_so(tmp_path):
     assert m.white_balance == "none" and m.gains == (1.0, 1.0, 1.0)
     assert any("no grey card found" in n for n in m.notes)
     assert abs(m.rust_pct - scene.truth_pct) <= 2.0
+
+
+def test_sensitivity_to_the_cut(tmp_path):
+    # a crisp two-colour coupon: no rust pixel within 5 above the cut, so raising it
+    # changes nothing (Otsu's cut on two exact colours sits at the steel's edge: the first
+    # of equal maxima, so lowering it can take in steel); a blurred one: the edges move
+    # with the cut, the range widens and holds the share
+    crisp = render(40, seed=51, size=SMALL, noise=0.0, blur=0.0)
+    m = measure_coverage(_save(crisp, tmp_path, "crisp.png"),
+                         PhotoSettings(region=crisp.plate, smoothing=0.0))
+    assert m.rust_pct_low == m.rust_pct == pytest.approx(crisp.truth_pct)
+    assert m.rust_pct_high >= m.rust_pct
+    soft = render(40, seed=51, size=SMALL, blur=3.0)
+    s = measure_coverage(_save(soft, tmp_path, "soft.png"))
+    assert s.rust_pct_low < s.rust_pct < s.rust_pct_high
+    r = s.rgb  # the share with the cut moved, recomputed from the classified pixels
+    from skimage.color import rgb2lab
+    from skimage.filters import gaussian
+
+    v = gaussian(rustness(rgb2lab(r)), sigma=1.0, preserve_range=True)[s.coupon_mask]
+    assert s.rust_pct_high == pytest.approx(100 * np.mean(v > s.threshold - 5.0))

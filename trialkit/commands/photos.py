@@ -101,8 +101,9 @@ def run(args: argparse.Namespace) -> int:
         where = (f" -> {row['coupon']} {row['field']}"
                  + (f" (inspection {row['inspection']})" if row["inspection"] else "")
                  + f": {row['status']}") if row["coupon"] else ""
-        print(f"{m.photo}: {m.rust_pct:.1f} % rusted (ASTM D610 grade {m.d610_grade}; "
-              f"{m.rule} cut {m.threshold:.1f}){where}")
+        print(f"{m.photo}: {m.rust_pct:.1f} % rusted ({m.rust_pct_low:.1f}-"
+              f"{m.rust_pct_high:.1f} with the cut moved 5 either way; ASTM D610 grade "
+              f"{m.d610_grade}; {m.rule} cut {m.threshold:.1f}){where}")
         for note in m.notes:
             print(f"  - {note}")
         if row["overlay"]:

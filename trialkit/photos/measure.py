@@ -27,7 +27,11 @@ Method (every setting is recorded with the result, :class:`PhotoCoverage`):
    steel, so the fixed cut ``rust_cut`` decides instead, and the result says so.  With
    ``threshold = "marked"`` the cut lies half-way between the mean rust-ness of the pixels
    marked as rust and those marked as steel.
-6. **Share**: rust pixels / coupon pixels, in percent.
+6. **Share**: rust pixels / coupon pixels, in percent; and the shares with the cut moved
+   :data:`CUT_SENSITIVITY` either way (``rust_pct_low``, ``rust_pct_high``): how much of
+   the answer hangs on the cut (blurred or faint rust edges widen it).  This is the
+   sensitivity to the classification, not the whole uncertainty of a photo (lighting,
+   glare and the angle of view are not in it).
 
 The defaults (``min_separation`` 12, ``rust_cut`` 15 CIELAB units) are our own settings,
 chosen so that bare grey steel (|a*|, |b*| of a few units under neutral light) and
@@ -68,6 +72,9 @@ from trialkit.responses.rust_grade import d610_grade
 #: yellow (90), where iron oxides and hydroxides lie (common practice: rust is
 #: orange-brown).
 RUST_HUE_DEG = 60.0
+#: The cut is moved by this much (CIELAB units) either way to show how much the share
+#: depends on it (``rust_pct_low`` .. ``rust_pct_high``).
+CUT_SENSITIVITY = 5.0
 #: The coupon found by its outline must cover at least this share of the photo (and
 #: differ from the background by MIN_CONTRAST, see trialkit.photos.regions).
 MIN_COUPON_SHARE = 0.02
@@ -85,6 +92,8 @@ class PhotoCoverage:
         SHA-256 of the photo file.
     rust_pct : float
         Rusted share of the coupon's face, percent (0-100).
+    rust_pct_low, rust_pct_high : float
+        The share with the cut raised / lowered by :data:`CUT_SENSITIVITY`.
     d610_grade : int
         ASTM D610 rust grade of that share (10 best .. 0).
     coupon_px, rust_px : int
@@ -94,7 +103,7 @@ class PhotoCoverage:
     white_balance : str
         ``"grey card"`` or ``"none"``; ``gains`` the channel gains applied.
     rule : str
-        ``"otsu"``, ``"fixed cut"`` (Otsu's classes were not two) or ``"marked"``.
+        ``"otsu"``, ``"fixed"`` (Otsu's classes were not two) or ``"marked"``.
     threshold : float
         Rust-ness cut used (CIELAB units).
     separation : float or None
@@ -120,6 +129,8 @@ class PhotoCoverage:
     size: tuple[int, int]
     scale: float
     settings: PhotoSettings = field(repr=False)
+    rust_pct_low: float = math.nan
+    rust_pct_high: float = math.nan
     notes: list[str] = field(default_factory=list, repr=False)
     path: Path | None = field(default=None, repr=False)
     rgb: np.ndarray | None = field(default=None, repr=False, compare=False)
@@ -141,6 +152,7 @@ class PhotoCoverage:
     def to_dict(self) -> dict[str, Any]:
         """Plain data for JSON (no pixel arrays)."""
         return {"photo": self.photo, "sha256": self.sha256, "rust_pct": self.rust_pct,
+                "rust_pct_low": self.rust_pct_low, "rust_pct_high": self.rust_pct_high,
                 "d610_grade": self.d610_grade, "coupon_px": self.coupon_px,
                 "rust_px": self.rust_px, "coupon_found_by": self.coupon_found_by,
                 "white_balance": self.white_balance, "gains": list(self.gains),
@@ -270,15 +282,15 @@ def _cut(values: np.ndarray, r: np.ndarray, photo: Photo, settings: PhotoSetting
                              "which is which.", exit_code=EXIT_REFUSED)
         return (rust + steel) / 2.0, "marked", rust - steel
     if float(np.ptp(values)) == 0.0:
-        return settings.rust_cut, "fixed cut", None
+        return settings.rust_cut, "fixed", None
     t = float(threshold_otsu(values))
     low, high = values[values <= t], values[values > t]
     if not len(low) or not len(high):
-        return settings.rust_cut, "fixed cut", None
+        return settings.rust_cut, "fixed", None
     separation = float(high.mean() - low.mean())
     two = (separation >= settings.min_separation
            and low.mean() < settings.rust_cut < high.mean())
-    return (t, "otsu", separation) if two else (settings.rust_cut, "fixed cut", separation)
+    return (t, "otsu", separation) if two else (settings.rust_cut, "fixed", separation)
 
 
 def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = None
@@ -319,12 +331,14 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
     rust = mask & (r > threshold)
     n_coupon, n_rust = int(mask.sum()), int(rust.sum())
     pct = 100.0 * n_rust / n_coupon
-    if rule == "fixed cut" and separation is not None \
+    low = 100.0 * float((values > threshold + CUT_SENSITIVITY).sum()) / n_coupon
+    high = 100.0 * float((values > threshold - CUT_SENSITIVITY).sum()) / n_coupon
+    if rule == "fixed" and separation is not None \
             and separation >= settings.min_separation:
         notes.append(f"the coupon's colours form two classes {separation:.1f} apart on the "
                      "same side of the cut: rust of two shades, or a colour cast of the "
                      "light; put a grey card in the frame (--card) to correct a cast")
-    elif rule == "fixed cut":
+    elif rule == "fixed":
         notes.append(f"one class of colour on the coupon (Otsu's classes "
                      f"{'not separable' if separation is None else f'{separation:.1f} apart'}"
                      f"): the fixed cut {threshold:g} decided")
@@ -334,5 +348,6 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
         coupon_found_by="region" if settings.region is not None else "outline",
         white_balance="grey card" if card is not None else "none", gains=gains,
         rule=rule, threshold=threshold, separation=separation,
-        size=(rgb.shape[1], rgb.shape[0]), scale=photo.scale, settings=settings, notes=notes,
+        size=(rgb.shape[1], rgb.shape[0]), scale=photo.scale, settings=settings,
+        rust_pct_low=low, rust_pct_high=high, notes=notes,
         path=photo.path, rgb=rgb, coupon_mask=mask, rust_mask=rust)

@@ -43,8 +43,8 @@ PHOTO_FIELDS: dict[str, str] = {k: f.name for k, f in PHOTO_COVERAGE_FIELDS.item
 SOURCE_PREFIX = "photo "
 _NAME = re.compile(r"^(?P<coupon>.+?)[_ ](?P<when>before|after|i(?P<n>\d{1,3}))$", re.I)
 
-TABLE_COLUMNS = ("photo", "rust_pct", "d610_grade", "rule", "threshold", "coupon",
-                 "inspection", "field", "status", "overlay", "sha256")
+TABLE_COLUMNS = ("photo", "rust_pct", "rust_pct_low", "rust_pct_high", "d610_grade", "rule",
+                 "threshold", "coupon", "inspection", "field", "status", "overlay", "sha256")
 
 
 def photo_target(name: str) -> tuple[str, int, str] | None:
@@ -77,9 +77,9 @@ class PhotoBatch:
     ----------
     measurements : list of PhotoCoverage
     table : DataFrame
-        One row per photo: ``photo, rust_pct, d610_grade, rule, threshold, coupon,
-        inspection, field, status, overlay, sha256`` (coupon to status empty when the
-        photos were only measured).
+        One row per photo: ``photo, rust_pct, rust_pct_low, rust_pct_high, d610_grade,
+        rule, threshold, coupon, inspection, field, status, overlay, sha256`` (coupon to
+        status empty when the photos were only measured).
     settings : PhotoSettings
     folder : Path or None
         The trial folder the coverages were recorded in.
@@ -135,7 +135,8 @@ def _measure_all(photos: Iterable[str | os.PathLike], settings: PhotoSettings
 
 def _row(m: PhotoCoverage, overlay: Path | None, target=None, status="") -> dict:
     coupon, inspection, fname = target or ("", None, "")
-    return {"photo": m.photo, "rust_pct": m.rust_pct, "d610_grade": m.d610_grade,
+    return {"photo": m.photo, "rust_pct": m.rust_pct, "rust_pct_low": m.rust_pct_low,
+            "rust_pct_high": m.rust_pct_high, "d610_grade": m.d610_grade,
             "rule": m.rule, "threshold": m.threshold, "coupon": coupon,
             "inspection": inspection, "field": fname, "status": status,
             "overlay": str(overlay) if overlay else "", "sha256": m.sha256}
