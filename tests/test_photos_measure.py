@@ -277,3 +277,18 @@ def test_sensitivity_to_the_cut(tmp_path):
 
     v = gaussian(rustness(rgb2lab(r)), sigma=1.0, preserve_range=True)[s.coupon_mask]
     assert s.rust_pct_high == pytest.approx(100 * np.mean(v > s.threshold - 5.0))
+
+
+def test_truncated_and_oversized_images_are_refused(tmp_path, monkeypatch):
+    from PIL import Image as PILImage
+
+    good = _save(render(20, seed=61, size=SMALL), tmp_path, "whole.jpg", quality=90)
+    cut = tmp_path / "cut.jpg"
+    cut.write_bytes(good.read_bytes()[: good.stat().st_size // 2])
+    with pytest.raises(PhotoError, match="cut.jpg could not be decoded") as err:
+        measure_coverage(cut)
+    assert err.value.exit_code == 2
+    # Pillow's decompression-bomb guard, lowered so that a small photo trips it
+    monkeypatch.setattr(PILImage, "MAX_IMAGE_PIXELS", 1000)
+    with pytest.raises(PhotoError, match="whole.jpg is not an image that can be read"):
+        measure_coverage(good)
