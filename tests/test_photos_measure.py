@@ -292,3 +292,18 @@ def test_truncated_and_oversized_images_are_refused(tmp_path, monkeypatch):
     monkeypatch.setattr(PILImage, "MAX_IMAGE_PIXELS", 1000)
     with pytest.raises(PhotoError, match="whole.jpg is not an image that can be read"):
         measure_coverage(good)
+
+
+def test_palette_png_is_measured_and_16_bit_greyscale_refused(tmp_path):
+    scene = render(30, seed=71, size=SMALL, noise=0.0, blur=0.0)
+    p = tmp_path / "palette.png"
+    Image.fromarray(scene.rgb).convert("P", palette=Image.Palette.ADAPTIVE, colors=16).save(p)
+    assert Image.open(p).mode == "P"
+    m = measure_coverage(p, PhotoSettings(smoothing=0.0))
+    assert abs(m.rust_pct - scene.truth_pct) <= 2.0
+    deep = tmp_path / "deep.png"
+    Image.fromarray((np.linspace(0, 65535, 64 * 64).reshape(64, 64)).astype(np.uint16)
+                    ).save(deep)
+    assert Image.open(deep).mode.startswith("I")
+    with pytest.raises(PhotoError, match="deep.png has no colour"):
+        measure_coverage(deep)

@@ -72,3 +72,24 @@ def test_report_shows_agreement_and_overlays(trial):
     assert "Bland–Altman" in texts and "ICC(A,1)" in texts
     html = build_report(data).to_html()
     assert html.count("data:image/png;base64,") >= 8
+
+
+def test_photo_source_in_the_analysis_and_the_report(trial, tmp_path):
+    import shutil
+
+    folder = tmp_path / "photo-source"
+    shutil.copytree(trial, folder)
+    with (folder / "trial.toml").open("a", encoding="utf-8") as fh:
+        fh.write('\n[photos]\ncoverage_from = "photo"\n')
+    data = analyze(folder)
+    assert data.coverage_source == "photo"
+    cur = data.current.set_index("coupon")
+    got = data.responses.coupons.set_index("coupon")
+    for c in COUPONS:  # removal from the photo values, not the hand ones
+        b, a = cur.at[c, "coverage_before_photo_pct"], cur.at[c, "coverage_after_photo_pct"]
+        assert got.at[c, "removal_pct"] == pytest.approx((b - a) / b * 100)
+    texts = " ".join(b.text for b in build_report(data).section("readings").blocks)
+    assert 'coverage_from = "photo"' in texts
+    missing = next(b for b in build_report(data).section("readings").blocks
+                   if b.kind == "table" and b.text == "Readings still missing")
+    assert "coverage_after_photo_pct" in set(missing.table["reading"])
