@@ -70,6 +70,9 @@ def test_report_shows_agreement_and_overlays(trial):
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
     texts = " ".join(b.text for b in section.blocks)
     assert "Bland–Altman" in texts and "ICC(A,1)" in texts
+    pairs = dict(next(b for b in section.blocks if b.kind == "pairs").items)
+    n = len(data.history)
+    assert pairs["Values in the record log"] == f"{n} from 1 sheet(s) and 8 photo(s)"
     html = build_report(data).to_html()
     assert html.count("data:image/png;base64,") >= 8
 

@@ -70,7 +70,7 @@ def _log_blocks(data: TrialAnalysis) -> list[Block]:
     hist, cur = data.history, data.current
     n_rev = int((hist.revision > 1).sum()) if len(hist) else 0
     blocks.append(Block.pairs([
-        ("Values in the record log", f"{len(hist)} from {hist.source.nunique()} sheet(s)"),
+        ("Values in the record log", _sources(hist)),
         ("Coupons in the plan", f"{len(cur)}"),
         ("Corrections since first entry", f"{n_rev}")]))
     table = cur[~cur.get("point", pd.Series("", index=cur.index)).isin(["control"])] \
@@ -102,6 +102,14 @@ def _log_blocks(data: TrialAnalysis) -> list[Block]:
                                   .head(40).reset_index(drop=True),
                                   "Values corrected after first entry (every revision kept)"))
     return blocks
+
+
+def _sources(hist: pd.DataFrame) -> str:
+    """How many values from how many sheets (and photos, whose source starts "photo ")."""
+    sources = hist.source.astype(str).drop_duplicates() if len(hist) else pd.Series([], dtype=str)
+    photos = int(sources.str.startswith("photo ").sum())
+    text = f"{len(hist)} from {len(sources) - photos} sheet(s)"
+    return text + (f" and {photos} photo(s)" if photos else "")
 
 
 def _response_notes(data: TrialAnalysis) -> list[Block]:
