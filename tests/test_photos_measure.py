@@ -307,3 +307,14 @@ def test_palette_png_is_measured_and_16_bit_greyscale_refused(tmp_path):
     assert Image.open(deep).mode.startswith("I")
     with pytest.raises(PhotoError, match="deep.png has no colour"):
         measure_coverage(deep)
+
+
+def test_a_coupon_cut_by_the_frame_is_noted(tmp_path):
+    img = np.full((120, 160, 3), 235, np.uint8)
+    img[20:120, 30:130] = (140, 140, 145)  # runs off the bottom edge
+    p = tmp_path / "cut-off.png"
+    Image.fromarray(img).save(p)
+    m = measure_coverage(p)
+    assert any("touches the edge" in n for n in m.notes)
+    whole = measure_coverage(_save(render(10, seed=81, size=SMALL), tmp_path))
+    assert not any("touches the edge" in n for n in whole.notes)

@@ -83,7 +83,7 @@ def test_inspection_photo_goes_to_the_time_course(tmp_path):
 
 @pytest.mark.parametrize("spoil", ["not_an_image", "empty_file", "empty_image",
                                    "no_coupon", "unknown_coupon", "unplanned_inspection",
-                                   "unnamed"])
+                                   "unnamed", "inspection_zero"])
 def test_one_bad_photo_refuses_the_batch_and_the_log_is_unchanged(tmp_path, spoil):
     plan = make_test_plan(tmp_path / "trial")
     folder = plan.trial.folder
@@ -93,7 +93,8 @@ def test_one_bad_photo_refuses_the_batch_and_the_log_is_unchanged(tmp_path, spoi
     count = RecordLog.for_folder(folder).count()
     ok, _ = _photo(tmp_path, "B01-R2_before.png", 40, 5)
     name = {"unknown_coupon": "Z99-R9_after.png", "unplanned_inspection": "B01-R1_i7.png",
-            "unnamed": "IMG_0001.png"}.get(spoil, "B01-R1_after.png")
+            "unnamed": "IMG_0001.png", "inspection_zero": "B01-R1_i0.png"}.get(
+                spoil, "B01-R1_after.png")
     bad = tmp_path / name
     if spoil == "not_an_image":
         bad.write_text("coupon list\nB01-R1\n")

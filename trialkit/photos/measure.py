@@ -217,7 +217,7 @@ def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
 
 
 def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
-                 card: tuple | None) -> np.ndarray:
+                 card: tuple | None, notes: list[str]) -> np.ndarray:
     """Boolean mask of the coupon (the region's box, or the largest outlined region)."""
     from scipy.ndimage import binary_fill_holes
 
@@ -244,6 +244,10 @@ def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
     if card is not None:
         cx0, cy0, cx1, cy1 = card
         mask[cy0:cy1, cx0:cx1] = False
+    if settings.region is None and mask.any() and (
+            mask[0].any() or mask[-1].any() or mask[:, 0].any() or mask[:, -1].any()):
+        notes.append("the coupon touches the edge of the photo: part of it may lie outside "
+                     "the frame, and the background is judged from the frame; leave a margin")
     if not mask.any():
         raise PhotoError(f"{photo.path}: the coupon region is empty once the card box is "
                          "taken out. Give a region that does not lie inside the card.",
@@ -322,7 +326,7 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
     notes = list(photo.notes)
     rgb, gains, card = _white_balance(photo, settings, notes)
     lab = rgb2lab(rgb)
-    mask = _find_coupon(photo, lab, settings, card)
+    mask = _find_coupon(photo, lab, settings, card, notes)
     r = rustness(lab)
     if settings.smoothing > 0:
         r = gaussian(r, sigma=settings.smoothing, preserve_range=True)

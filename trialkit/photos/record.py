@@ -206,6 +206,8 @@ def record_photos(folder: str | os.PathLike, photos: Iterable[str | os.PathLike]
         elif t[0] not in coupons:
             errors.append(f"{p}: coupon {t[0]!r} is not in the plan (coupons are named like "
                           f"{sorted(coupons)[0]})")
+        elif t[2] == PHOTO_FIELDS["coverage_pct"] and t[1] < 1:
+            errors.append(f"{p}: inspections are numbered from 1 (i1, i2, ...); got i{t[1]}")
         elif t[1] > n_inspections:
             errors.append(f"{p}: inspection {t[1]} is not planned (the trial plans "
                           f"{n_inspections} inspection(s))")
