@@ -96,3 +96,15 @@ def test_photo_source_in_the_analysis_and_the_report(trial, tmp_path):
     missing = next(b for b in build_report(data).section("readings").blocks
                    if b.kind == "table" and b.text == "Readings still missing")
     assert "coverage_after_photo_pct" in set(missing.table["reading"])
+
+
+def test_analyze_json_carries_the_agreement(cli, trial):
+    import json
+
+    res = cli("analyze", str(trial), "--json")
+    assert res.returncode == 0, res.stderr
+    out = json.loads(res.stdout)
+    assert out["coverage_source"] == "hand" and out["coverage_agreement"]["n"] == 8
+    assert out["coverage_agreement"]["icc_form"].startswith("ICC(A,1)")
+    assert {p["photo"] for p in out["photos"]} == {f"{c}_{w}.png" for c in COUPONS
+                                                    for w in ("before", "after")}
