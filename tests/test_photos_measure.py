@@ -9,9 +9,11 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from PIL import Image
 
-from trialkit.demo.photo_scenes import render
+from trialkit.demo.photo_scenes import DARK_RUST, LIGHT_RUST, RUST, render
 from trialkit.exceptions import PhotoError
 from trialkit.photos.measure import measure_coverage, rustness
 from trialkit.photos.settings import PhotoSettings
@@ -318,3 +320,23 @@ def test_a_coupon_cut_by_the_frame_is_noted(tmp_path):
     assert any("touches the edge" in n for n in m.notes)
     whole = measure_coverage(_save(render(10, seed=81, size=SMALL), tmp_path))
     assert not any("touches the edge" in n for n in whole.notes)
+
+
+@pytest.mark.parametrize("pct", [0, 15, 60, 100])
+def test_rust_of_several_shades(tmp_path, pct):
+    # dark brown, orange-brown and light orange rust on one coupon: still rust against
+    # steel; all rusted in three shades is not split into "rust" and "steel" by Otsu
+    scene = render(pct, seed=500 + pct, size=SMALL, shades=(DARK_RUST, RUST, LIGHT_RUST))
+    m = measure_coverage(_save(scene, tmp_path))
+    assert abs(m.rust_pct - scene.truth_pct) <= 2.0, (m.rust_pct, scene.truth_pct, m.rule)
+
+
+@settings(max_examples=12, deadline=None, derandomize=True)
+@given(pct=st.floats(0, 100), seed=st.integers(0, 10_000),
+       red=st.floats(0.94, 1.06), blue=st.floats(0.94, 1.06))
+def test_share_within_2_points_on_drawn_scenes(tmp_path_factory, pct, seed, red, blue):
+    # hypothesis draws the share, the seed and a mild white-balance shift (no card)
+    scene = render(pct, seed=seed, size=(160, 200), cast=(red, 1.0, blue))
+    folder = tmp_path_factory.mktemp("drawn")
+    m = measure_coverage(_save(scene, folder))
+    assert abs(m.rust_pct - scene.truth_pct) <= 2.0, (m.rust_pct, scene.truth_pct, m.rule)

@@ -21,6 +21,8 @@ from scipy.ndimage import gaussian_filter
 
 STEEL = (0.55, 0.55, 0.57)       # bare grey steel (sRGB, 0..1)
 RUST = (0.58, 0.32, 0.16)        # orange-brown rust
+DARK_RUST = (0.36, 0.2, 0.12)    # dark brown rust
+LIGHT_RUST = (0.78, 0.5, 0.22)   # light orange rust
 BACKGROUND = (0.92, 0.92, 0.90)  # plain light paper
 CARD = (0.75, 0.75, 0.75)        # a neutral grey card
 
@@ -37,12 +39,14 @@ class Scene:
 
 
 def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0),
-           noise=0.02, blur=1.0, card=False, background=BACKGROUND) -> Scene:
+           noise=0.02, blur=1.0, card=False, background=BACKGROUND,
+           shades: tuple = (RUST,)) -> Scene:
     """A photo whose plate has about ``target_pct`` % rust (the exact truth is returned).
 
     ``cast`` multiplies the R, G, B channels (a colour cast of the light), ``card`` puts a
     neutral grey card in the top right, ``noise`` is the SD of Gaussian sensor noise and
-    ``blur`` the sigma (pixels) of a Gaussian lens blur.
+    ``blur`` the sigma (pixels) of a Gaussian lens blur; ``shades`` the rust colours, laid
+    in patches of their own (one colour by default).
     """
     rng = np.random.default_rng(seed)
     h, w = size
@@ -63,7 +67,14 @@ def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0
         flat[order] = True
         rust[plate] = flat
     img[plate] = STEEL
-    img[rust] = RUST
+    img[rust] = shades[0]
+    if len(shades) > 1:  # further shades in patches of a second smooth field
+        tone = gaussian_filter(rng.normal(size=(h, w)), sigma=min(h, w) / 15)
+        edges = np.quantile(tone[rust], np.linspace(0, 1, len(shades) + 1)[1:-1]) \
+            if rust.any() else []
+        which = np.searchsorted(edges, tone)
+        for k, colour in enumerate(shades[1:], start=1):
+            img[rust & (which == k)] = colour
     cbox = None
     if card:
         cbox = (int(0.78 * w), int(0.1 * h), int(0.95 * w), int(0.35 * h))
