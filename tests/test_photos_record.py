@@ -114,3 +114,18 @@ def test_one_bad_photo_refuses_the_batch_and_the_log_is_unchanged(tmp_path, spoi
     assert _log_state(folder) == state
     assert not (folder / "photo-overlays" / "B01-R2_before").exists()
     assert len(list((folder / "photo-overlays").iterdir())) == 1
+
+
+def test_the_trial_files_photo_settings_are_used(tmp_path):
+    # the card box is given once for the series in [photos]; the photo has an amber cast
+    scene = render(35, seed=9, size=SMALL, cast=(1.2, 1.0, 0.75), card=True)
+    box = ", ".join(map(str, scene.card))
+    plan = make_test_plan(tmp_path / "trial", extra=f"\n[photos]\ncard = [{box}]\n")
+    p = tmp_path / "B01-R1_after.png"
+    Image.fromarray(scene.rgb).save(p)
+    batch = record_photos(plan.trial.folder, [p])
+    m = batch.measurements[0]
+    assert m.white_balance == "grey card" and m.settings.card == scene.card
+    assert abs(m.rust_pct - scene.truth_pct) <= 3.0
+    source = RecordLog.for_folder(plan.trial.folder).history().source.iloc[0]
+    assert "white balance from the card" in source
