@@ -63,6 +63,16 @@ _EXPORTS: dict[str, str] = {
     "SheetConfig": "trialkit.records.sheets",
     "sheet_config": "trialkit.records.sheets",
     "RecordLog": "trialkit.records.log",
+    # rust coverage from photographs
+    "PhotoError": "trialkit.exceptions",
+    "PhotoSettings": "trialkit.photos.settings",
+    "PhotoCoverage": "trialkit.photos.measure",
+    "measure_coverage": "trialkit.photos.measure",
+    "PhotoBatch": "trialkit.photos.record",
+    "measure_photos": "trialkit.photos.record",
+    "record_photos": "trialkit.photos.record",
+    "CoverageAgreement": "trialkit.analysis.agreement",
+    "coverage_agreement": "trialkit.analysis.agreement",
     # design evaluation and optimal designs
     "evaluate_plan": "trialkit.planning.evaluation",
     "evaluate_design": "trialkit.planning.evaluation",

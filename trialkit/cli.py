@@ -29,6 +29,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "bath": ("trialkit.commands.bath", "one-off recipe for a single bath"),
     "sheet": ("trialkit.commands.sheet", "export recording sheets and coupon labels"),
     "ingest": ("trialkit.commands.ingest", "read a filled sheet into the record log"),
+    "photos": ("trialkit.commands.photos", "rust coverage measured from photos of coupons"),
     "history": ("trialkit.commands.history", "every recorded value and its revisions"),
     "verify": ("trialkit.commands.verify", "check the record log's hash chain for tampering"),
     "responses": ("trialkit.commands.responses", "derived responses per coupon and bath"),

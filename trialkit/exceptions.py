@@ -80,3 +80,7 @@ class AnalysisError(TrialkitError):
 
 class TrialkitWarning(UserWarning):
     """Something was computed, but the user should look at it."""
+
+
+class PhotoError(TrialkitError):
+    """A photograph cannot be read or measured (not an image, empty, no coupon found)."""

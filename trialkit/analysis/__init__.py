@@ -13,12 +13,13 @@ Modules: :mod:`~trialkit.analysis.model` (fit), :mod:`~trialkit.analysis.anova` 
 :mod:`~trialkit.analysis.split_plot_mixed` (the same by REML with statsmodels MixedLM).
 :mod:`~trialkit.analysis.trial_analysis` analyses a whole trial folder once
 (``trialkit.analyze``) into a :class:`~trialkit.analysis.trial_data.TrialAnalysis`, with the
-recommendation of :mod:`~trialkit.analysis.recommend`.
+recommendation of :mod:`~trialkit.analysis.recommend`; :mod:`~trialkit.analysis.agreement`
+gives the agreement of photo measurements with hand estimates (Bland–Altman, ICC(A,1)).
 Public names are imported on first use so that importing this package stays light
 (``confirm`` is not re-exported here: it is also the name of its module).
 
-May import: ``trialkit.responses`` and the stages before it; never figures, the report
-or the demo.
+May import: ``trialkit.photos``, ``trialkit.responses`` and the stages before them; never
+figures, the report or the demo.
 """
 
 from __future__ import annotations

@@ -125,6 +125,22 @@ def _load_log(data: TrialAnalysis) -> None:
         data.current = data.log.current_values(plan=data.plan)
     except TrialkitError as exc:
         data.note("readings", f"the record log could not be read: {first_line(exc)}")
+        return
+    _photos(data)
+
+
+def _photos(data: TrialAnalysis) -> None:
+    """Coverages measured from photos, and their agreement with the hand estimates."""
+    try:
+        from trialkit.analysis.agreement import coverage_agreement
+        from trialkit.photos.record import photo_readings
+        from trialkit.responses.coverage_source import coverage_source
+    except ImportError:  # pragma: no cover - the photos package ships with trialkit
+        return
+    data.coverage_source = coverage_source(data.trial)
+    data.photos = photo_readings(data.history, data.folder)
+    if len(data.photos):
+        data.agreement = coverage_agreement(data.current, data.log.current_timecourse())
 
 
 def _bath_table(data: TrialAnalysis, responses, baths: pd.DataFrame | None) -> pd.DataFrame | None:
@@ -178,8 +194,11 @@ def _timecourse(data: TrialAnalysis, timecourse: pd.DataFrame | None) -> None:
     if timecourse is None and data.log is not None:
         try:
             from trialkit.responses.compute import timecourse_from_log
+            from trialkit.responses.coverage_source import coverage_source, use_coverage_long
 
-            tc = timecourse_from_log(data.log.current_timecourse(), data.plan.table)
+            long = use_coverage_long(data.log.current_timecourse(),
+                                     coverage_source(data.trial))
+            tc = timecourse_from_log(long, data.plan.table)
             timecourse = tc if len(tc) else None
         except (ImportError, TrialkitError):
             timecourse = None

@@ -52,6 +52,9 @@ class TrialAnalysis:
     bench: pd.DataFrame | None = None  # baths whose recorded pH / temperature is off plan
     log_check: object | None = None  # trialkit.records.chain.LogVerification of the log
     censoring: dict = field(default_factory=dict)  # time response -> censoring (plain)
+    coverage_source: str = "hand"  # [photos] coverage_from: the coverages the responses use
+    photos: pd.DataFrame | None = None  # coverages measured from photos (photo_readings)
+    agreement: object | None = None  # analysis.agreement.CoverageAgreement, hand vs photo
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -98,6 +101,10 @@ class TrialAnalysis:
                                  else self.bench.to_dict("records")),
             "record_log": None if self.log_check is None else self.log_check.to_dict(),
             "confirmation": {k: v.to_dict() for k, v in self.confirmations.items()},
+            "coverage_source": self.coverage_source,
+            "photos": [] if self.photos is None else self.photos.to_dict("records"),
+            "coverage_agreement": (None if self.agreement is None
+                                   else self.agreement.to_dict()),
             "notes": {k: list(v) for k, v in self.notes.items()},
         }
 

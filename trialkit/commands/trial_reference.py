@@ -136,6 +136,24 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
         "ratings": ("table", "{}", "named rating scales for rating fields"),
         "paper": ("A4 | Letter", '"A4"', "paper of the printable bench sheet"),
     },
+    "[photos]": {
+        "coverage_from": ("hand | photo", '"hand"', "which rust coverages the responses "
+                          "and the analysis use: the hand estimates or those measured from "
+                          "photos with 'trialkit photos' (both are kept in the record log)"),
+        "region": ("[x0, y0, x1, y1] pixels", "found by its outline", "the coupon's box in "
+                   "every photo of the series"),
+        "card": ("[x0, y0, x1, y1] pixels or \"auto\"", "none", "a grey or white card's "
+                 "box, or auto to find a grey card in the frame: corrects the white balance"),
+        "threshold": ("otsu | marked", '"otsu"', "rust against steel by Otsu's threshold on "
+                      "the CIELAB rust-ness, or half-way between marked pixels"),
+        "rust_pixels": ("list of [x, y]", "[]", "pixels marked as rust (threshold = marked)"),
+        "steel_pixels": ("list of [x, y]", "[]", "pixels marked as bare steel"),
+        "min_separation": ("CIELAB units", "12", "Otsu's two classes must lie this far apart "
+                           "(else the coupon is one class and rust_cut decides)"),
+        "rust_cut": ("CIELAB units", "15", "rust-ness above which a pixel is rust when the "
+                     "coupon is one class (all clean or all rusted)"),
+        "smoothing": ("pixels 0..10", "1", "Gaussian smoothing against sensor noise"),
+    },
     "[analysis]": {
         "model": ("model text", "by design", "main, interactions, quadratic or terms "
                   "'a + b + a:b + a^2'"),
@@ -170,6 +188,7 @@ def accepted_keys() -> dict[str, tuple[str, ...]]:
     from trialkit.analysis.config import KEYS as ANALYSIS_KEYS
     from trialkit.chemistry.bathspec import BATH_KEYS, INGREDIENT_RULE_KEYS, REFERENCE_KEYS
     from trialkit.chemistry.ingredient_table import INGREDIENT_KEYS
+    from trialkit.photos.settings import KEYS as PHOTO_KEYS
     from trialkit.planning.evaluation_config import EVALUATION_KEYS
     from trialkit.records.config import _KEYS as SHEET_KEYS
     from trialkit.trial.coupon_checks import COUPON_KEYS
@@ -180,7 +199,7 @@ def accepted_keys() -> dict[str, tuple[str, ...]]:
             "[layout]": LAYOUT_KEYS, "[[response]]": RESPONSE_KEYS, "[coupons]": COUPON_KEYS,
             "[bath]": BATH_KEYS, "[[bath.ingredient]]": INGREDIENT_RULE_KEYS,
             "[bath.reference]": REFERENCE_KEYS, "[[ingredient]]": INGREDIENT_KEYS,
-            "[sheet]": SHEET_KEYS, "[analysis]": ANALYSIS_KEYS,
+            "[sheet]": SHEET_KEYS, "[photos]": PHOTO_KEYS, "[analysis]": ANALYSIS_KEYS,
             "[evaluation]": EVALUATION_KEYS}
 
 

@@ -3,7 +3,8 @@
 Holds the invented truth models (``truth_models``), the readings drawn from them
 (``simulate``), the writer of the example folders (``examples``), the filling of exported
 sheets (``fill``), the demo itself (``run``) with its result (``result``) and key findings
-(``findings``).  Outside the analysis path: no other stage imports it.
+(``findings``), and invented coupon photos with a known rusted area
+(``photo_scenes``).  Outside the analysis path: no other stage imports it.
 
 May import: every stage (it runs the whole loop).
 """

@@ -111,5 +111,22 @@ def cleaning_cycle_fields(cycles: int) -> tuple[Field, ...]:
     )
 
 
+#: Coverages measured from photographs (``trialkit photos``), kept beside the hand
+#: estimates: hand field -> photo field.  Not on the sheets; the trial file's
+#: ``[photos] coverage_from`` says which of the two the responses use.
+PHOTO_COVERAGE_FIELDS: dict[str, Field] = {
+    "coverage_before_pct": Field("coverage_before_photo_pct",
+                                 "Rust coverage before, from a photo (% of area)", "%",
+                                 "number", 0.0, 100.0,
+                                 description="rusted share measured from a photo before"),
+    "coverage_after_pct": Field("coverage_after_photo_pct",
+                                "Rust coverage after, from a photo (% of area)", "%",
+                                "number", 0.0, 100.0,
+                                description="rusted share measured from a photo after"),
+    "coverage_pct": Field("coverage_photo_pct", "Rust coverage from a photo (% of area)",
+                          "%", "number", 0.0, 100.0,
+                          description="rusted share measured from a photo at an inspection"),
+}
+
 FIELDS_BY_NAME: dict[str, Field] = {f.name: f for f in COUPON_FIELDS}
 TIMECOURSE_BY_NAME: dict[str, Field] = {f.name: f for f in TIMECOURSE_FIELDS}

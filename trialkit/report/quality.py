@@ -10,9 +10,11 @@ import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
 from trialkit.report.document import Block
+from trialkit.report.photo_quality import photo_blocks
 
 ENTRY_ALL = ("mass_initial_g", "mass_final_g", "immersion_start", "immersion_end")
 ENTRY_RUSTED = ("coverage_before_pct", "coverage_after_pct")
+ENTRY_RUSTED_PHOTO = ("coverage_before_photo_pct", "coverage_after_photo_pct")
 
 
 #: What a note says about a time beyond the readings: dropped, not quoted as a number.
@@ -58,7 +60,7 @@ def readings_blocks(data: TrialAnalysis) -> list[Block]:
                                "cannot be checked")]
         return ([Block.note(t) for t in data.notes.get("readings", [])]
                 + _response_notes(data))
-    return _log_blocks(data) + _response_notes(data) + [
+    return _log_blocks(data) + photo_blocks(data) + _response_notes(data) + [
         Block.note(t) for k in ("readings", "responses") for t in data.notes.get(k, [])]
 
 
@@ -68,13 +70,15 @@ def _log_blocks(data: TrialAnalysis) -> list[Block]:
     hist, cur = data.history, data.current
     n_rev = int((hist.revision > 1).sum()) if len(hist) else 0
     blocks.append(Block.pairs([
-        ("Values in the record log", f"{len(hist)} from {hist.source.nunique()} sheet(s)"),
+        ("Values in the record log", _sources(hist)),
         ("Coupons in the plan", f"{len(cur)}"),
         ("Corrections since first entry", f"{n_rev}")]))
     table = cur[~cur.get("point", pd.Series("", index=cur.index)).isin(["control"])] \
         if "point" in cur else cur
     rows = []
-    for fname in ENTRY_ALL + ENTRY_RUSTED:
+    rusted = ENTRY_RUSTED if getattr(data, "coverage_source", "hand") != "photo" else \
+        ENTRY_RUSTED_PHOTO
+    for fname in ENTRY_ALL + rusted:
         sub = table if fname in ENTRY_ALL or "coupon_kind" not in table else \
             table[table.coupon_kind == "rusted"]
         if fname not in sub:
@@ -98,6 +102,14 @@ def _log_blocks(data: TrialAnalysis) -> list[Block]:
                                   .head(40).reset_index(drop=True),
                                   "Values corrected after first entry (every revision kept)"))
     return blocks
+
+
+def _sources(hist: pd.DataFrame) -> str:
+    """How many values from how many sheets (and photos, whose source starts "photo ")."""
+    sources = hist.source.astype(str).drop_duplicates() if len(hist) else pd.Series([], dtype=str)
+    photos = int(sources.str.startswith("photo ").sum())
+    text = f"{len(hist)} from {len(sources) - photos} sheet(s)"
+    return text + (f" and {photos} photo(s)" if photos else "")
 
 
 def _response_notes(data: TrialAnalysis) -> list[Block]:

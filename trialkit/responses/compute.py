@@ -352,7 +352,8 @@ def timecourse_from_log(long: pd.DataFrame, plan_table: pd.DataFrame) -> pd.Data
 
 def load_responses(folder: str | os.PathLike, *, metal: str | None = None,
                    strict: bool = False, kinetic_model: str = "auto") -> Responses:
-    """Responses of a trial folder: its plan, and the current values of its record log.
+    """Responses of a trial folder: its plan, and the current values of its record log
+    (the coverages from the source the trial file names, ``[photos] coverage_from``).
 
     Raises
     ------
@@ -370,9 +371,17 @@ def load_responses(folder: str | os.PathLike, *, metal: str | None = None,
         raise ResponseError(
             f"no record log in {trial_folder} (looked for {log_path.name}); nothing has "
             "been recorded yet. Fill in a sheet and read it in with 'trialkit ingest'.")
+    from trialkit.responses.coverage_source import (
+        coverage_source,
+        use_coverage,
+        use_coverage_long,
+    )
+
     log = store.RecordLog.for_folder(trial_folder)
-    readings = log.current_values(plan=plan)
-    timecourse = timecourse_from_log(log.current_timecourse(), plan.table)
+    source = coverage_source(plan.trial)  # [photos] coverage_from: hand or photo
+    readings = use_coverage(log.current_values(plan=plan), source)
+    timecourse = timecourse_from_log(use_coverage_long(log.current_timecourse(), source),
+                                     plan.table)
     return compute_responses(readings, coupon_spec=plan.trial.coupons, metal=metal,
                              timecourse=timecourse if len(timecourse) else None,
                              kinetic_model=kinetic_model, strict=strict)

@@ -16,9 +16,10 @@ import pandas as pd
 
 from trialkit.exceptions import TrialkitError
 from trialkit.problems import ProblemReport
-from trialkit.records.fields import COUPON_FIELDS
+from trialkit.records.fields import COUPON_FIELDS, PHOTO_COVERAGE_FIELDS
 
-ENTRY_COLUMNS = frozenset(f.name for f in COUPON_FIELDS)
+ENTRY_COLUMNS = frozenset([f.name for f in COUPON_FIELDS]
+                          + [f.name for f in PHOTO_COVERAGE_FIELDS.values()])
 
 #: name -> (unit, applies_to, method)
 RESPONSES: dict[str, tuple[str, str, str]] = {

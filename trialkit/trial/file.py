@@ -55,6 +55,7 @@ SECTION_PARSERS: dict[str, str] = {
     "ingredient": "trialkit.chemistry.bathspec:parse_ingredient_section",
     "bath": "trialkit.chemistry.bathspec:parse_bath_section",
     "sheet": "trialkit.records.config:parse_sheet_section",
+    "photos": "trialkit.photos.settings:parse_photos_section",
     "analysis": "trialkit.analysis.config:parse_analysis_section",
     "evaluation": "trialkit.planning.evaluation:parse_evaluation_section",
 }
