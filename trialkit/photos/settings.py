@@ -38,7 +38,8 @@ import math
 from dataclasses import asdict, dataclass, replace
 from typing import Any
 
-from trialkit.problems import ProblemReport, did_you_mean
+from trialkit.problems import ProblemReport
+from trialkit.trial.section_checks import unknown_keys
 
 KEYS = ("coverage_from", "region", "card", "threshold", "rust_pixels", "steel_pixels",
         "min_separation", "rust_cut", "smoothing")
@@ -165,10 +166,7 @@ def parse_photos_section(raw: Any, trial: Any, problems: ProblemReport,
         problems.add(where, "[photos] must be a table of keys", value=raw,
                      fix="write [photos] followed by key = value lines", check="wrong_type")
         return PhotoSettings()
-    for key in raw:
-        if key not in KEYS:
-            problems.add(f"{where}.{key}", f"unknown key {key!r} in [photos]", value=key,
-                         fix=did_you_mean(key, KEYS), check="unknown_key")
+    unknown_keys(raw, KEYS, where, problems, "photos")
     out: dict[str, Any] = {}
     for key, allowed in (("coverage_from", SOURCES), ("threshold", THRESHOLDS)):
         if key in raw:

@@ -43,6 +43,7 @@ from trialkit.records.fields import (
     cleaning_cycle_fields,
 )
 from trialkit.trial.limits import MAX_INSPECTIONS
+from trialkit.trial.section_checks import unknown_keys
 
 PAPER_SIZES = ("A4", "Letter")
 _KEYS = ("fields", "cleaning_cycles", "inspections_h", "timecourse_fields", "required",
@@ -146,10 +147,7 @@ def parse_sheet_section(raw: Any, trial: Any, problems: ProblemReport,
         problems.add(where, "[sheet] must be a table of keys", value=raw,
                      fix="write [sheet] followed by key = value lines", check="wrong_type")
         return SheetConfig()
-    for key in raw:
-        if key not in _KEYS:
-            problems.add(f"{where}.{key}", f"unknown key {key!r} in [sheet]", value=key,
-                         fix=did_you_mean(key, _KEYS), check="unknown_key")
+    unknown_keys(raw, _KEYS, where, problems, "sheet")
 
     known = {f.name: f for f in COUPON_FIELDS}
     fields = list(COUPON_FIELDS)
