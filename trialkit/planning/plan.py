@@ -50,6 +50,8 @@ import pandas as pd
 
 from trialkit.exceptions import PlanError
 from trialkit.planning.designs.base import Design
+from trialkit.planning.split_plot_layout import WHOLE_PLOT_COLUMN, order_whole_plots
+from trialkit.planning.whole_plots import whole_plot_settings
 from trialkit.problems import ProblemReport
 from trialkit.trial import limits
 from trialkit.trial.file import Trial, load_trial
@@ -165,6 +167,10 @@ class Plan:
             "confounded_with_blocks": list(self.confounded_with_blocks),
             "notes": list(self.notes),
         }
+        settings = whole_plot_settings(self.trial)
+        if settings is not None:
+            out["whole_plots"] = {**settings.to_dict(),
+                                  "count": int(self.baths[WHOLE_PLOT_COLUMN].nunique())}
         if d.kind == "fractional-factorial" or d.resolution is not None:
             out["resolution"] = d.resolution
             out["aliases"] = out["design"]["aliases"]
@@ -182,6 +188,9 @@ class Plan:
             f"{'s' if d['blocks'] != 1 else ''}",
             f"  coupons     {d['coupons']} ({d['rusted_coupons']} rusted, "
             f"{d['witness_coupons']} witness)",
+            *([f"  tank runs   {d['whole_plots']['count']} whole plots, "
+               f"{', '.join(d['whole_plots']['hard_to_change'])} set per tank"]
+              if "whole_plots" in d else []),
             f"  seed        {self.seed}",
             f"  fingerprint {self.fingerprint}",
         ]
@@ -244,8 +253,14 @@ def make_plan(trial: Trial) -> Plan:
     """Lay out the plan of a checked trial (see the module docstring)."""
     from trialkit.planning.designs import build_design, center_points, two_level_block_columns
 
-    design = build_design(trial.factors, trial.design.kind, trial.design.options,
-                          seed=trial.seed, folder=trial.folder)
+    whole_plots = whole_plot_settings(trial)
+    if whole_plots is not None and trial.design.kind == "fractional-factorial":
+        from trialkit.planning.designs.split_plot_fraction import trial_split_plot_fraction
+
+        design = trial_split_plot_fraction(trial, whole_plots)
+    else:
+        design = build_design(trial.factors, trial.design.kind, trial.design.options,
+                              seed=trial.seed, folder=trial.folder)
     layout = trial.layout
     check_plan_size(trial, design.n_points)
     names = [f.name for f in trial.factors]
@@ -313,13 +328,20 @@ def make_plan(trial: Trial) -> Plan:
 
     _check_natural_ranges(trial, design, runs)
 
-    # randomise the order of set-up within each block
+    # randomise the order of set-up within each block (a split plot: whole plots, then
+    # the baths within each whole plot)
     rng = np.random.default_rng(trial.seed)
-    ordered: list[pd.DataFrame] = []
-    for blk in range(1, b + 1):
-        in_block = runs[runs["block"] == blk]
-        ordered.append(in_block.iloc[rng.permutation(len(in_block))])
-    runs = pd.concat(ordered, ignore_index=True)
+    lead = list(LEADING_COLUMNS)
+    if whole_plots is not None:
+        runs = order_whole_plots(runs, whole_plots.hard_to_change, rng, b)
+        lead.insert(lead.index("block") + 1, WHOLE_PLOT_COLUMN)
+        notes.append(split_plot_note(trial, whole_plots, runs))
+    else:
+        ordered: list[pd.DataFrame] = []
+        for blk in range(1, b + 1):
+            in_block = runs[runs["block"] == blk]
+            ordered.append(in_block.iloc[rng.permutation(len(in_block))])
+        runs = pd.concat(ordered, ignore_index=True)
     runs["run"] = np.arange(1, len(runs) + 1)
 
     coded = runs.set_index("bath")[names].copy()
@@ -330,7 +352,8 @@ def make_plan(trial: Trial) -> Plan:
             natural[f.name] = [float(f"{v:.6g}") if np.isfinite(v) else np.nan for v in values]
         else:
             natural[f.name] = natural[f.name].astype(object)
-    baths = pd.concat([runs[["run", "bath", "block", "point"]], natural,
+    bath_lead = [c for c in lead if c not in ("coupon", "coupon_kind")]
+    baths = pd.concat([runs[bath_lead], natural,
                        runs[list(TRAILING_COLUMNS)]], axis=1)
     baths = baths.astype({"run": int, "block": int, "replicate": int, "std_order": int})
 
@@ -341,9 +364,22 @@ def make_plan(trial: Trial) -> Plan:
         for kind, suffix in kinds:
             coupon_rows.append({**rec, "coupon": f"{rec['bath']}-{suffix}", "coupon_kind": kind})
     table = pd.DataFrame(coupon_rows)
-    table = table[[*LEADING_COLUMNS, *names, *TRAILING_COLUMNS]].reset_index(drop=True)
+    table = table[[*lead, *names, *TRAILING_COLUMNS]].reset_index(drop=True)
     return Plan(trial=trial, design=design, table=table, baths=baths.reset_index(drop=True),
                 coded=coded, notes=notes, confounded_with_blocks=list(confounded))
+
+
+def split_plot_note(trial: Trial, settings, runs: pd.DataFrame) -> str:
+    """The plan's note on its whole plots: how many tank runs, what each holds."""
+    per_plot = runs.groupby(WHOLE_PLOT_COLUMN).size()
+    sizes = sorted(set(per_plot.tolist()))
+    label = trial.layout.block_label
+    per_block = runs.groupby("block")[WHOLE_PLOT_COLUMN].nunique()
+    return (f"split plot: {', '.join(settings.hard_to_change)} set per tank; "
+            f"{len(per_plot)} tank runs (whole plots) of "
+            f"{' or '.join(str(n) for n in sizes)} baths, {per_block.max()} a {label}; the "
+            f"order of the tank runs in each {label} and of the baths in each tank run are "
+            "both random")
 
 
 def check_plan_size(trial: Trial, n_points: int) -> None:

@@ -58,6 +58,7 @@ SECTION_PARSERS: dict[str, str] = {
     "photos": "trialkit.photos.settings:parse_photos_section",
     "analysis": "trialkit.analysis.config:parse_analysis_section",
     "evaluation": "trialkit.planning.evaluation:parse_evaluation_section",
+    "whole_plots": "trialkit.planning.whole_plots:parse_whole_plots_section",
 }
 
 #: The [design] section is checked by the design catalogue of the planning stage, looked

@@ -37,12 +37,13 @@ _PLAN_HEADINGS = {
     "coupon": "Coupon id",
     "coupon_kind": "Coupon kind",
     "block": "Block",
+    "whole_plot": "Tank run (whole plot)",
     "point": "Design point",
     "replicate": "Replicate",
     "inspection": "Inspection no.",
     "planned_h": "Planned time in bath (h)",
 }
-_INT_COLUMNS = ("run", "block", "replicate", "inspection")
+_INT_COLUMNS = ("run", "block", "whole_plot", "replicate", "inspection")
 
 
 @dataclass(frozen=True)
@@ -119,6 +120,11 @@ def _plan_column(name: str) -> Column:
     return Column(name, _PLAN_HEADINGS[name], "plan", kind)
 
 
+def _whole_plot(plan: Any) -> tuple[str, ...]:
+    """``("whole_plot",)`` for a split-plot plan (baths grouped into tank runs)."""
+    return ("whole_plot",) if "whole_plot" in plan.table.columns else ()
+
+
 def _entry(field: Field) -> Column:
     return Column(field.name, field.heading, "entry", field.kind, field)
 
@@ -126,7 +132,8 @@ def _entry(field: Field) -> Column:
 def coupon_layout(plan: Any, config: SheetConfig | None = None) -> SheetLayout:
     """Columns of the coupon sheet of ``plan``."""
     config = config or sheet_config(getattr(plan, "trial", None))
-    cols = [_plan_column(n) for n in ("run", "bath", "coupon", "coupon_kind", "block", "point")]
+    cols = [_plan_column(n) for n in ("run", "bath", "coupon", "coupon_kind", "block",
+                                      *_whole_plot(plan), "point")]
     cols += [_factor_column(plan, n) for n in factor_names(plan)]
     if "replicate" in plan.table.columns:
         cols.append(_plan_column("replicate"))
