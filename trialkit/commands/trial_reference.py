@@ -154,6 +154,17 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
                      "coupon is one class (all clean or all rusted)"),
         "smoothing": ("pixels 0..10", "1", "Gaussian smoothing against sensor noise"),
     },
+    "[whole_plots]": {
+        "hard_to_change": ("list of factor names", "[]", "factors set per tank (a water "
+                           "bath, an oven): the plan becomes a split plot, baths grouped "
+                           "into tank runs"),
+        "tanks_per_block": ("whole number", "as needed", "tank runs one block (a day) holds; "
+                            "must equal the hard-to-change settings × replicates a block"),
+        "blocks": ("fixed | random", '"fixed"', "random when the blocks are a sample of "
+                   "days or rust batches"),
+        "variance_ratio": ("number ≥ 0", "1", "tank-to-tank over bath-to-bath variance, for "
+                           "the power of 'trialkit evaluate'"),
+    },
     "[analysis]": {
         "model": ("model text", "by design", "main, interactions, quadratic or terms "
                   "'a + b + a:b + a^2'"),
@@ -190,6 +201,7 @@ def accepted_keys() -> dict[str, tuple[str, ...]]:
     from trialkit.chemistry.ingredient_table import INGREDIENT_KEYS
     from trialkit.photos.settings import KEYS as PHOTO_KEYS
     from trialkit.planning.evaluation_config import EVALUATION_KEYS
+    from trialkit.planning.whole_plots import WHOLE_PLOT_KEYS
     from trialkit.records.config import _KEYS as SHEET_KEYS
     from trialkit.trial.coupon_checks import COUPON_KEYS
     from trialkit.trial.file import TRIAL_KEYS
@@ -199,7 +211,8 @@ def accepted_keys() -> dict[str, tuple[str, ...]]:
             "[layout]": LAYOUT_KEYS, "[[response]]": RESPONSE_KEYS, "[coupons]": COUPON_KEYS,
             "[bath]": BATH_KEYS, "[[bath.ingredient]]": INGREDIENT_RULE_KEYS,
             "[bath.reference]": REFERENCE_KEYS, "[[ingredient]]": INGREDIENT_KEYS,
-            "[sheet]": SHEET_KEYS, "[photos]": PHOTO_KEYS, "[analysis]": ANALYSIS_KEYS,
+            "[sheet]": SHEET_KEYS, "[photos]": PHOTO_KEYS,
+            "[whole_plots]": WHOLE_PLOT_KEYS, "[analysis]": ANALYSIS_KEYS,
             "[evaluation]": EVALUATION_KEYS}
 
 
