@@ -159,8 +159,7 @@ def _compromise(args: argparse.Namespace, source) -> int:
 def _split_plot(args: argparse.Namespace, table, path: Path) -> int:
     """A plain table with a whole-plot column: exact two-stratum ANOVA when balanced, REML
     (statsmodels MixedLM) otherwise.  Rows are baths (coupons averaged within a bath)."""
-    from trialkit.analysis.split_plot import split_plot_anova
-    from trialkit.analysis.split_plot_mixed import split_plot_mixed_model
+    from trialkit.analysis.split_plot_trial import split_plot_tests
     from trialkit.exceptions import AnalysisError
 
     names = [s.partition(":")[0] for s in args.factor]
@@ -171,16 +170,8 @@ def _split_plot(args: argparse.Namespace, table, path: Path) -> int:
                             "factor and at least one other --factor (easy to change)")
     _check_response(table, args.response)
     block = args.block if args.block in table.columns else None
-    split = dict(whole_plot_factors=hard, subplot_factors=easy, whole_plot=args.whole_plot,
-                 block=block)
-    try:
-        result = split_plot_anova(table, args.response, **split)
-        method = "exact two-stratum ANOVA (balanced)"
-    except AnalysisError as err:
-        if "not balanced" not in str(err) and "not replicated" not in str(err):
-            raise
-        result = split_plot_mixed_model(table, args.response, **split)
-        method = "REML (statsmodels MixedLM), whole plot random"
+    result, method = split_plot_tests(table, args.response, hard, easy,
+                                      whole_plot=args.whole_plot, block=block)
     if args.json:
         out = result.to_dict()
         out.update(source=str(path), method=method,
