@@ -249,8 +249,7 @@ def recommend(data: TrialAnalysis) -> None:
                    f"{WEAK_PRED_R2:g}): it should not decide on its own; confirm first")
     rows = []
     for name, fit in data.fits.items():
-        p1 = fit.predict(settings, n_new=1).iloc[0]
-        p3 = fit.predict(settings, n_new=3).iloc[0]
+        p1, p3 = (_predict(data, name, settings, n) for n in (1, 3))
         rows.append({"response": name, "unit": data.unit(name), "aim": data.specs[name].aim,
                      "predicted": float(p1.predicted), "ci_low": float(p1.ci_low),
                      "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
@@ -267,6 +266,21 @@ def recommend(data: TrialAnalysis) -> None:
 
 
 WEAK_PRED_R2 = 0.5
+
+
+def _predict(data: TrialAnalysis, name: str, settings: dict, n_new: int):
+    """The prediction at ``settings``; in a split-plot trial with intervals that count the
+    tank-to-tank variance (:mod:`trialkit.analysis.split_plot_prediction`)."""
+    fit = data.fits[name]
+    split = data.split_plots.get(name)
+    if split is None or "whole_plot" not in fit.natural:
+        return fit.predict(settings, n_new=n_new).iloc[0]
+    from trialkit.analysis.split_plot_prediction import split_plot_predict
+
+    return split_plot_predict(fit, settings, whole_plot_column="whole_plot",
+                              components=split.variance_components,
+                              whole_plot_df=split.whole_plot_error_df,
+                              n_new=n_new).iloc[0]
 
 
 def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,

@@ -28,6 +28,7 @@ Examples
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -103,10 +104,13 @@ def split_plot_tests(table: pd.DataFrame, response: str, whole_plot_factors: lis
 
 def analyse_split_plot(table: pd.DataFrame, response: str, whole_plot_factors: list[str],
                        subplot_factors: list[str], *, whole_plot: str,
-                       block: str | None = None, alpha: float = 0.05) -> SplitPlotResult:
+                       block: str | None = None, alpha: float = 0.05,
+                       levels: Mapping[str, Sequence] | None = None) -> SplitPlotResult:
     """Tests and effects of a split-plot trial (see the module docstring).
 
     ``table`` has one row per bath; rows with a missing response or factor are left out.
+    ``levels`` gives the order of a factor's levels (the effect is the last level minus
+    the first); otherwise numbers go in increasing order, text in order of appearance.
     """
     names = [*whole_plot_factors, *subplot_factors]
     rows = table.dropna(subset=[response, *names]).reset_index(drop=True)
@@ -128,7 +132,8 @@ def analyse_split_plot(table: pd.DataFrame, response: str, whole_plot_factors: l
         m = len(rows) / rows[whole_plot].nunique()
         ms = {WHOLE_PLOT: components["subplot"] + m * max(components["whole_plot"], 0.0),
               SUBPLOT: components["subplot"]}
-    effects = _effects(rows, response, whole_plot_factors, subplot_factors, ms, dfs, alpha)
+    effects = _effects(rows, response, whole_plot_factors, subplot_factors, ms, dfs, alpha,
+                       dict(levels or {}))
     n_wp = int(rows[whole_plot].nunique())
     notes = ["hard-to-change factors are tested against the variation between tank runs "
              f"({dfs.get(WHOLE_PLOT, 0)} degrees of freedom from {n_wp} tank runs), "
@@ -143,22 +148,23 @@ def analyse_split_plot(table: pd.DataFrame, response: str, whole_plot_factors: l
                            len(rows) / max(n_wp, 1), notes)
 
 
-def _effects(rows, response, wp_factors, sp_factors, ms, dfs, alpha) -> pd.DataFrame:
+def _effects(rows, response, wp_factors, sp_factors, ms, dfs, alpha, levels) -> pd.DataFrame:
     out = []
     y = pd.to_numeric(rows[response]).to_numpy(dtype=float)
     for name in [*wp_factors, *sp_factors]:
         stratum = WHOLE_PLOT if name in wp_factors else SUBPLOT
-        levels = _ordered_levels(rows[name])
-        if len(levels) != 2 or stratum not in dfs or dfs[stratum] < 1:
+        seen = _ordered_levels(rows[name])
+        order = [v for v in levels.get(name, ()) if str(v) in map(str, seen)] or seen
+        if len(order) != 2 or len(seen) != 2 or stratum not in dfs or dfs[stratum] < 1:
             continue
-        lo_mask = rows[name].astype(str) == str(levels[0])
+        lo_mask = rows[name].astype(str) == str(order[0])
         hi_mask = ~lo_mask
         effect = float(y[hi_mask].mean() - y[lo_mask].mean())
         se = float(np.sqrt(ms[stratum] * (1 / hi_mask.sum() + 1 / lo_mask.sum())))
         df = dfs[stratum]
         t = float(stats.t.ppf(1 - alpha / 2, df))
         p = float(2 * stats.t.sf(abs(effect) / se, df)) if se > 0 else float("nan")
-        out.append({"factor": name, "low": levels[0], "high": levels[1], "effect": effect,
+        out.append({"factor": name, "low": order[0], "high": order[1], "effect": effect,
                     "ci_low": effect - t * se, "ci_high": effect + t * se, "p_value": p,
                     "error_stratum": stratum, "error_df": df})
     return pd.DataFrame(out, columns=["factor", "low", "high", "effect", "ci_low", "ci_high",

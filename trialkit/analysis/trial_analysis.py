@@ -291,6 +291,7 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             _detectable(data, spec)
         if (spec.measure or spec.name) in CENSORED_LEVELS:
             _censoring(data, spec, res.fit)
+        _split_plot(data, spec)
     _comparisons(data)
     from trialkit.analysis.recommend import desirability, recommend
 
@@ -363,6 +364,27 @@ def _censoring(data: TrialAnalysis, spec, fit) -> None:
                               "'censoring', while the linear model uses only the baths that "
                               "got there")
     data.censoring[spec.name] = out
+
+
+def _split_plot(data: TrialAnalysis, spec) -> None:
+    """A split-plot trial's tests and effects on the right strata (issue 19): hard-to-change
+    factors against the tank-to-tank error, the others against the bath-to-bath error."""
+    from trialkit.analysis.split_plot_trial import analyse_split_plot
+    from trialkit.planning.whole_plots import whole_plot_settings
+
+    settings = whole_plot_settings(data.trial)
+    if settings is None or "whole_plot" not in data.baths:
+        return
+    hard = list(settings.hard_to_change)
+    easy = [f.name for f in data.trial.factors if f.name not in hard]
+    block = "block" if "block" in data.baths and data.baths["block"].nunique() > 1 else None
+    try:
+        data.split_plots[spec.name] = analyse_split_plot(
+            data.baths, spec.name, hard, easy, whole_plot="whole_plot", block=block,
+            alpha=config_of(data.trial).alpha,
+            levels={f.name: f.levels for f in data.trial.factors if not f.is_continuous})
+    except (TrialkitError, ValueError, np.linalg.LinAlgError) as exc:
+        data.note("analysis", f"{spec.name}: no split-plot analysis ({first_line(exc)})")
 
 
 def _effects(data: TrialAnalysis, spec) -> None:

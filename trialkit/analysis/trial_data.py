@@ -55,6 +55,7 @@ class TrialAnalysis:
     coverage_source: str = "hand"  # [photos] coverage_from: the coverages the responses use
     photos: pd.DataFrame | None = None  # coverages measured from photos (photo_readings)
     agreement: object | None = None  # analysis.agreement.CoverageAgreement, hand vs photo
+    split_plots: dict = field(default_factory=dict)  # response -> SplitPlotResult
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -91,8 +92,11 @@ class TrialAnalysis:
         return {
             "trial": getattr(self.trial, "title", ""),
             "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
-            "responses": {name: {**res.to_dict(), **({"censoring": self.censoring[name]}
-                                                      if name in self.censoring else {})}
+            "responses": {name: {**res.to_dict(),
+                                 **({"censoring": self.censoring[name]}
+                                    if name in self.censoring else {}),
+                                 **({"split_plot": self.split_plots[name].to_dict()}
+                                    if name in self.split_plots else {})}
                           for name, res in self.results.items()},
             "recommendation": self.recommendation_dict(),
             "comparisons": list(self.comparisons),

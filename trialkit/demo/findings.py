@@ -40,6 +40,11 @@ def demo_findings(data: TrialAnalysis) -> dict:
             out[name] = {"factor": sw.factor.name, "best": float(sw.best),
                          "interval": [float(sw.fieller_low), float(sw.fieller_high)],
                          "lean_level": float(sw.lean_level)}
+        elif name in data.split_plots:  # each factor tested on its own stratum
+            tests = data.split_plots[name].tests.set_index("term")["p_value"]
+            p = {f.name: float(tests[f.name]) for f in trial.factors if f.name in tests.index}
+            out[name] = {"p_values": p, "active": [k for k, v in p.items() if v < res.fit.alpha],
+                         "split_plot": True}
         elif kind in TWO_LEVEL_KINDS:
             table = res.fit.anova(res.anova_type).summary.set_index("term")["p"]
             p = {f.name: float(table[f.name]) for f in trial.factors if f.name in table.index}

@@ -193,6 +193,17 @@ def _round(x: float, step: float) -> float:
 
 
 # -- simulation -------------------------------------------------------------------------
+def _tank_shifts(plan: Plan, noise, rng) -> dict:
+    """``whole_plot -> (ln k shift, temperature offset °C)`` of each tank run of a split-plot
+    plan (empty for other plans, and no draws: their readings do not change)."""
+    if "whole_plot" not in plan.baths:
+        return {}
+    tanks = sorted(set(plan.baths["whole_plot"].dropna().astype(int)))
+    z = rng.normal(0.0, 1.0, (len(tanks), 2))
+    return {t: (noise.whole_plot_log_rate_sd * a, noise.whole_plot_temperature_sd_c * b)
+            for t, (a, b) in zip(tanks, z, strict=True)}
+
+
 def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
                       inspections_h=None, immersion_h: float | None = None,
                       start: str = "2026-11-02T09:00", minutes_between_baths: int = 5,
@@ -253,10 +264,13 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
         raise SimulationError(f"the truth model reads factors in fixed units; got "
                               f"{', '.join(wrong)}. Give the factors those units.")
 
-    streams = [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(5)]
-    rng_block, rng_bath, rng_coupon, rng_inspect, rng_cycles = streams
+    # Six independent streams (the first five are those of earlier versions: spawn keys
+    # are by index, so a trial without whole plots draws the same readings as before).
+    streams = [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(6)]
+    rng_block, rng_bath, rng_coupon, rng_inspect, rng_cycles, rng_tank = streams
     n_blocks = plan.n_blocks
     block_shift = rng_block.normal(0.0, 1.0, n_blocks) * noise.block_log_rate_sd
+    tank_shift = _tank_shifts(plan, noise, rng_tank)
     t0 = datetime.fromisoformat(start)
 
     bath_rows: dict[str, dict] = {}
@@ -264,6 +278,9 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
     for rec in plan.baths.to_dict("records"):
         z = rng_bath.normal(0.0, 1.0, 4)
         values = {n: rec[n] for n in factor_names}
+        log_tank, tank_offset_c = tank_shift.get(rec.get("whole_plot"), (0.0, 0.0))
+        if tank_offset_c and "temperature" in values:  # the tank runs off its set point
+            values["temperature"] = float(values["temperature"]) + tank_offset_c
         if rec["point"] in ("control", "reference"):
             kind = "untreated" if rec["point"] == "control" else "reference"
             rate, corrosion = truth.control(kind)
@@ -274,7 +291,7 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
             rate, corrosion = truth.rate_per_h(values), truth.corrosion_mm_per_y(values)
             ph_target, temp_target = float(x["ph"]), float(x["temperature"])
         blk = int(rec["block"])
-        rate *= math.exp(block_shift[blk - 1] + noise.bath_log_rate_sd * z[0])
+        rate *= math.exp(block_shift[blk - 1] + log_tank + noise.bath_log_rate_sd * z[0])
         corrosion *= math.exp(noise.bath_log_corrosion_sd * z[1])
         pos = position.get(blk, 0)
         position[blk] = pos + 1

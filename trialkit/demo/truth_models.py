@@ -67,12 +67,17 @@ class NoiseModel:
     Log-scale SDs multiply a rate by ``exp(N(0, sd))``.  A coverage reading of true
     coverage ``c`` % has SD ``coverage_reading_sd_pct * sqrt(c (100 - c)) / 50``: the full
     SD at half coverage, less towards bare and fully rusted surfaces, which are easy to
-    judge.  Readings are rounded to the
+    judge.  In a split-plot plan every bath of one tank run (whole plot) shares a shift of
+    ln k (``whole_plot_log_rate_sd``) and an offset of the tank's real temperature from its
+    set point (``whole_plot_temperature_sd_c``); both are 0 unless an example sets them.
+    Readings are rounded to the
     stated resolutions (balance 0.1 mg, coverage 1 %, dimensions 0.01 mm, area 0.01 cm²,
     the last as ASTM G1 asks); a resolution of 0 means no rounding.
     """
 
     block_log_rate_sd: float = 0.08
+    whole_plot_log_rate_sd: float = 0.0
+    whole_plot_temperature_sd_c: float = 0.0
     bath_log_rate_sd: float = 0.10
     coupon_log_rate_sd: float = 0.08
     bath_log_corrosion_sd: float = 0.10
@@ -360,6 +365,17 @@ EXAMPLES: dict[str, ExampleScenario] = {
         seed=8103, immersion_h=8.0,
         confirmation_recipe={"chelator": 5.0, "ph": 6.1}, confirmation_baths=3,
         confirmation_seed=8104),
+    "tank-split-plot": ExampleScenario(
+        folder="tank-split-plot",
+        truth=BathTruth(
+            name="tank temperature split plot (invented)",
+            description="pH 6.5, no agitation; temperature is set per heated tank (two "
+                        "tanks a day), chelator and surfactant per bath; tanks differ "
+                        "by more than baths in one tank do",
+            baseline={"chelator": 4.0, "ph": 6.5, "temperature": 30.0,
+                      "surfactant": "none", "agitation": "none"},
+            noise=NoiseModel(whole_plot_log_rate_sd=0.12, whole_plot_temperature_sd_c=0.8)),
+        seed=8301, immersion_h=8.0, inspections_h=(2.0, 4.0, 8.0)),
 }
 
 

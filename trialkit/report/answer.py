@@ -15,7 +15,7 @@ from trialkit.report.document import Block
 from trialkit.report.findings import pretty_unit
 
 #: Kinds of findings that say what matters, in the order they are told.
-TELLING = ("sweep", "effect", "screening", "curvature", "interaction")
+TELLING = ("sweep", "effect", "screening", "curvature", "interaction", "split_plot")
 MAX_SENTENCES = 5
 
 

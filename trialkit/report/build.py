@@ -128,7 +128,14 @@ def _findings(data: TrialAnalysis) -> list:
     out = []
     for name, fit in data.fits.items():
         unit = data.unit(name)
-        if fit.df_resid > 0:
+        if name in data.split_plots:
+            # effects judged on their own stratum; the bath-level fit gives only its R²
+            from trialkit.report.split_plot_text import split_plot_findings
+
+            out += split_plot_findings(data.split_plots[name], data.trial.factors,
+                                       unit=unit, alpha=fit.alpha)
+            out += [f for f in model_findings(fit, unit=unit) if f.kind == "model"]
+        elif fit.df_resid > 0:
             out += model_findings(fit, unit=unit, detectable=data.detectable.get(name))
         elif name in data.effects:
             out += effects_findings(data.effects[name], unit=unit)

@@ -85,14 +85,14 @@ def pretty_unit(unit: str) -> str:
     return readable_unit(unit)
 
 
-def _amount(effect: float, unit: str, dec: int) -> str:
+def amount_text(effect: float, unit: str, dec: int) -> str:
     size = fmt(abs(effect), dec)
     if unit == "%":
         return f"{size} points"
     return f"{size} {unit}".strip()
 
 
-def _span(f, low: float | None = None, high: float | None = None) -> str:
+def span_text(f, low: float | None = None, high: float | None = None) -> str:
     """``from 2 to 10 % w/v`` or ``from pH 5.5 to pH 7.5`` (the factor's range, or the
     ``low``-``high`` range given: the one the model was fitted on)."""
     low = f.low if low is None else low
@@ -176,7 +176,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
                 dec = decimals_for((hi - lo) / 2)
                 nums["fitted_range"] = [lo_seen, hi_seen]
                 verb = "increased" if eff > 0 else "decreased"
-                head = f"Raising {name} {_span(f, lo_seen, hi_seen)}"
+                head = f"Raising {name} {span_text(f, lo_seen, hi_seen)}"
                 change_sign = 1.0
             else:
                 # sum coding: the column of the first level; effect = first - second
@@ -190,7 +190,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
             if sig:
                 mag = f"95 % CI {interval(lo, hi, dec)}" if eff > 0 else \
                     f"95 % CI {interval(-hi, -lo, dec)}"
-                text = (f"{head} {verb} {resp} by {_amount(eff, unit, dec)} "
+                text = (f"{head} {verb} {resp} by {amount_text(eff, unit, dec)} "
                         f"({mag}; {fmt_p(p)}).")
                 kind = "effect"
             else:
@@ -200,7 +200,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
                     d = float(detectable[name])
                     nums["detectable"] = d
                     text = text[:-1] + (f"; the trial could detect an effect of about "
-                                        f"{_amount(d, unit, dec)}.")
+                                        f"{amount_text(d, unit, dec)}.")
                 kind = "not_detected"
             out.append((abs(eff) if sig else -1 / (1 + abs(eff)), Finding(text, resp, name,
                                                                           kind, nums)))
@@ -266,15 +266,15 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
         if r.significant:
             verb = "raised" if r.effect > 0 else "lowered"
             text = (f"Going from the low to the high level of {r.term} {verb} "
-                    f"{effects.response} by {_amount(r.effect, unit, dec)}, beyond "
-                    f"Lenth's margin of error of {_amount(me, unit, dec)} (simultaneous "
-                    f"margin {_amount(sme, unit, dec)}; approximate {fmt_p(r.p)}, from "
+                    f"{effects.response} by {amount_text(r.effect, unit, dec)}, beyond "
+                    f"Lenth's margin of error of {amount_text(me, unit, dec)} (simultaneous "
+                    f"margin {amount_text(sme, unit, dec)}; approximate {fmt_p(r.p)}, from "
                     f"Lenth's pseudo standard error).")
             out.append(Finding(text, effects.response, r.term, "screening", nums))
     quiet = [r.term for r in df.itertuples() if not r.significant]
     if quiet:
-        text = (f"Within Lenth's margin of error ({_amount(me, unit, dec)}; simultaneous "
-                f"margin {_amount(sme, unit, dec)}), no effect on {effects.response} was "
+        text = (f"Within Lenth's margin of error ({amount_text(me, unit, dec)}; simultaneous "
+                f"margin {amount_text(sme, unit, dec)}), no effect on {effects.response} was "
                 f"detected for: {', '.join(quiet)}.")
         out.append(Finding(text, effects.response, ", ".join(quiet), "not_detected",
                            {"me": me, "sme": sme}))
