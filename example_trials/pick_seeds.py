@@ -19,7 +19,10 @@ statsmodels OLS on the raw readings) agree with the truth:
   percentage and the log witness corrosion rate, every factor the truth uses has
   p < 0.05 and every other factor p > 0.05;
 - surface-follow-up: the desirability optimum of quadratic fits (removal 50..90 % up,
-  attack 0.05..0.30 mm/y down) lies within 0.5 % w/v and 0.25 pH of the true one.
+  attack 0.05..0.30 mm/y down) lies within 0.5 % w/v and 0.25 pH of the true one;
+- tank-split-plot: in statsmodels MixedLM fits (tank run as a random intercept, day
+  fixed) of the bath means of removal and of the log witness corrosion rate, every
+  factor the truth uses has p < 0.05 and every other factor p > 0.05.
 """
 
 from __future__ import annotations
@@ -30,7 +33,8 @@ from pathlib import Path
 import numpy as np
 
 HERE = Path(__file__).resolve().parent
-START = {"chelator-sweep": 8201, "five-factor-screen": 8102, "surface-follow-up": 8103}
+START = {"chelator-sweep": 8201, "five-factor-screen": 8102, "surface-follow-up": 8103,
+         "tank-split-plot": 8301}
 
 
 def _rates(sim):
@@ -114,8 +118,28 @@ def check_surface(sim, sc) -> bool:
             and abs(grid["ph"][i] - true["ph"]) <= 0.25)
 
 
+def check_split_plot(sim, sc) -> bool:
+    import statsmodels.formula.api as smf
+    c = sim.coupons
+    r = c[c["coupon_kind"] == "rusted"].copy()
+    r["removal"] = 100 * (1 - r["coverage_after_pct"] / r["coverage_before_pct"])
+    keys = ["bath", "block", "whole_plot", "chelator", "temperature", "surfactant"]
+    bath = r.groupby(keys, as_index=False)["removal"].mean()
+    w = _witness_log_cr(c, sc.immersion_h)
+    terms = {"temperature": "temperature", "chelator": "chelator",
+             "surfactant": "C(surfactant)[T.none]"}
+    real = sc.truth.real_effects(terms)
+    for resp, data, kind in (("removal", bath, "removal"), ("lcr", w, "corrosion")):
+        m = smf.mixedlm(f"{resp} ~ temperature + chelator + C(surfactant) + C(block)",
+                        data, groups=data["whole_plot"]).fit(reml=True)
+        for name, term in terms.items():
+            if (m.pvalues[term] < 0.05) != (name in real[kind]):
+                return False
+    return True
+
+
 CHECKS = {"chelator-sweep": check_sweep, "five-factor-screen": check_screen,
-          "surface-follow-up": check_surface}
+          "surface-follow-up": check_surface, "tank-split-plot": check_split_plot}
 
 
 def first_good_seed(name: str, tries: int = 50) -> int:

@@ -59,8 +59,13 @@ class AnovaTable:
     curvature: dict | None = None
 
     def to_dict(self) -> dict:
+        if self.test == "F":
+            stratum, error_df = "residual (baths)", int(self.residual["df"])
+        else:  # Lenth's d = m / 3 for m effects
+            stratum, error_df = "Lenth pseudo standard error", float(self.summary.df.sum()) / 3
         rows = [{"term": r.term, "df": int(r.df), "sum_sq": finite(r.sum_sq),
-                 "mean_sq": finite(r.mean_sq), "F": finite(r.F), "p": finite(r.p)}
+                 "mean_sq": finite(r.mean_sq), "F": finite(r.F), "p": finite(r.p),
+                 "error_stratum": stratum, "error_df": error_df}
                 for r in self.summary.itertuples()]
         def clean(d):
             return (None if d is None else {k: (finite(v) if isinstance(v, float)

@@ -92,11 +92,7 @@ class TrialAnalysis:
         return {
             "trial": getattr(self.trial, "title", ""),
             "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
-            "responses": {name: {**res.to_dict(),
-                                 **({"censoring": self.censoring[name]}
-                                    if name in self.censoring else {}),
-                                 **({"split_plot": self.split_plots[name].to_dict()}
-                                    if name in self.split_plots else {})}
+            "responses": {name: self._response_dict(name, res)
                           for name, res in self.results.items()},
             "recommendation": self.recommendation_dict(),
             "comparisons": list(self.comparisons),
@@ -111,6 +107,26 @@ class TrialAnalysis:
                                    else self.agreement.to_dict()),
             "notes": {k: list(v) for k, v in self.notes.items()},
         }
+
+    def _response_dict(self, name: str, res) -> dict:
+        """One response's analysis; in a split-plot trial every ANOVA row tested on its own
+        stratum (the bath-level F and p kept as ``F_baths_as_randomised`` and
+        ``p_baths_as_randomised``)."""
+        out = res.to_dict()
+        if name in self.censoring:
+            out["censoring"] = self.censoring[name]
+        split = self.split_plots.get(name)
+        if split is not None:
+            out["split_plot"] = split.to_dict()
+            tests = {r["term"]: r for r in out["split_plot"]["tests"]}
+            for row in out.get("anova", []):
+                row["F_baths_as_randomised"] = row.pop("F")
+                row["p_baths_as_randomised"] = row.pop("p")
+                test = tests.get(row["term"], {})
+                row.update(F=test.get("f"), p=test.get("p_value"),
+                           error_stratum=test.get("error_stratum", "not tested"),
+                           error_df=test.get("error_df"))
+        return out
 
     def __repr__(self) -> str:
         lines = [f"TrialAnalysis of {getattr(self.trial, 'title', self.folder)!s} "

@@ -384,6 +384,10 @@ def simulate_readings(plan: Plan, truth: BathTruth, *, seed: int,
             "inspections_h": inspections, "density_g_per_cm3": density,
             "block_log_rate_shift": [float(v) for v in block_shift],
             "plan_fingerprint": plan.fingerprint, "invented": True}
+    if tank_shift:
+        info["whole_plot_shifts"] = [{"whole_plot": int(t), "log_rate_shift": float(a),
+                                      "temperature_offset_c": float(b)}
+                                     for t, (a, b) in tank_shift.items()]
     return SimulatedReadings(coupons=coupons, timecourse=timecourse, true_baths=true_baths,
                              truth=info)
 
