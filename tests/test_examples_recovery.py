@@ -159,9 +159,9 @@ def test_split_plot_example_finds_the_truly_active_factors_on_their_strata():
     truth = EXAMPLES["tank-split-plot"].truth.real_effects(names)
     results = {}
     for response, real in (("removal", truth["removal"]), ("attack", truth["corrosion"])):
-        res = results[response] = analyse_split_plot(table, response, ["temperature"], ["chelator", "surfactant"],
-                                 whole_plot="whole_plot", block="block",
-                                 levels={"surfactant": ["none", "added"]})
+        res = results[response] = analyse_split_plot(
+            table, response, ["temperature"], ["chelator", "surfactant"],
+            whole_plot="whole_plot", block="block", levels={"surfactant": ["none", "added"]})
         tests = res.tests.set_index("term")
         assert tests.loc["temperature", "error_stratum"] == "whole plot"
         assert tests.loc["temperature", "error_df"] == 6 - 1 - 2 - 1
