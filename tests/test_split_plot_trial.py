@@ -128,3 +128,66 @@ def test_prediction_interval_of_a_split_plot_covers_the_true_mean():
         narrow += q.ci_low <= truth <= q.ci_high
     assert 0.93 <= wide / reps <= 0.995
     assert narrow / reps < 0.85
+
+
+def test_whole_plot_power_matches_the_rejection_rate_of_the_analysis():
+    """Power of the hard-to-change term from the formula (noncentral F on the whole-plot
+    error df) against the rejection rate of analyse_split_plot over fresh simulated
+    trials (tank SD = bath SD, so variance_ratio = 1)."""
+    from trialkit.planning.split_plot_power import whole_plot_term_power
+
+    rng = np.random.default_rng(np.random.SeedSequence().entropy)
+    reps, effect = 600, 3.0
+    claimed = whole_plot_term_power(effect=effect, sd=1.0, baths=32, whole_plots=8,
+                                    variance_ratio=1.0, error_df=3)
+    rejected = 0
+    for _ in range(reps):
+        res = analyse_split_plot(_trial(rng, wp_effect=effect), "removal", ["temperature"],
+                                 ["chelator"], whole_plot="tank", block="day")
+        rejected += res.tests.set_index("term").loc["temperature", "p_value"] < 0.05
+    se = np.sqrt(claimed * (1 - claimed) / reps)
+    assert 0.2 < claimed < 0.9  # a power where the check can tell
+    assert abs(rejected / reps - claimed) < 4 * se
+
+
+def test_plan_power_uses_the_analysis_strata_and_counts_tank_runs():
+    from pathlib import Path
+
+    from trialkit.planning.plan import load_plan
+    from trialkit.planning.split_plot_power import split_plot_power, whole_plot_term_power
+    from trialkit.planning.whole_plots import whole_plot_settings
+
+    plan = load_plan(Path(__file__).resolve().parents[1] / "example_trials" /
+                     "tank-split-plot")
+    settings = whole_plot_settings(plan.trial)
+    res = split_plot_power(plan, settings, {"temperature": 10.0, "chelator": 10.0}, sd=4.0)
+    t = res.table.set_index("term")
+    assert (t.loc["temperature", "stratum"], t.loc["temperature", "error_df"]) == \
+        ("whole plot", 2)
+    assert (t.loc["chelator", "stratum"], t.loc["chelator", "error_df"]) == ("subplot", 12)
+    k = int(t.loc["temperature", "copies_needed"])
+    assert t.loc["temperature", "tank_runs_needed"] == 6 * k
+
+    def power(copies):
+        return whole_plot_term_power(effect=10.0, sd=4.0, baths=24 * copies,
+                                     whole_plots=6 * copies, variance_ratio=1.0,
+                                     error_df=copies * (6 - 3) - 1)
+
+    assert power(k) >= 0.8 > power(k - 1)
+    assert t.loc["chelator", "power"] > t.loc["temperature", "power"]
+
+
+def test_evaluate_command_shows_the_tank_runs_a_hard_to_change_effect_needs(cli):
+    import json
+    from pathlib import Path
+
+    folder = str(Path(__file__).resolve().parents[1] / "example_trials" / "tank-split-plot")
+    run = cli("evaluate", folder, "--sd", "4", "--effect", "10")
+    assert run.returncode == 0, run.stderr
+    assert "tested against the tank-to-tank error" in run.stdout
+    assert "temperature" in run.stdout and "12 tank runs" in run.stdout
+    assert "2 copies of the plan needed" in run.stdout
+    run = cli("evaluate", folder, "--sd", "4", "--effect", "10", "--json")
+    data = json.loads(run.stdout)
+    assert data["replicates_needed"] == 2
+    assert data["split_plot"]["terms"][0]["stratum"] == "whole plot"

@@ -67,6 +67,20 @@ def configure(parser: argparse.ArgumentParser) -> None:
     add_evaluation_options(parser)
 
 
+def _split_plot_power(plan, ev):
+    """Each term's power on its own stratum when the plan is a split plot, else None."""
+    from trialkit.planning.whole_plots import whole_plot_settings
+
+    settings = whole_plot_settings(plan.trial)
+    if settings is None or "whole_plot" not in plan.baths:
+        return None
+    from trialkit.planning.split_plot_power import split_plot_power
+
+    effects = {r.term: float(r.effect) for r in ev.summary.itertuples() if r.effect == r.effect}
+    return split_plot_power(plan, settings, effects, sd=ev.sd, alpha=ev.alpha,
+                            target_power=ev.target_power)
+
+
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
     from trialkit.planning.evaluation import evaluate_plan
@@ -76,14 +90,24 @@ def run(args: argparse.Namespace) -> int:
     ev = evaluate_plan(plan, **evaluation_kwargs(args))
     has_effects = bool(ev.summary.effect.notna().any())
     reps = ev.replicates_needed() if ev.estimable and has_effects else None
+    split = _split_plot_power(plan, ev) if has_effects else None
+    if split is not None and len(split.table):  # copies for power on the right strata
+        need = split.table.copies_needed
+        reps = None if need.isna().any() else int(need.max())
     if args.json:
         data = ev.to_dict()
         data["trial"] = plan.trial.title
         data["replicates_needed"] = reps
+        if split is not None:
+            data["split_plot"] = split.to_dict()
         print_json(data)
         return 0
     print(plan.trial.title)
     print(repr(ev))
+    if split is not None:
+        print("  the power above treats every bath as randomised on its own; in this split "
+              "plot\n  the hard-to-change terms are tested against the tank-to-tank error:")
+        print("  " + repr(split).replace("\n", "\n  "))
     if ev.estimable and has_effects:
         if reps is None:
             print("  replicates  more than 50 copies of the plan would be needed to reach "
