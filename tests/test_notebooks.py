@@ -65,10 +65,10 @@ def _kernel_env(monkeypatch):
     monkeypatch.setenv("MPLBACKEND", "Agg")
 
 
-def test_five_notebooks_with_outputs_cleared():
+def test_six_notebooks_with_outputs_cleared():
     assert NAMES == ["01_plan_a_sweep_and_check_power.ipynb", "02_mix_the_baths.ipynb",
                      "03_record_and_ingest.ipynb", "04_analyse_the_screening_trial.ipynb",
-                     "05_fit_the_surface_and_report.ipynb"]
+                     "05_fit_the_surface_and_report.ipynb", "06_split_plot_tanks.ipynb"]
     for name in NAMES:
         nb = nbformat.read(NOTEBOOKS / name, as_version=4)
         nbformat.validate(nb)
@@ -145,6 +145,18 @@ def test_04_screen_finds_the_truly_active_factors(tmp_path):
     for name in r["factors"]:
         assert (r["p_removal"][name] < ALPHA) == (name in real["removal"]), name
         assert (r["p_attack"][name] < ALPHA) == (name in real["corrosion"]), name
+
+
+def test_06_split_plot_tests_temperature_on_the_tank_runs(tmp_path):
+    r = run_notebook(NAMES[5], tmp_path)
+    assert r["strata"]["temperature"] == "whole plot"
+    assert r["strata"]["chelator"] == r["strata"]["surfactant"] == "subplot"
+    real = EXAMPLES["tank-split-plot"].truth.real_effects(["temperature", "chelator",
+                                                           "surfactant"])["removal"]
+    for name in ("temperature", "chelator", "surfactant"):
+        assert (r["p"][name] < ALPHA) == (name in real), name
+    assert r["split_width"] > r["naive_width"]
+    assert r["tank_runs_needed"] % 6 == 0 and r["tank_runs_needed"] > 6
 
 
 def test_05_surface_optimum_interval_covers_the_truth_and_cost_pulls_cheaper(tmp_path):
