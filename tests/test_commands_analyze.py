@@ -65,7 +65,10 @@ def test_json_contract_on_plain_table(tmp_path):
     assert [r["term"] for r in d["anova"]] == ["block", "chelator", "ph", "chelator:ph",
                                                 "chelator^2", "ph^2"]
     for row in d["anova"]:
-        assert set(row) == {"term", "df", "sum_sq", "mean_sq", "F", "p"}
+        assert set(row) == {"term", "df", "sum_sq", "mean_sq", "F", "p", "error_stratum",
+                            "error_df"}
+        # every term of a completely randomised trial is tested against the bath residual
+        assert (row["error_stratum"], row["error_df"]) == ("residual (baths)", 18 - 7)
     assert set(d["residual"]) == {"df", "sum_sq", "mean_sq"}
     assert d["residual"]["df"] == 18 - 7
     for key in ("r_squared", "adj_r_squared", "pred_r_squared"):

@@ -30,6 +30,7 @@ from trialkit.analysis.diagnostics import Diagnostics, diagnose
 from trialkit.analysis.effects import EffectsResult, two_level_effects
 from trialkit.analysis.model import ModelFit, fit_model
 from trialkit.analysis.reduction import ReductionResult, reduce_model
+from trialkit.analysis.response_checks import check_response_values
 from trialkit.analysis.surface import SurfaceResult, fit_surface
 from trialkit.analysis.sweep import SweepResult, fit_sweep
 from trialkit.exceptions import AnalysisError
@@ -224,6 +225,7 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
     """
     if anova_type not in (1, 2, 3):
         raise AnalysisError(f"ANOVA type must be 1, 2 or 3, got {anova_type!r}")
+    check_response_values(table, response)
     factors = tuple(factors)
     if not factors:
         raise AnalysisError("no factors given; name the factor columns (e.g. --factor "

@@ -208,6 +208,11 @@ def split_plot_anova(data: pd.DataFrame, response: str, *, whole_plot_factors: l
     if wp_df < 1 or sp_df < 1:
         raise AnalysisError(f"no degrees of freedom left for the whole-plot error ({wp_df}) "
                             f"or the subplot error ({sp_df}): replicate the whole plots")
+    total = float(np.sum((y - y.mean()) ** 2))
+    if not total > 0 or min(float(wp_ss[0]), float(sp_ss[0])) <= 1e-12 * total:
+        raise AnalysisError(f"response {response!r} leaves no variation between tank runs or "
+                            "between baths in one tank to judge the effects by (constant "
+                            "or exactly fitted readings): check the readings")
     return _anova_from(rows, wp_df, float(wp_ss[0]), sp_df, float(sp_ss[0]), response,
                        n_sub=len(data) // data[whole_plot].nunique())
 

@@ -35,6 +35,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from trialkit.analysis.response_checks import check_response_values
 from trialkit.analysis.split_plot import SUBPLOT, WHOLE_PLOT, split_plot_anova
 from trialkit.analysis.split_plot_mixed import split_plot_mixed_model
 from trialkit.exceptions import AnalysisError
@@ -92,6 +93,7 @@ def split_plot_tests(table: pd.DataFrame, response: str, whole_plot_factors: lis
                      block: str | None = None):
     """``(result, method)``: the exact two-stratum ANOVA when the trial is balanced, else the
     REML fit (:func:`trialkit.analysis.split_plot_mixed.split_plot_mixed_model`)."""
+    check_response_values(table, response)
     split = dict(whole_plot_factors=list(whole_plot_factors),
                  subplot_factors=list(subplot_factors), whole_plot=whole_plot, block=block)
     try:

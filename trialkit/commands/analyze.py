@@ -93,7 +93,6 @@ def run(args: argparse.Namespace) -> int:
     column = response_for(source, args.response)
     name = next((k for k, v in source.responses.items() if v == column), column)
     aim = args.aim or source.aims.get(name, "higher")
-    _check_response(source.table, column)
     result = analyze_table(
         source.table, column, source.factors,
         model=args.model or cfg.model_for(name),
@@ -168,7 +167,6 @@ def _split_plot(args: argparse.Namespace, table, path: Path) -> int:
     if not hard or not easy or not args.response:
         raise AnalysisError("--whole-plot needs --response, at least one --hard-to-change "
                             "factor and at least one other --factor (easy to change)")
-    _check_response(table, args.response)
     block = args.block if args.block in table.columns else None
     result, method = split_plot_tests(table, args.response, hard, easy,
                                       whole_plot=args.whole_plot, block=block)
@@ -184,8 +182,6 @@ def _split_plot(args: argparse.Namespace, table, path: Path) -> int:
 
 #: Largest number of bootstrap resamples asked for on the command line.
 MAX_BOOTSTRAP = 100_000
-#: Response values must lie within this magnitude (beyond it, give them in another unit).
-MAX_MAGNITUDE = 1e100
 
 
 def _check_options(args: argparse.Namespace) -> None:
@@ -203,29 +199,3 @@ def _check_options(args: argparse.Namespace) -> None:
     if args.threshold is not None and not 0 < args.threshold < 1:
         raise AnalysisError(f"--threshold must lie between 0 and 1 (e.g. 0.1); got "
                             f"{args.threshold}")
-
-
-def _check_response(table, column: str) -> None:
-    """Refuse a response that cannot be analysed: constant, non-finite, or so large or so
-    small that sums of squares leave the range of floating point."""
-    import numpy as np
-    import pandas as pd
-
-    from trialkit.exceptions import AnalysisError
-    from trialkit.trial.limits import short
-
-    if column not in table:
-        return  # analyze_table names the missing column
-    values = pd.to_numeric(table[column], errors="coerce").to_numpy(dtype=float)
-    values = values[~np.isnan(values)]
-    if np.isinf(values).any():
-        raise AnalysisError(f"response {short(column)!r} holds infinite values; remove them")
-    if len(values) and values.min() == values.max():
-        raise AnalysisError(f"response {short(column)!r} is constant (every value is "
-                            f"{values[0]:g}): there is no variation to analyse")
-    big = np.abs(values).max() if len(values) else 0.0
-    spread = values.max() - values.min() if len(values) else 0.0
-    if big > MAX_MAGNITUDE or (len(values) and 0 < spread < 1 / MAX_MAGNITUDE):
-        raise AnalysisError(f"response {short(column)!r} has values of magnitude "
-                            f"{big:.3g} and spread {spread:.3g}, outside what the analysis "
-                            f"handles (1e-100 to 1e100): give it in another unit")
