@@ -56,8 +56,18 @@ def test_photo_values_stored_beside_hand_values_with_their_source(tmp_path):
     photo_rows = hist[hist.field.str.contains("photo")]
     assert set(photo_rows.field) == {"coverage_before_photo_pct", "coverage_after_photo_pct"}
     row = photo_rows[photo_rows.field == "coverage_after_photo_pct"].iloc[0]
-    assert row.sha256 == hashlib.sha256(after.read_bytes()).hexdigest()
+    photo_hash = hashlib.sha256(after.read_bytes()).hexdigest()
+    m = batch.measurements[1]
+    # the source names the photo, its own SHA-256 and the method; the ingest key is the
+    # hash of the photo's hash and the method line
     assert row.source.startswith("photo B01-R1_after.png: ") and "otsu" in row.source
+    assert row.source.endswith(f"; photo sha256 {photo_hash}")
+    assert row.sha256 == hashlib.sha256(f"{photo_hash}\n{m.method_text()}".encode()
+                                        ).hexdigest()
+    from trialkit.photos.record import photo_readings
+
+    table = photo_readings(RecordLog.for_folder(folder).history(), folder)
+    assert photo_hash in set(table.sha256)
     assert abs(row.value - t_after) <= 2.0
     cur = RecordLog.for_folder(folder).current_values(plan).set_index("coupon")
     assert cur.at["B01-R1", "coverage_after_pct"] == 5.0  # the hand estimate is kept
@@ -69,6 +79,17 @@ def test_photo_values_stored_beside_hand_values_with_their_source(tmp_path):
     again = record_photos(folder, [after])
     assert list(again.table.status) == ["already_ingested"]
     assert RecordLog.for_folder(folder).count() == n
+    # the same photo measured with other settings is a new measurement, kept beside the
+    # first, with an overlay of its own
+    from dataclasses import replace
+
+    other = record_photos(folder, [after], settings=replace(m.settings, smoothing=2.0))
+    assert list(other.table.status) != ["already_ingested"]
+    rows = photo_readings(RecordLog.for_folder(folder).history(), folder)
+    rows = rows[rows.reading == "coverage_after_photo_pct"]
+    assert len(rows) == 2 and set(rows.sha256) == {photo_hash}
+    assert rows.method.str.contains("smoothing 2").sum() == 1
+    assert rows.overlay.nunique() == 2 and all(rows.overlay != "")
 
 
 def test_inspection_photo_goes_to_the_time_course(tmp_path):

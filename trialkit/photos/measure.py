@@ -137,6 +137,15 @@ class PhotoCoverage:
     coupon_mask: np.ndarray | None = field(default=None, repr=False, compare=False)
     rust_mask: np.ndarray | None = field(default=None, repr=False, compare=False)
 
+    @property
+    def reading_key(self) -> str:
+        """SHA-256 of the photo's hash and the method line: the record log's ingest key, so
+        the same photo measured again with other settings is a new reading, and measured
+        again with the same settings is recognised as already ingested."""
+        import hashlib
+
+        return hashlib.sha256(f"{self.sha256}\n{self.method_text()}".encode()).hexdigest()
+
     def method_text(self) -> str:
         """One line naming the method and its settings (the record log's source)."""
         sep = "" if self.separation is None else f", classes {self.separation:.1f} apart"

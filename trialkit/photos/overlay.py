@@ -72,8 +72,9 @@ def overlay_image(m: PhotoCoverage) -> np.ndarray:
 
 
 def overlay_name(m: PhotoCoverage) -> str:
-    """File name of the overlay: the photo's stem and the start of its SHA-256."""
-    return overlay_file_name(m.photo, m.sha256)
+    """File name of the overlay: the photo's stem and the start of its reading key (the
+    photo's SHA-256 with the method's settings: one overlay per measurement)."""
+    return overlay_file_name(m.photo, m.reading_key)
 
 
 def overlay_file_name(photo: str, sha256: str) -> str:

@@ -41,6 +41,8 @@ from trialkit.records.fields import PHOTO_COVERAGE_FIELDS
 #: The hand-recorded coverage field -> the field a photo measurement of it goes into.
 PHOTO_FIELDS: dict[str, str] = {k: f.name for k, f in PHOTO_COVERAGE_FIELDS.items()}
 SOURCE_PREFIX = "photo "
+#: Joins the method line and the photo's own SHA-256 in the record log's source.
+PHOTO_HASH_MARK = "; photo sha256 "
 _NAME = re.compile(r"^(?P<coupon>.+?)[_ ](?P<when>before|after|i(?P<n>\d{1,3}))$", re.I)
 
 TABLE_COLUMNS = ("photo", "rust_pct", "rust_pct_low", "rust_pct_high", "d610_grade", "rule",
@@ -222,8 +224,9 @@ def record_photos(folder: str | os.PathLike, photos: Iterable[str | os.PathLike]
     rows = []
     for m, t in zip(found, wanted, strict=True):
         res = log.add_readings([(t[0], t[1], t[2], round(m.rust_pct, 4))],
-                               source=f"{SOURCE_PREFIX}{m.photo}: {m.method_text()}",
-                               sha256=m.sha256, fingerprint=str(plan.fingerprint))
+                               source=f"{SOURCE_PREFIX}{m.photo}: {m.method_text()}"
+                                      f"{PHOTO_HASH_MARK}{m.sha256}",
+                               sha256=m.reading_key, fingerprint=str(plan.fingerprint))
         overlay = write_overlay(m, trial_folder / OVERLAY_FOLDER)
         rows.append(_row(m, overlay, t, res.status))
     return PhotoBatch(found, pd.DataFrame(rows, columns=list(TABLE_COLUMNS)), settings,
@@ -257,8 +260,10 @@ def photo_readings(history: pd.DataFrame, folder: str | os.PathLike) -> pd.DataF
     out = []
     for r in rows.itertuples(index=False):
         name, _, method = str(r.source)[len(SOURCE_PREFIX):].partition(": ")
+        method, mark, photo_sha = method.partition(PHOTO_HASH_MARK)
         path = Path(folder) / OVERLAY_FOLDER / overlay_file_name(name, str(r.sha256))
+        # logs written before the reading key held the photo's own hash as the ingest key
         out.append((r.coupon, int(r.inspection), r.field, float(r.value), int(r.revision),
-                    name, method, r.sha256, str(path) if path.exists() else "",
-                    r.ingested_at))
+                    name, method, photo_sha if mark else r.sha256,
+                    str(path) if path.exists() else "", r.ingested_at))
     return pd.DataFrame(out, columns=list(PHOTO_TABLE_COLUMNS))
