@@ -15,6 +15,7 @@ import argparse
 from pathlib import Path
 
 from trialkit.commands._output import print_json
+from trialkit.numbers import readable
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
@@ -231,7 +232,7 @@ def _check_response(table, column: str) -> None:
         raise AnalysisError(f"response {short(column)!r} holds infinite values; remove them")
     if len(values) and values.min() == values.max():
         raise AnalysisError(f"response {short(column)!r} is constant (every value is "
-                            f"{values[0]:g}): there is no variation to analyse")
+                            f"{readable(values[0])}): there is no variation to analyse")
     big = np.abs(values).max() if len(values) else 0.0
     spread = values.max() - values.min() if len(values) else 0.0
     if big > MAX_MAGNITUDE or (len(values) and 0 < spread < 1 / MAX_MAGNITUDE):
