@@ -99,7 +99,8 @@ def test_confirmation_baths_checked_against_prediction_intervals():
     assert c["mean"]["pi_low"] == pytest.approx(ref.mean["pi_low"])
     assert c["all_inside"] == ref.all_inside
     text = " ".join(b.text for b in report.section("confirm").blocks if b.kind == "text")
-    assert "Confirmation baths were run at chelator = 5, ph = 6.1." in text
+    # issue 17: settings in words with their units
+    assert "Confirmation baths were run at chelator 5 % w/v, pH 6.1." in text
 
 
 def test_reproducibility_lists_files_with_sha256():

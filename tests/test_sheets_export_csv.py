@@ -8,6 +8,7 @@ import io
 import pytest
 from malformed_sheets.make_corpus import make_test_plan
 
+from trialkit.chemistry.cautions import CSV_CAUTION
 from trialkit.problems import ProblemReport
 from trialkit.records.sheets.export_csv import CSV_STAMP, export_csv
 from trialkit.records.sheets.layout import coupon_layout
@@ -31,12 +32,15 @@ def test_layout_of_the_file(plan, tmp_path):
     stamp = dict(c.split("=", 1) for c in g[0][1:])
     assert stamp == {"version": "1", "layout": "coupons", "fingerprint": plan.fingerprint,
                      "seed": "4242", "title": plan.trial.title}
+    # issue 17: the caution line, one cell, below the stamp
+    assert g[1] == [CSV_CAUTION] and "safety data sheets" in g[1][0]
+    assert "," not in CSV_CAUTION and ";" not in CSV_CAUTION
     lay = coupon_layout(plan)
-    assert g[1] == [c.heading for c in lay.columns]
-    assert g[2] == [c.name for c in lay.columns]
-    assert len(g) == 3 + len(plan.table)
-    names = g[2]
-    rows = [dict(zip(names, r, strict=True)) for r in g[3:]]
+    assert g[2] == [c.heading for c in lay.columns]
+    assert g[3] == [c.name for c in lay.columns]
+    assert len(g) == 4 + len(plan.table)
+    names = g[3]
+    rows = [dict(zip(names, r, strict=True)) for r in g[4:]]
     ordered = plan.table.sort_values(["run", "coupon"])
     assert [r["coupon"] for r in rows] == ordered["coupon"].tolist()
     assert rows[0]["run"] == "1"
@@ -49,8 +53,8 @@ def test_layout_of_the_file(plan, tmp_path):
 
 def test_control_bath_has_empty_factor_cells(plan, tmp_path):
     g = grid(export_csv(plan, tmp_path / "s.csv"))
-    names = g[2]
-    control = [dict(zip(names, r, strict=True)) for r in g[3:]
+    names = g[3]
+    control = [dict(zip(names, r, strict=True)) for r in g[4:]
                if r[names.index("point")] == "control"]
     assert len(control) == 3
     assert all(r["chelator"] == "" and r["surfactant"] == "" for r in control)
@@ -59,8 +63,9 @@ def test_control_bath_has_empty_factor_cells(plan, tmp_path):
 def test_inspection_sheet(plan, tmp_path):
     g = grid(export_csv(plan, tmp_path / "i.csv", layout="inspections"))
     assert "layout=inspections" in g[0]
-    assert g[2][:6] == ["run", "bath", "coupon", "block", "inspection", "planned_h"]
-    assert len(g) == 3 + 2 * len(plan.table)
+    assert g[1] == [CSV_CAUTION]
+    assert g[3][:6] == ["run", "bath", "coupon", "block", "inspection", "planned_h"]
+    assert len(g) == 4 + 2 * len(plan.table)
 
 
 def test_user_title_with_formula_start_is_escaped(tmp_path):
@@ -73,3 +78,14 @@ def test_user_title_with_formula_start_is_escaped(tmp_path):
     (raw,) = read_sheet_file(path, path.read_bytes(), problems)
     assert not problems
     assert raw.meta["title"] == "=cmd|' /C calc'!A0"  # the same plain text comes back
+
+
+def test_the_caution_line_is_read_past(plan, tmp_path):
+    # issue 17: ingest passes over the caution line; the coupons start on line 5
+    path = export_csv(plan, tmp_path / "s.csv")
+    problems = ProblemReport(path.name)
+    (raw,) = read_sheet_file(path, path.read_bytes(), problems)
+    assert not problems
+    assert raw.headings == [c.heading for c in coupon_layout(plan).columns]
+    assert len(raw.rows) == len(plan.table) and raw.rows[0][0] == 5
+    assert not any("CAUTION" in str(v) for _, values in raw.rows for v in values)

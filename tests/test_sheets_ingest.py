@@ -23,6 +23,7 @@ from malformed_sheets.make_corpus import (
     xlsx_row,
 )
 
+from trialkit.chemistry.cautions import CSV_CAUTION
 from trialkit.exceptions import SheetError
 from trialkit.records.log import RecordLog
 from trialkit.records.sheets import export_csv, export_xlsx, ingest_sheet
@@ -58,9 +59,12 @@ def test_round_trip_every_field_type(fmt, plan, blanks, tmp_path):
     blank = blanks[0] if fmt == "csv" else blanks[1]
     fill = fill_csv if fmt == "csv" else fill_xlsx
     sheet = fill(blank, tmp_path / f"filled.{fmt}", good_readings())
+    if fmt == "csv":  # issue 17: the caution line goes out, and ingest passes over it
+        assert _csv_grid(sheet)[1] == [CSV_CAUTION]
     before = sha(sheet)
     report = ingest_sheet(sheet, plan)
     assert report.status == "accepted", repr(report)
+    assert not [p for p in report.problems if "CAUTION" in str(p.value)]
     assert sha(sheet) == before  # the original file is never modified
     n_values = sum(len(v) for v in good_readings().values())
     assert len(report.accepted) == n_values
@@ -127,7 +131,7 @@ def test_problem_places_are_spreadsheet_rows(plan, blanks, tmp_path):
     sheet = fill_csv(csv_blank, tmp_path / "bad.csv", bad)
     report = check_sheet(sheet, plan)
     grid = _csv_grid(sheet)
-    line = {r[2]: i + 1 for i, r in enumerate(grid)}
+    line = {r[2]: i + 1 for i, r in enumerate(grid) if len(r) > 2}  # not the caution line
     got = {(p.row, p.column, p.check, p.value) for p in report.problems}
     assert got == {(line["B01-R1"], "mass_initial_g", "wrong_type", "heavy"),
                    (line["B02-R2"], "bath_ph", "out_of_range", "15.0"),
@@ -158,8 +162,8 @@ def test_semicolons_and_decimal_commas_are_read(plan, blanks, tmp_path):
 def test_moved_columns_are_found_by_machine_name(plan, blanks, tmp_path):
     sheet = fill_csv(blanks[0], tmp_path / "f.csv", good_readings())
     grid = _csv_grid(sheet)
-    order = list(reversed(range(len(grid[1]))))
-    moved = [grid[0]] + [[r[i] for i in order] for r in grid[1:]]
+    order = list(reversed(range(len(grid[2]))))  # below the stamp and the caution line
+    moved = grid[:2] + [[r[i] for i in order] for r in grid[2:]]
     _write_grid(tmp_path / "moved.csv", moved)
     report = ingest_sheet(tmp_path / "moved.csv", plan)
     assert report.status == "accepted", repr(report)
@@ -224,8 +228,8 @@ def test_blank_sheet_stores_nothing(plan, blanks):
 def test_inspection_sheet_round_trip(plan, tmp_path):
     blank = export_csv(plan, tmp_path / "insp.csv", layout="inspections")
     grid = _csv_grid(blank)
-    names = grid[2]
-    for row in grid[3:]:
+    names = grid[3]  # below the stamp, the caution line and the headings
+    for row in grid[4:]:
         if row[names.index("coupon")] == "B01-R1":
             i = int(row[names.index("inspection")])
             row[names.index("elapsed_h")] = ["2.1", "23.5"][i - 1]

@@ -35,12 +35,12 @@ def test_separators_and_byte_order_mark(blank, tmp_path, delimiter, encoding, de
     assert raw.headings[2] == "Coupon id"
     assert raw.decimal_comma is decimal_comma
     assert raw.layout == "coupons" and raw.meta["seed"] == "4242"
-    assert len(raw.rows) == 15 and raw.rows[0][0] == 4  # data starts on line 4
+    assert len(raw.rows) == 15 and raw.rows[0][0] == 5  # data starts on line 5
 
 
 def test_no_machine_name_row(blank, tmp_path):
     grid = _csv_grid(blank)
-    del grid[2]
+    del grid[3]  # the machine names (below the stamp, the caution line, the headings)
     tables, problems = read(_write_grid(tmp_path / "x.csv", grid))
     assert tables == [] and problems.checks() == ["no_header"]
 

@@ -79,6 +79,6 @@ def test_unit_spellings_in_headings(setup, heading, checks):
     plan, blank, tmp = setup
     grid = _csv_grid(fill_csv(blank, tmp / "f.csv", {"B01-R1": {"mass_initial_g": 1.0,
                                                                 "area_cm2": 20.0}}))
-    grid[1][grid[2].index("area_cm2")] = heading
+    grid[2][grid[3].index("area_cm2")] = heading
     result = check_sheet(_write_grid(tmp / "g.csv", grid), plan)
     assert result.problems.checks() == checks

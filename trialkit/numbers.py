@@ -10,6 +10,8 @@ Examples
 ['0.05163', '12346', '40', '0.00000001007', '≈ 0', '']
 >>> readable_p(1.443e-15), readable_p(0.01372)
 ('< 0.001', '0.014')
+>>> readable_interval(62.4817, 55.0266, 69.9368)
+('62', '55', '70')
 >>> settings_text({"chelator": 3.9312, "ph": 6.2, "surfactant": "added"},
 ...               {"chelator": "% w/v", "ph": "pH"})
 'chelator 3.93 % w/v, pH 6.2, surfactant = added'
@@ -68,6 +70,70 @@ def readable_p(value) -> str:
     if math.isnan(v):
         return ""
     return "< 0.001" if v < 0.001 else readable(v, 2)
+
+
+def readable_interval(value, low, high, digits: int = 2) -> tuple[str, str, str]:
+    """An estimate and its interval written to one decimal place, the one that gives the
+    interval's width ``digits`` significant digits (so no digit is quoted that the interval
+    does not support).  Falls back to :func:`readable` when the width is zero, not finite,
+    or outside plain notation's range.
+
+    >>> readable_interval(0.051634, 0.04012, 0.06318)
+    ('0.052', '0.040', '0.063')
+    """
+    try:
+        v, lo, hi = float(value), float(low), float(high)
+    except (TypeError, ValueError):
+        return readable(value), readable(low), readable(high)
+    width = abs(hi - lo)
+    if (not all(math.isfinite(x) for x in (v, lo, hi)) or not 1e-9 <= width < 1e9
+            or max(abs(v), abs(lo), abs(hi)) >= 1e9):
+        return readable(v), readable(lo), readable(hi)
+    decimals = max(0, digits - 1 - math.floor(math.log10(width)))
+    out = []
+    for x in (v, lo, hi):
+        text = f"{round(x, decimals):.{decimals}f}"
+        out.append("0" if text.lstrip("-").strip("0.") == "" else text)
+    return out[0], out[1], out[2]
+
+
+def readable_cell(value, is_p: bool = False, digits: int = 4) -> str:
+    """One table cell: numbers by :func:`readable` (or :func:`readable_p` in a p-value
+    column), ``None`` empty, booleans and text as they are.
+
+    >>> readable_cell(1.2345e-05), readable_cell(3.2e-07, is_p=True), readable_cell("B01")
+    ('0.00001234', '< 0.001', 'B01')
+    """
+    if value is None:
+        return ""
+    if isinstance(value, bool) or isinstance(value, str):
+        return str(value)
+    if hasattr(value, "__float__"):
+        return readable_p(value) if is_p else readable(value, digits)
+    return str(value)
+
+
+def readable_frame(table, digits: int = 4):
+    """A copy of a pandas DataFrame with every cell as text by :func:`readable_cell`
+    (p-value columns, :data:`P_COLUMNS`, as ``< 0.001``), ready for ``to_string`` or
+    ``to_html``."""
+    out = table.copy()
+    for col in out.columns:
+        is_p = str(col) in P_COLUMNS
+        out[col] = [readable_cell(v, is_p, digits) for v in out[col]]
+    return out
+
+
+def readable_table(table, digits: int = 4) -> str:
+    """A pandas DataFrame as console text, cells by :func:`readable_frame`.
+
+    >>> import pandas as pd
+    >>> print(readable_table(pd.DataFrame({"term": ["ph"], "F": [1.23456e6],
+    ...                                    "PR(>F)": [2e-9]})))
+    term       F  PR(>F)
+      ph 1234560 < 0.001
+    """
+    return readable_frame(table, digits).to_string(index=False)
 
 
 def settings_text(settings: Mapping[str, Any] | None,

@@ -98,6 +98,11 @@ def _csv_grid(path: Path) -> list[list[str]]:
     return list(csv.reader(io.StringIO(path.read_text(encoding="utf-8-sig"), newline="")))
 
 
+def name_row(grid: list[list[str]]) -> int:
+    """Index of the machine-name row (below the stamp, the caution line and the headings)."""
+    return next(i for i, r in enumerate(grid) if "coupon" in r)
+
+
 def _write_grid(path: Path, grid: list[list[str]], *, delimiter: str = ",",
                 encoding: str = "utf-8-sig") -> Path:
     buf = io.StringIO()
@@ -113,8 +118,9 @@ def fill_csv(src: Path, dst: Path, readings: dict[str, dict[str, Any]], *,
     from trialkit.records.sheets.textsafe import escape_text
 
     grid = _csv_grid(src)
-    names = grid[2]
-    for row in grid[3:]:
+    at = name_row(grid)
+    names = grid[at]
+    for row in grid[at + 1:]:
         for name, value in readings.get(row[names.index("coupon")], {}).items():
             row[names.index(name)] = (escape_text(value) if isinstance(value, str)
                                       else repr(value))
@@ -188,12 +194,13 @@ def _codes(check: str | list[str]) -> list[str]:
 
 # -- the corpus --------------------------------------------------------------------------
 def _csv_rows(grid: list[list[str]], coupon: str) -> list[str]:
-    names = grid[2]
-    return next(r for r in grid[3:] if r[names.index("coupon")] == coupon)
+    at = name_row(grid)
+    names = grid[at]
+    return next(r for r in grid[at + 1:] if r[names.index("coupon")] == coupon)
 
 
 def _set(grid: list[list[str]], coupon: str, name: str, value: str) -> None:
-    _csv_rows(grid, coupon)[grid[2].index(name)] = value
+    _csv_rows(grid, coupon)[grid[name_row(grid)].index(name)] = value
 
 
 def build_corpus(folder: Path, plan: Any) -> dict[str, tuple[Path, list[str]]]:
@@ -245,14 +252,15 @@ def build_corpus(folder: Path, plan: Any) -> dict[str, tuple[Path, list[str]]]:
                                                    "mass_final_g": 25.4}})
     csv_case("no_stamp_line", "no_metadata", edit=lambda g: g.pop(0))
     csv_case("unknown_column", "unknown_column",
-             edit=lambda g: [r.append("weight_g" if i == 2 else "") for i, r in enumerate(g)])
+             edit=lambda g: [r.append("weight_g" if i == name_row(g) else "")
+                             for i, r in enumerate(g)])
 
     def swap_names(g: list[list[str]]) -> None:  # columns transposed under their headings
-        names = g[2]
+        at = name_row(g)
+        names = g[at]
         i, j = names.index("mass_initial_g"), names.index("mass_final_g")
-        for r in g[1:]:
+        for r in g[at:]:  # names and values swapped, headings not: names and words differ
             r[i], r[j] = r[j], r[i]
-        g[1][i], g[1][j] = g[1][j], g[1][i]  # headings swapped back: names and words differ
 
     csv_case("transposed_columns", ["heading_mismatch", "heading_mismatch"], edit=swap_names)
 

@@ -36,6 +36,7 @@ from scipy import optimize, stats
 
 from trialkit.analysis.data import finite
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable
 from trialkit.trial.factors import Factor
 from trialkit.trial.model_grammar import parse_model
 from trialkit.trial.model_matrix import coded_frame, model_matrix
@@ -100,7 +101,7 @@ class CensoredFit:
 
     def __repr__(self) -> str:
         return (f"CensoredFit({self.response!r}: {self.n} baths, {self.n_censored} "
-                f"censored, sigma {self.sigma:.3g})")
+                f"censored, sigma {readable(self.sigma, 3)})")
 
 
 def _negloglik(theta, X, y, event):

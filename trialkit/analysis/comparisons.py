@@ -35,6 +35,7 @@ import pandas as pd
 from scipy import stats
 
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable
 from trialkit.trial.factors import Factor
 
 TUKEY = "Tukey HSD (Tukey-Kramer, from the fitted model)"
@@ -108,7 +109,7 @@ def treatment_label(row: pd.Series, factors: Sequence[Factor]) -> str:
         v = row[f.name]
         if f.is_continuous:
             unit = f" {f.unit}" if f.unit else ""
-            parts.append(f"{f.name} {float(v):g}{unit}")
+            parts.append(f"{f.name} {readable(float(v))}{unit}")
         else:
             parts.append(f"{f.name} = {v}")
     return ", ".join(parts)

@@ -32,6 +32,7 @@ from scipy import stats
 from trialkit.analysis.data import finite
 from trialkit.analysis.exact import to_decimals
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable, readable_interval
 
 
 @dataclass
@@ -71,11 +72,12 @@ class ConfirmationResult:
     @property
     def rule(self) -> str:
         return (f"confirmed when the mean of the {self.mean['n']} confirmation baths lies in "
-                f"the {100 * self.level:.4g} % prediction interval for such a mean "
+                f"the {readable(100 * self.level)} % prediction interval for such a mean "
                 f"(Bonferroni over {self.n_responses} response"
                 f"{'s' if self.n_responses != 1 else ''}: a correct model fails one "
-                f"response's check {100 * self.false_alarm_rate:.2g} % of the time, all "
-                f"together at most {100 * self.false_alarm_rate * self.n_responses:.2g} %)")
+                f"response's check {readable(100 * self.false_alarm_rate, 2)} % of the time, all "
+                f"together at most "
+                f"{readable(100 * self.false_alarm_rate * self.n_responses, 2)} %)")
 
     @property
     def summary(self) -> pd.DataFrame:
@@ -91,8 +93,9 @@ class ConfirmationResult:
                          for k, v in self.mean.items()}}
 
     def __repr__(self) -> str:
-        return (f"ConfirmationResult(mean {self.mean['observed']:.6g} in "
-                f"[{self.mean['pi_low']:.6g}, {self.mean['pi_high']:.6g}]: "
+        mean, lo, hi = readable_interval(self.mean["observed"], self.mean["pi_low"],
+                                         self.mean["pi_high"])
+        return (f"ConfirmationResult(mean {mean} in [{lo}, {hi}]: "
                 f"{'inside' if self.all_inside else 'NOT inside'})")
 
     def _repr_html_(self) -> str:

@@ -19,6 +19,7 @@ from scipy import stats
 
 from trialkit.analysis.data import finite
 from trialkit.analysis.linear import rss_of
+from trialkit.numbers import readable_p
 
 LAMBDAS = (-1.0, -0.5, 0.0, 0.5, 1.0, 2.0)
 NAMES = {-1.0: "reciprocal", -0.5: "reciprocal square root", 0.0: "log",
@@ -69,8 +70,8 @@ class Diagnostics:
                 "box_cox": clean(self.box_cox)}
 
     def __repr__(self) -> str:
-        return (f"Diagnostics({int(self.table.flagged.sum())} flagged, normality p = "
-                f"{self.normality['p']:.3g})")
+        return (f"Diagnostics({int(self.table.flagged.sum())} flagged, normality p "
+                f"{readable_p(self.normality['p'])})")
 
     def _repr_html_(self) -> str:
         return self.table.to_html(index=False)

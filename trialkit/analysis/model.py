@@ -34,6 +34,7 @@ from trialkit.analysis.exact import shift_decimal
 from trialkit.analysis.linear import LeastSquares, least_squares
 from trialkit.analysis.natural import natural_coefficients
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable
 from trialkit.trial.factors import Factor
 from trialkit.trial.model_grammar import INTERCEPT, ModelSpec, Term, parse_model
 from trialkit.trial.model_matrix import ModelMatrix, coded_frame, model_matrix
@@ -362,10 +363,10 @@ def range_text(limits: tuple) -> str:
     """``"0 to 100"``, ``"at least 0"``, ``"at most 10"`` or ``"unbounded"``."""
     lo, hi = limits
     if lo is not None and hi is not None:
-        return f"{lo:g} to {hi:g}"
+        return f"{readable(lo)} to {readable(hi)}"
     if lo is not None:
-        return f"at least {lo:g}"
-    return f"at most {hi:g}" if hi is not None else "unbounded"
+        return f"at least {readable(lo)}"
+    return f"at most {readable(hi)}" if hi is not None else "unbounded"
 
 
 def with_block(spec: ModelSpec, natural: pd.DataFrame, block: str | None

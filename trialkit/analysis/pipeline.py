@@ -34,6 +34,13 @@ from trialkit.analysis.response_checks import check_response_values
 from trialkit.analysis.surface import SurfaceResult, fit_surface
 from trialkit.analysis.sweep import SweepResult, fit_sweep
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import (
+    readable,
+    readable_interval,
+    readable_p,
+    readable_table,
+    settings_text,
+)
 from trialkit.trial.factors import Factor
 from trialkit.trial.model_grammar import parse_model
 
@@ -93,38 +100,42 @@ class AnalysisResult:
                  f"scale: {f.scale}",
                  f"ANOVA (type {self.anova_type}" + (", Lenth's method: saturated model"
                                                      if a.test == "lenth" else "") + ")"]
-        tab = a.summary.copy()
-        lines.append(tab.to_string(index=False, float_format=lambda v: f"{v:.6g}"))
+        lines.append(readable_table(a.summary))
         r = a.residual
-        lines.append(f"residual: df {r['df']}, sum of squares {r['sum_sq']:.6g}")
+        lines.append(f"residual: df {r['df']}, sum of squares {readable(r['sum_sq'])}")
         lines.append(f"R² {f.r_squared:.4f}   adjusted R² {f.adj_r_squared:.4f}   "
                      f"predicted R² {f.pred_r_squared:.4f}")
         if a.lack_of_fit and np.isfinite(a.lack_of_fit["p"]):
-            lines.append(f"lack of fit: F {a.lack_of_fit['F']:.4g}, p {a.lack_of_fit['p']:.4g}")
+            lines.append(f"lack of fit: F {readable(a.lack_of_fit['F'])}, "
+                         f"p {readable_p(a.lack_of_fit['p'])}")
         if a.curvature:
-            lines.append(f"curvature (centre points): F {a.curvature['F']:.4g}, "
-                         f"p {a.curvature['p']:.4g}")
+            lines.append(f"curvature (centre points): F {readable(a.curvature['F'])}, "
+                         f"p {readable_p(a.curvature['p'])}")
         lines.append("coefficients (factors' own units):")
-        lines.append(f.coefficients[["term", "estimate", "std_error", "ci_low", "ci_high"]]
-                     .to_string(index=False, float_format=lambda v: f"{v:.6g}"))
+        lines.append(readable_table(
+            f.coefficients[["term", "estimate", "std_error", "ci_low", "ci_high"]]))
         if self.effects is not None:
-            lines.append(f"Lenth: PSE {self.effects.lenth.pse:.6g}, ME "
-                         f"{self.effects.lenth.me:.6g}, SME {self.effects.lenth.sme:.6g}")
+            le = self.effects.lenth
+            lines.append(f"Lenth: PSE {readable(le.pse)}, ME {readable(le.me)}, "
+                         f"SME {readable(le.sme)}")
         if self.surface is not None:
             lines.append(f"surface: {self.surface.kind}")
         if self.sweep is not None:
             s = self.sweep
-            lines.append(f"sweep: best {s.best:.4g} (Fieller {s.fieller_low:.4g} to "
-                         f"{s.fieller_high:.4g}), lean level {s.lean_level:.4g}, falls off "
-                         f"at high levels: {'yes' if s.falls_off else 'no'}")
+            best, lo, hi = readable_interval(s.best, s.fieller_low, s.fieller_high)
+            lines.append(f"sweep: best {best} (Fieller {lo} to {hi}), lean level "
+                         f"{readable(s.lean_level)}, falls off at high levels: "
+                         f"{'yes' if s.falls_off else 'no'}")
         if self.optimum is not None:
             o = self.optimum
-            lines.append(f"best settings {o['settings']}: predicted {o['predicted']:.6g}, "
-                         f"prediction interval {o['pi_low']:.6g} to {o['pi_high']:.6g}")
+            units = {fac.name: fac.unit for fac in f.spec.used_factors}
+            est, lo, hi = readable_interval(o["predicted"], o["pi_low"], o["pi_high"])
+            lines.append(f"best settings {settings_text(o['settings'], units)}: predicted "
+                         f"{est}, prediction interval {lo} to {hi}")
         drift = self.diagnostics.drift if self.diagnostics is not None else None
         if drift and np.isfinite(drift["p"]) and drift["p"] < f.alpha:
             lines.append(f"residuals trend with run order (drift?): Spearman rho "
-                         f"{drift['rho']:.3g}, p {drift['p']:.3g}")
+                         f"{readable(drift['rho'], 2)}, p {readable_p(drift['p'])}")
         if self.diagnostics is not None and len(self.diagnostics.flagged):
             lines.append("flagged baths: " + ", ".join(
                 f"{b} ({r})" for b, r in zip(self.diagnostics.flagged.bath,

@@ -138,8 +138,9 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
         sw = data.sweeps[primary]
         return {sw.factor.name: float(sw.lean_level)}, (
             f"the practical lean level of the sweep: the lowest {sw.factor.name} whose "
-            f"predicted {primary} is within {sw.tolerance:.3g} {spec.unit} of the best "
-            f"(best at {sw.best:.3g} {sw.factor.unit})")
+            f"predicted {primary} is within {readable(sw.tolerance, 3)} "
+            f"{readable_unit(spec.unit)} of the "
+            f"best (best at {readable(sw.best, 3)} {readable_unit(sw.factor.unit)})")
     grid = _candidates(data.trial, 3)
     pred = data.fits[primary].predict(grid, clip=False).predicted.to_numpy()
     k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
@@ -246,7 +247,7 @@ def recommend(data: TrialAnalysis) -> None:
     pr = data.fits[primary].pred_r_squared
     if np.isfinite(pr) and pr < WEAK_PRED_R2:
         source += (f"; the model for {primary} is weak (predicted R² = {pr:.2f}, below "
-                   f"{WEAK_PRED_R2:g}): it should not decide on its own; confirm first")
+                   f"{readable(WEAK_PRED_R2)}): it should not decide on its own; confirm first")
     rows = []
     for name, fit in data.fits.items():
         p1, p3 = (_predict(data, name, settings, n) for n in (1, 3))
@@ -310,14 +311,15 @@ def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
         half = t * float(np.sqrt(d @ fit.ls.xtx_inv @ d * fit.sigma2))
         lo, hi = diff - half, diff + half
         (same if np.isfinite(half) and -margin <= lo and hi <= margin else open_).append(
-            f"{name} ({lo:.3g} to {hi:.3g})")
+            f"{name} ({readable(lo, 3)} to {readable(hi, 3)})")
     parts = []
     if same:
         parts.append(", ".join(same) + f": the change over the range lies within the "
-                     f"practical margin of ±{margin:.3g}, so either setting will do there")
+                     f"practical margin of ±{readable(margin, 3)}, so either setting will do there")
     if open_:
         parts.append(", ".join(open_) + f": no detectable effect, but the interval of the "
-                     f"change reaches beyond the practical margin of ±{margin:.3g}, so the "
+                     f"change reaches beyond the practical margin of ±{readable(margin, 3)}, so "
+                     "the "
                      "trial cannot say that either setting will do")
     return "; ".join(parts)
 

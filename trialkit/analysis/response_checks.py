@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable
 from trialkit.trial.limits import short
 
 #: Response values must lie within this magnitude (beyond it, give them in another unit).
@@ -33,7 +34,7 @@ def check_response_values(table: pd.DataFrame, column: str) -> None:
         raise AnalysisError(f"response {short(column)!r} holds infinite values; remove them")
     if len(values) and values.min() == values.max():
         raise AnalysisError(f"response {short(column)!r} is constant (every value is "
-                            f"{values[0]:g}): there is no variation to analyse")
+                            f"{readable(values[0])}): there is no variation to analyse")
     big = np.abs(values).max() if len(values) else 0.0
     spread = values.max() - values.min() if len(values) else 0.0
     if big > MAX_MAGNITUDE or (len(values) and 0 < spread < 1 / MAX_MAGNITUDE):

@@ -42,6 +42,7 @@ from trialkit.analysis.data import finite
 from trialkit.analysis.linear import batched_refit, bootstrap_responses
 from trialkit.analysis.optimum_region import METHOD, bootstrap_region
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable, readable_interval, settings_text
 from trialkit.trial.model_matrix import model_matrix
 
 AIMS = ("higher", "lower")
@@ -215,11 +216,12 @@ class SurfaceResult:
 
     def __repr__(self) -> str:
         o = self.optimum
-        return (f"SurfaceResult({self.kind}, best {o['settings']} -> {o['predicted']:.6g} "
-                f"[{o['pi_low']:.6g}, {o['pi_high']:.6g}])")
+        est, lo, hi = readable_interval(o["predicted"], o["pi_low"], o["pi_high"])
+        return (f"SurfaceResult({self.kind}, best {settings_text(o['settings'])} -> {est} "
+                f"[{lo}, {hi}])")
 
     def _repr_html_(self) -> str:
-        return f"<p>{self.kind}; best predicted {self.optimum['predicted']:.6g}</p>" + \
+        return f"<p>{self.kind}; best predicted {readable(self.optimum['predicted'])}</p>" + \
             self.summary.to_html(index=False)
 
 

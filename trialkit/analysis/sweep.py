@@ -39,6 +39,7 @@ from trialkit.analysis.data import finite
 from trialkit.analysis.linear import batched_refit, bootstrap_responses
 from trialkit.analysis.model import fit_model
 from trialkit.exceptions import AnalysisError
+from trialkit.numbers import readable, readable_interval
 from trialkit.trial.factors import Factor
 
 
@@ -134,9 +135,9 @@ class SweepResult:
                                           for k, v in self.optimum.items()}}
 
     def __repr__(self) -> str:
-        return (f"SweepResult({self.factor.name}: best {self.best:.4g} "
-                f"[Fieller {self.fieller_low:.4g}, {self.fieller_high:.4g}], lean level "
-                f"{self.lean_level:.4g}, falls off: {self.falls_off})")
+        best, lo, hi = readable_interval(self.best, self.fieller_low, self.fieller_high)
+        return (f"SweepResult({self.factor.name}: best {best} [Fieller {lo}, {hi}], lean "
+                f"level {readable(self.lean_level)}, falls off: {self.falls_off})")
 
     def _repr_html_(self) -> str:
         return self.summary.to_html(index=False)

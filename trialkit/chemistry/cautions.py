@@ -17,6 +17,14 @@ GENERAL = (
     "Predicted pH values are model estimates: confirm every bath with a calibrated pH meter.",
 )
 
+#: The caution line CSV outputs (mixing sheet, recording sheets) carry above their
+#: tables: one cell with no comma or semicolon, so that a spreadsheet program set to
+#: either separator keeps it whole in the first column.
+CSV_CAUTION = ("# CAUTION: wear eye protection and chemical-resistant gloves. Acid on steel "
+               "gives off hydrogen: vent it and keep flames away. Dispose of spent baths "
+               "holding dissolved metals as local rules require. The safety data sheets as "
+               "well as local codes and licensed practice take precedence over this file.")
+
 BY_HAZARD = {
     "alkaline": "Alkaline solid and bath: irritating to eyes and skin; keep away from "
                 "aluminium, zinc and galvanised parts.",

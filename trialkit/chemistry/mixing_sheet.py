@@ -17,6 +17,7 @@ import pandas as pd
 
 from trialkit.chemistry.amounts import Amount, parse_amount
 from trialkit.chemistry.bathspec import BathSection
+from trialkit.chemistry.cautions import CSV_CAUTION as _CAUTION
 from trialkit.chemistry.cautions import GENERAL
 from trialkit.chemistry.cost import packs_needed
 from trialkit.chemistry.recipe import BathRecipe, BathSpec, make_recipe
@@ -24,9 +25,7 @@ from trialkit.chemistry.volume import bath_volume
 from trialkit.exceptions import ChemistryError
 
 #: First line of the CSV mixing sheet.
-CSV_CAUTION = ("# CAUTION: wear eye protection and chemical-resistant gloves; read the safety "
-               "data sheet of every ingredient (it and local codes take precedence); the "
-               "HTML mixing sheet lists the cautions of these baths.")
+CSV_CAUTION = _CAUTION + " The HTML mixing sheet lists the cautions of these baths."
 
 #: Columns of :meth:`MixingSheet.table` (one row per bath and ingredient).
 SHEET_COLUMNS = ("recipe", "bath", "point", "volume_l", "ingredient", "grams", "millilitres",

@@ -7,6 +7,7 @@ import argparse
 from trialkit.chemistry.recipe import BathSpec, make_recipe
 from trialkit.commands._output import print_json
 from trialkit.exceptions import ChemistryError
+from trialkit.numbers import readable
 from trialkit.units import to_unit
 
 
@@ -50,11 +51,12 @@ def run(args: argparse.Namespace) -> int:
 
 def format_recipe(recipe) -> str:
     """Plain-text recipe for the terminal."""
-    lines = [f"Bath {recipe.bath}: {recipe.volume_l:g} L at {recipe.temperature_c:g} degC"]
+    lines = [f"Bath {recipe.bath}: {readable(recipe.volume_l)} L at "
+             f"{readable(recipe.temperature_c)} °C"]
     for ln in recipe.lines:
-        ml = "" if ln.millilitres is None else f" ({ln.millilitres:.3g} mL)"
+        ml = "" if ln.millilitres is None else f" ({readable(ln.millilitres, 3)} mL)"
         lines.append(f"  {ln.grams:10.2f} g{ml}  {ln.name}  [{ln.basis}]")
-    tgt = "" if recipe.target_ph is None else f"target pH {recipe.target_ph:g}, "
+    tgt = "" if recipe.target_ph is None else f"target pH {readable(recipe.target_ph)}, "
     lines.append(f"  {tgt}predicted pH {recipe.predicted_ph:.2f}, ionic strength "
                  f"{recipe.ionic_strength:.2f} mol/kg")
     if recipe.cost.total is not None:

@@ -83,6 +83,7 @@ def _split_plot_power(plan, ev):
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
+    from trialkit.numbers import readable
     from trialkit.planning.evaluation import evaluate_plan
     from trialkit.planning.plan import load_plan
 
@@ -111,9 +112,9 @@ def run(args: argparse.Namespace) -> int:
     if ev.estimable and has_effects:
         if reps is None:
             print("  replicates  more than 50 copies of the plan would be needed to reach "
-                  f"power {ev.target_power:g} for every term")
+                  f"power {readable(ev.target_power)} for every term")
         else:
             copies = "copy" if reps == 1 else "copies"
             print(f"  replicates  {reps} {copies} of the plan needed for power "
-                  f"{ev.target_power:g} in every term with an effect size")
+                  f"{readable(ev.target_power)} in every term with an effect size")
     return 0

@@ -11,6 +11,7 @@ import argparse
 import warnings
 
 from trialkit.commands._output import print_json
+from trialkit.numbers import readable_table
 
 SHOWN = ("removal_pct", "rust_removed_g_per_m2", "corrosion_rate_mm_per_y", "rust_grade")
 
@@ -48,10 +49,10 @@ def run(args: argparse.Namespace) -> int:
     with pd.option_context("display.width", 160, "display.max_columns", 30):
         print(f"{resp!r}")
         print(f"metal: {resp.metal} ({resp.density_g_cm3} g/cm³)")
-        print(baths[cols].to_string(index=False, float_format=lambda v: f"{v:.4g}"))
+        print(readable_table(baths[cols]))
         if args.coupons:
             print()
-            print(resp.coupons.to_string(index=False, float_format=lambda v: f"{v:.4g}"))
+            print(readable_table(resp.coupons))
     for note in resp.warnings:
         print(f"note: {note}")
     if resp.problems:

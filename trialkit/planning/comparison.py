@@ -38,6 +38,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from trialkit.exceptions import PlanError
+from trialkit.numbers import readable_frame, readable_table
 from trialkit.planning.evaluation import Evaluation, evaluate_plan, plain
 
 
@@ -65,12 +66,11 @@ class Comparison:
                       "variance_profile": self.variance_profile.to_dict("list")})
 
     def __repr__(self) -> str:
-        return "Comparison\n" + self.summary.to_string(
-            index=False, float_format=lambda v: f"{v:.3g}")
+        return "Comparison\n" + readable_table(self.summary, 3)
 
     def _repr_html_(self) -> str:
-        return "<p><b>Comparison of plans</b></p>" + self.summary.to_html(
-            index=False, float_format="{:.3g}".format)
+        return ("<p><b>Comparison of plans</b></p>"
+                + readable_frame(self.summary, 3).to_html(index=False))
 
 
 def compare_plans(plans: Sequence, *, names: Sequence[str] | None = None, **kwargs

@@ -39,6 +39,7 @@ import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import ModelSpecError, PlanError
+from trialkit.numbers import readable, readable_frame, readable_table
 from trialkit.planning import power as pw
 from trialkit.problems import did_you_mean
 from trialkit.trial.factors import Factor
@@ -187,7 +188,7 @@ class Evaluation:
         })
 
     def _sd_text(self) -> str:
-        return f"sd {self.sd:g}" if self.sd_stated else "sd not stated (sizes in SDs)"
+        return f"sd {readable(self.sd)}" if self.sd_stated else "sd not stated (sizes in SDs)"
 
     def _effect_text(self) -> str:
         return ("effects: none stated, power not computed" if self.effect_source == "none"
@@ -195,22 +196,22 @@ class Evaluation:
 
     def __repr__(self) -> str:
         lines = [f"Evaluation: {self.baths} baths, model {self.model!r}, {self._sd_text()}, "
-                 f"alpha {self.alpha:g}",
+                 f"alpha {readable(self.alpha)}",
                  f"  {self._effect_text()}",
                  f"  D-efficiency {self.d_efficiency:.1f} %, I-efficiency "
                  f"{self.i_efficiency:.1f} %, max VIF {self.max_vif:.2f}, "
                  f"residual df {self.residual_df}",
-                 self.summary.to_string(index=False, float_format=lambda v: f"{v:.3g}")]
+                 readable_table(self.summary, 3)]
         lines += [f"  note: {n}" for n in self.notes]
         return "\n".join(lines)
 
     def _repr_html_(self) -> str:
         head = (f"<p><b>Evaluation</b>: {self.baths} baths, model <code>{self.model}</code>, "
-                f"{self._sd_text()}, alpha {self.alpha:g}; D-efficiency "
+                f"{self._sd_text()}, alpha {readable(self.alpha)}; D-efficiency "
                 f"{self.d_efficiency:.1f} %, I-efficiency {self.i_efficiency:.1f} %, "
                 f"max VIF {self.max_vif:.2f}; {self._effect_text()}</p>")
         notes = "".join(f"<p>{n}</p>" for n in self.notes)
-        return head + self.summary.to_html(index=False, float_format="{:.3g}".format) + notes
+        return head + readable_frame(self.summary, 3).to_html(index=False) + notes
 
 
 def plain(value):

@@ -10,7 +10,7 @@ trial when the best lies at the edge of the region).  Written from the numbers o
 from __future__ import annotations
 
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis
-from trialkit.numbers import settings_text
+from trialkit.numbers import readable, readable_interval, settings_text
 from trialkit.report.document import Block
 from trialkit.report.findings import pretty_unit
 
@@ -34,7 +34,9 @@ def strength(data: TrialAnalysis, response: str) -> tuple[str, str]:
     return word, f"the model predicts left-out baths with R² = {q:.2f}"
 
 
-def _settings(settings: dict, trial) -> str:
+def settings_phrase(settings: dict, trial) -> str:
+    """Factor settings in words, each with its factor's unit
+    (:func:`trialkit.numbers.settings_text`)."""
     return settings_text(settings, {f.name: f.unit for f in trial.factors})
 
 
@@ -59,11 +61,11 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
         return [Block.note("no recommendation yet: no response has been analysed (see "
                            "'How complete the readings are')")]
     primary = rec.get("primary") or next(iter(data.fits))
-    blocks = [Block.para(f"Recommended: {_settings(rec['settings'], data.trial)}.")]
+    blocks = [Block.para(f"Recommended: {settings_phrase(rec['settings'], data.trial)}.")]
     r = data.recipe
     if r is not None:
-        amounts = "; ".join(f"{ln.grams:.4g} g {ln.name}" for ln in r.lines)
-        blocks.append(Block.para(f"To mix one bath of {r.volume_l:g} L: {amounts}; make up "
+        amounts = "; ".join(f"{readable(ln.grams, 3)} g {ln.name}" for ln in r.lines)
+        blocks.append(Block.para(f"To mix one bath of {readable(r.volume_l)} L: {amounts}; make up "
                                  f"to volume with water (predicted pH {r.predicted_ph:.2f}). "
                                  "The full steps and cautions are below."))
     wanted = {n for n, s in data.specs.items() if s.is_wanted}
@@ -79,10 +81,12 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
         p = pred.loc[primary]
         unit = pretty_unit(p["unit"])
         word, why = strength(data, primary)
+        est, ci_low, ci_high = readable_interval(p["predicted"], p["ci_low"], p["ci_high"])
+        _, pi_low, pi_high = readable_interval(p["predicted"], p["pi_low"], p["pi_high"])
         blocks.append(Block.para(
-            f"How sure: {primary} is predicted {p['predicted']:.3g} {unit} at these settings "
-            f"(95 % confidence interval of the mean {p['ci_low']:.3g} to {p['ci_high']:.3g} "
-            f"{unit}; a single new bath {p['pi_low']:.3g} to {p['pi_high']:.3g} {unit}). "
+            f"How sure: {primary} is predicted {est} {unit} at these settings "
+            f"(95 % confidence interval of the mean {ci_low} to {ci_high} "
+            f"{unit}; a single new bath {pi_low} to {pi_high} {unit}). "
             f"Evidence: {word} ({why})."))
     edge = _at_edge(data)
     if data.trial.design.kind in TWO_LEVEL_KINDS:

@@ -14,13 +14,15 @@ from pathlib import Path
 import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
+from trialkit.numbers import readable, readable_interval
 from trialkit.report import figure_list as figs
-from trialkit.report.answer import answer_blocks
+from trialkit.report.answer import answer_blocks, settings_phrase
 from trialkit.report.comparison_text import comparison_blocks
 from trialkit.report.document import Block, Report, Section
 from trialkit.report.findings import (
     caveat_findings,
     effects_findings,
+    fmt_p,
     model_findings,
     pretty_unit,
 )
@@ -91,8 +93,8 @@ def _notes(data: TrialAnalysis, *topics: str) -> list[Block]:
 
 def _levels(f) -> str:
     if f.is_continuous:
-        extra = f" (levels {', '.join(f'{v:g}' for v in f.levels)})" if f.levels else ""
-        return f"{f.low:g} to {f.high:g} {f.unit}".rstrip() + extra
+        extra = f" (levels {', '.join(readable(v) for v in f.levels)})" if f.levels else ""
+        return f"{readable(f.low)} to {readable(f.high)} {f.unit}".rstrip() + extra
     return ", ".join(map(str, f.levels))
 
 
@@ -149,11 +151,15 @@ def _findings(data: TrialAnalysis) -> list:
             from trialkit.report.findings import Finding
 
             f = sw.factor
-            interval = (f"Fieller 95 % interval {sw.fieller_low:.3g} to {sw.fieller_high:.3g} "
+            best, f_low, f_high = readable_interval(sw.best, sw.fieller_low, sw.fieller_high)
+            interval = (f"Fieller 95 % interval {f_low} to {f_high} "
                         f"{f.unit}" if sw.fieller_bounded else "its interval is unbounded")
-            text = (f"{name.capitalize()} is best at {f.name} {sw.best:.3g} {f.unit} "
+            if not sw.fieller_bounded:
+                best = readable(sw.best, 3)
+            text = (f"{name.capitalize()} is best at {f.name} {best} {f.unit} "
                     f"({interval}); the practical lean level, the lowest level within "
-                    f"{_size(sw.tolerance, unit)} of the best, is {sw.lean_level:.3g} {f.unit}."
+                    f"{_size(sw.tolerance, unit)} of the best, is "
+                    f"{readable(sw.lean_level, 3)} {f.unit}."
                     + (f" Above the best level {name} gets worse again, by "
                        f"{_size(sw.drop_at_high, unit)} at the top of the range"
                        f" ({'higher' if sw.aim == 'lower' else 'lower'}"
@@ -169,14 +175,15 @@ def _findings(data: TrialAnalysis) -> list:
         done = {b: v for b, v in t90.items() if math.isfinite(v)}
         if done:
             fast = min(done, key=done.get)
-            text = (f"Bath {fast} reached 90 % removal fastest, in {done[fast]:.3g} h; "
+            text = (f"Bath {fast} reached 90 % removal fastest, in {readable(done[fast], 3)} h; "
                     f"{len(done)} of {len(t90)} baths reached 90 % within their readings.")
             out.append(Finding(text, "time_to_90", fast, "kinetics", {"t90": done[fast]}))
     return out
 
 
 def _size(x: float, unit: str) -> str:
-    return f"{x:.3g} points" if unit == "%" else f"{x:.3g} {pretty_unit(unit)}".rstrip()
+    size = readable(x, 3)
+    return f"{size} points" if unit == "%" else f"{size} {pretty_unit(unit)}".rstrip()
 
 
 def _matters(data: TrialAnalysis, findings) -> list[Block]:
@@ -222,7 +229,7 @@ def _models(data: TrialAnalysis) -> list[Block]:
         if an.lack_of_fit:
             lf = an.lack_of_fit
             blocks.append(Block.para(f"Lack of fit against pure error for {name}: F = "
-                                     f"{lf['F']:.3g}, p = {lf['p']:.3g}."))
+                                     f"{readable(lf['F'], 3)}, {fmt_p(lf['p'])}."))
         blocks += _diagnostic_text(data, name)
         if fit.df_resid > 0:
             blocks += figs.model_figures(data, name)
@@ -247,11 +254,11 @@ def _diagnostic_text(data: TrialAnalysis, name: str) -> list[Block]:
     said = []
     p = d.normality.get("p")
     if p is not None and math.isfinite(p):
-        said.append(f"Shapiro–Wilk test of normal residuals: p = {p:.2g}"
+        said.append(f"Shapiro–Wilk test of normal residuals: {fmt_p(p)}"
                     + (" (the residuals do not look normal)." if p < 0.05 else "."))
     if d.drift and math.isfinite(d.drift.get("p", math.nan)):
         said.append(f"Trend of residuals with run order: Spearman ρ = {d.drift['rho']:.2f}, "
-                    f"p = {d.drift['p']:.2g}"
+                    f"{fmt_p(d.drift['p'])}"
                     + (" (drift between runs or days)." if d.drift["p"] < 0.05 else "."))
     flagged = d.table[d.table.flagged]
     if len(flagged):
@@ -260,8 +267,8 @@ def _diagnostic_text(data: TrialAnalysis, name: str) -> list[Block]:
             for r in flagged.itertuples()) + ".")
     if d.box_cox and d.box_cox.get("recommended"):
         said.append(f"The residual spread grows with the mean; a {d.box_cox['transform']} "
-                    f"transform of {name} (Box–Cox power {d.box_cox['suggested']:g}) may fit "
-                    "better.")
+                    f"transform of {name} (Box–Cox power "
+                    f"{readable(d.box_cox['suggested'])}) may fit better.")
     if said:
         out.append(Block.bullets(said, f"Checks of the model for {name}"))
     return out
@@ -272,8 +279,7 @@ def _recipe(data: TrialAnalysis) -> list[Block]:
     if rec is None:
         return [Block.note("no recommendation: no response has been analysed yet")] + \
             _notes(data, "recipe")
-    settings = ", ".join(f"{k} = {v:.3g}" if isinstance(v, float) else f"{k} = {v}"
-                         for k, v in rec["settings"].items())
+    settings = settings_phrase(rec["settings"], data.trial)
     blocks = [Block.para(f"Recommended settings: {settings}. Chosen as the {rec['source']}.")]
     if rec.get("reasons"):
         blocks.append(Block.bullets(list(rec["reasons"]), "Why these settings, and what to "
@@ -289,13 +295,15 @@ def _recipe(data: TrialAnalysis) -> list[Block]:
         lines = pd.DataFrame([{"ingredient": ln.name, "grams": ln.grams,
                                "millilitres": ln.millilitres, "role": ln.role,
                                "basis": ln.basis} for ln in r.lines])
-        blocks.append(Block.frame(lines, f"To mix {r.volume_l:g} L at {r.temperature_c:g} °C "
+        blocks.append(Block.frame(lines, f"To mix {readable(r.volume_l)} L at "
+                                         f"{readable(r.temperature_c)} °C "
                                          f"(predicted pH {r.predicted_ph:.2f})"))
         c = r.cost
         if c.per_l is not None:
             blocks.append(Block.pairs([
-                ("Cost per litre", f"{c.per_l:.3g} {c.currency or ''}".strip()),
-                ("Cost per US gallon", f"{c.per_us_gal:.3g} {c.currency or ''}".strip())]))
+                ("Cost per litre", f"{readable(c.per_l, 3)} {c.currency or ''}".strip()),
+                ("Cost per US gallon",
+                 f"{readable(c.per_us_gal, 3)} {c.currency or ''}".strip())]))
         else:
             blocks.append(Block.note("cost: prices missing for "
                                      + ", ".join(c.missing_prices or ("some ingredients",))))
@@ -325,9 +333,8 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
                          "interval high": m["pi_high"],
                          "baths inside": f"{int(c.table.inside.sum())} of {len(c.table)}",
                          "confirmed": "yes" if c.all_inside else "no"})
-        settings = ", ".join(f"{k} = {v:g}" if isinstance(v, float) else f"{k} = {v}"
-                             for k, v in next(iter(data.confirmations.values()))
-                             .settings.items())
+        settings = settings_phrase(next(iter(data.confirmations.values())).settings,
+                                   data.trial)
         ok = [n for n, c in data.confirmations.items() if c.all_inside]
         bad = [n for n, c in data.confirmations.items() if not c.all_inside]
         text = f"Confirmation baths were run at {settings}. "

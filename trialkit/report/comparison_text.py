@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import pandas as pd
 
+from trialkit.numbers import readable, readable_p
 from trialkit.report.document import Block
 
 
@@ -28,9 +29,11 @@ def level_sentences(rows: list[dict], unit: str, aim: str) -> list[str]:
             size = abs(d)
             lo, hi = sorted((abs(r["low"]), abs(r["high"])))
             word = "more" if (aim != "lower") else "less"
-            said.append(f"{r['factor']} = {better} gave {size:.3g}{_unit(unit)} {word} "
-                        f"{r['response']} than {worse} (simultaneous 95 % CI {lo:.3g} to "
-                        f"{hi:.3g}; Tukey-adjusted p = {r['p_adjusted']:.2g})")
+            p_text = readable_p(r["p_adjusted"])
+            p_text = p_text if p_text.startswith("<") else f"= {p_text}"
+            said.append(f"{r['factor']} = {better} gave {readable(size, 3)}{_unit(unit)} "
+                        f"{word} {r['response']} than {worse} (simultaneous 95 % CI "
+                        f"{readable(lo, 3)} to {readable(hi, 3)}; Tukey-adjusted p {p_text})")
         else:
             alike.append(f"{a} and {b}")
     if alike:

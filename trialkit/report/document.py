@@ -21,11 +21,10 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import TrialkitError
-from trialkit.numbers import P_COLUMNS, readable, readable_p
+from trialkit.numbers import P_COLUMNS, readable_cell
 
 TEMPLATE = "report.html.j2"
 
@@ -91,15 +90,8 @@ class Block:
         df = self.table if self.table is not None else pd.DataFrame()
         is_p = [str(c) in P_COLUMNS for c in df.columns]
 
-        def cell(v, p: bool) -> str:
-            if isinstance(v, bool) or v is None:
-                return "" if v is None else str(v)
-            if isinstance(v, (float, np.floating, np.integer, int)):
-                return readable_p(v) if p else readable(v, digits)
-            return str(v)
-
         return ([str(c) for c in df.columns],
-                [[cell(v, p) for v, p in zip(row, is_p, strict=True)]
+                [[readable_cell(v, p, digits) for v, p in zip(row, is_p, strict=True)]
                  for row in df.itertuples(index=False)])
 
 

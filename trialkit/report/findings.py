@@ -25,7 +25,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from trialkit.numbers import readable_unit
+from trialkit.numbers import readable, readable_p, readable_unit
 
 DASH = "\u2013"
 MINUS = "\u2212"
@@ -75,9 +75,8 @@ def fmt_p(p: float) -> str:
     """``p < 0.001`` or ``p = 0.62`` (two significant digits)."""
     if p is None or not math.isfinite(p):
         return "p not available"
-    if p < 0.001:
-        return "p < 0.001"
-    return f"p = {float(f'{p:.2g}'):g}"
+    text = readable_p(p)
+    return f"p {text}" if text.startswith("<") else f"p = {text}"
 
 
 def pretty_unit(unit: str) -> str:
@@ -98,8 +97,8 @@ def span_text(f, low: float | None = None, high: float | None = None) -> str:
     low = f.low if low is None else low
     high = f.high if high is None else high
     if f.unit == "pH":
-        return f"from pH {low:g} to pH {high:g}"
-    return f"from {low:g} to {high:g} {pretty_unit(f.unit)}".rstrip()
+        return f"from pH {readable(low)} to pH {readable(high)}"
+    return f"from {readable(low)} to {readable(high)} {pretty_unit(f.unit)}".rstrip()
 
 
 def interval(lo: float, hi: float, dec: int) -> str:
@@ -283,8 +282,9 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
 
 def _range_text(lo, hi) -> str:
     if lo is not None and hi is not None:
-        return f"between {lo:g} and {hi:g}"
-    return f"at or above {lo:g}" if lo is not None else f"at or below {hi:g}"
+        return f"between {readable(lo)} and {readable(hi)}"
+    return (f"at or above {readable(lo)}" if lo is not None
+            else f"at or below {readable(hi)}")
 
 
 def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
@@ -308,14 +308,15 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
     if box and not box.get("raw_scale_supported", True):
         out.append(Finding(
             f"The Box–Cox check does not support the raw scale for {resp} (power "
-            f"{box['lambda_hat']:.2g}, interval {box['ci_low']:.2g} to {box['ci_high']:.2g}"
+            f"{readable(box['lambda_hat'], 2)}, interval {readable(box['ci_low'], 2)} to "
+            f"{readable(box['ci_high'], 2)}"
             f"); a {box['transform']} scale would fit better.", resp, "scale", "model",
             {"box_cox": dict(box)}))
     pr = fit.pred_r_squared
     if math.isfinite(pr) and pr < weak_below:
         out.append(Finding(
             f"The model for {resp} is weak: it predicts left-out baths with R² = {pr:.2f} "
-            f"(below {weak_below:g}); do not let it decide on its own.", resp, "model",
+            f"(below {readable(weak_below)}); do not let it decide on its own.", resp, "model",
             "model", {"pred_r_squared": pr, "weak": True}))
     pvals = {k: v for k, v in _anova_p(fit).items() if k != "block" and math.isfinite(v)}
     if len(pvals) > 1:

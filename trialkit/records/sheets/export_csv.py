@@ -5,9 +5,11 @@ Layout of the file, one record per line:
 1. the stamp: ``# trialkit-sheet``, then cells ``layout=...``, ``fingerprint=...``,
    ``seed=...``, ``version=...``, ``title=...`` (survives being opened and saved again
    by a spreadsheet program, since each item is its own cell);
-2. the headings in words with units;
-3. the machine names ingest uses to find the columns;
-4. one row per coupon (or per coupon and inspection), plan columns filled in.
+2. the caution line (:data:`trialkit.chemistry.cautions.CSV_CAUTION`), one cell; ingest
+   passes over it like any line above the headings;
+3. the headings in words with units;
+4. the machine names ingest uses to find the columns;
+5. one row per coupon (or per coupon and inspection), plan columns filled in.
 
 User text is escaped against formula injection (:mod:`trialkit.records.sheets.textsafe`).
 The file is written with a byte-order mark so that spreadsheet programs read it as UTF-8.
@@ -22,6 +24,7 @@ from typing import Any
 
 import pandas as pd
 
+from trialkit.chemistry.cautions import CSV_CAUTION
 from trialkit.records.config import SheetConfig, sheet_config
 from trialkit.records.sheets.layout import (
     SHEET_FORMAT,
@@ -53,6 +56,7 @@ def csv_text(plan: Any, layout: SheetLayout, config: SheetConfig | None = None) 
     w = csv.writer(buf, lineterminator="\n")
     w.writerow([CSV_STAMP] + [f"{k}={escape_text(v)}" for k, v in meta.items()
                               if k != "format"])
+    w.writerow([CSV_CAUTION])
     w.writerow([escape_text(c.heading) for c in layout.columns])
     w.writerow([c.name for c in layout.columns])
     rows = plan_rows(plan, layout, config)
