@@ -111,3 +111,51 @@ def test_unknown_measure_in_percent_is_a_share():
     assert physical_range("cost_per_l", "EUR/L") == (None, None)
     assert all(lo is None or hi is None or lo < hi for lo, hi in RANGES.values())
     assert not math.isnan(RANGES["removal_pct"][1])
+
+
+RANGE_TRIAL = '''
+[trial]
+title = "Gloss check (invented)"
+seed = 1
+[[factor]]
+name = "chelator"
+unit = "% w/v"
+low = 2
+high = 6
+[design]
+kind = "full-factorial"
+[[response]]
+name = "gloss"
+unit = "GU"
+aim = "higher"
+measure = "gloss_units"
+{range}
+'''
+
+
+def test_a_user_response_declares_its_range_and_the_analysis_keeps_to_it():
+    from trialkit.analysis.trial_analysis import _limits
+    from trialkit.trial.file import parse_trial_text
+
+    spec = parse_trial_text(RANGE_TRIAL.format(range='range = [0, "none"]')).responses[0]
+    assert spec.range == (0.0, None) and _limits(spec) == (0.0, None)
+    spec = parse_trial_text(RANGE_TRIAL.format(range="range = [0, 100]")).responses[0]
+    assert _limits(spec) == (0.0, 100.0)
+    # without the key an unknown measure in GU has no bound
+    assert _limits(parse_trial_text(RANGE_TRIAL.format(range="")).responses[0]) == \
+        (None, None)
+
+
+@pytest.mark.parametrize("bad, said", [
+    ("range = [100, 0]", "low end of range must be below"),
+    ("range = [0]", "two values"),
+    ('range = ["zero", 100]', "must be a number"),
+    ("range = 5", "two values"),
+])
+def test_a_bad_range_is_refused_with_the_fix(bad, said):
+    from trialkit.exceptions import TrialFileError
+    from trialkit.trial.file import parse_trial_text
+
+    with pytest.raises(TrialFileError) as err:
+        parse_trial_text(RANGE_TRIAL.format(range=bad))
+    assert said in str(err.value) and "response" in str(err.value) and "range" in str(err.value)

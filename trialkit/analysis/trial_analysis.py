@@ -229,7 +229,10 @@ def config_of(trial):
 
 
 def _limits(spec) -> tuple:
-    """Physical range of a trial response (from its measure, else its unit)."""
+    """Physical range of a trial response: its ``range`` key, else from its measure, else
+    its unit."""
+    if getattr(spec, "range", None) is not None:
+        return tuple(spec.range)
     try:
         from trialkit.responses.definitions import physical_range
     except ImportError:  # pragma: no cover - the responses package ships it

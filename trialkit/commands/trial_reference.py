@@ -58,6 +58,9 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
         "priority": ("number > 0", "1", "weight in a compromise of several responses"),
         "measure": ("measure name", "the name", "which computed response it is: "
                     "'trialkit new --measures' lists them"),
+        "range": ("[low, high], an end may be \"none\"", "from the measure",
+                  "values the response can take (predictions and intervals are kept "
+                  "inside), e.g. [0, 100] or [0, \"none\"]"),
         "description": ("text", '""', "what it is, for the report"),
     },
     "[coupons]": {

@@ -26,7 +26,7 @@ FACTOR_KEYS = ("name", "kind", "unit", "low", "high", "levels", "description")
 LAYOUT_KEYS = ("replicates", "blocks", "block_label", "center_points", "controls",
                "coupons_per_bath", "witness_coupons")
 RESPONSE_KEYS = ("name", "unit", "aim", "unacceptable", "satisfactory", "ideal", "shape",
-                 "priority", "measure", "description")
+                 "priority", "measure", "range", "description")
 CONTROL_KINDS = ("untreated", "reference")
 AIMS = ("higher", "lower", "on-target", "record-only")
 NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
@@ -337,9 +337,36 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
             name=name, unit=unit, aim=aim, unacceptable=unacceptable,
             satisfactory=nums["satisfactory"], ideal=nums["ideal"],
             shape=nums["shape"] or 1.0, priority=nums["priority"] or 1.0,
-            measure=measure,
+            measure=measure, range=_range(table, where, p),
             description=text(table, "description", where, p)))
     return out
+
+
+def _range(table: dict, where: str, p: ProblemReport) -> tuple | None:
+    """The ``range`` a response's values can take: ``[low, high]``, either end ``"none"``
+    for no bound (e.g. ``[0, "none"]`` for a positive quantity)."""
+    if "range" not in table:
+        return None
+    value = table["range"]
+    fix = 'write e.g. range = [0, 100], or [0, "none"] for a value with no upper bound'
+    if not isinstance(value, list) or len(value) != 2:
+        p.add(f"{where}.range", "range must be two values, [low, high]", value=short(value),
+              check="bad_range", fix=fix)
+        return None
+    ends = []
+    for v in value:
+        if isinstance(v, str) and v.strip().lower() == "none":
+            ends.append(None)
+            continue
+        x = number(v, f"{where}.range", p, "each end of range")
+        if x is None:
+            return None
+        ends.append(x)
+    if None not in ends and not ends[0] < ends[1]:
+        p.add(f"{where}.range", "the low end of range must be below the high end",
+              value=short(value), check="bad_range", fix=fix)
+        return None
+    return (ends[0], ends[1])
 
 
 def _unacceptable(table: dict, aim: str, where: str,

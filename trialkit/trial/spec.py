@@ -55,6 +55,7 @@ class ResponseSpec:
     priority: float = 1.0
     measure: str = ""
     description: str = ""
+    range: tuple | None = None  # (low, high) the values can take; None ends unbounded
 
     @property
     def is_wanted(self) -> bool:
