@@ -45,3 +45,28 @@ def test_help_lists_every_command(cli):
     assert result.returncode == 0
     for name in ("new", "plan", "recipe", "sheet", "ingest", "analyze", "report", "demo"):
         assert name in result.stdout
+
+
+def test_a_coupon_metal_without_a_density_is_refused_before_anything_is_written(tmp_path,
+                                                                                cli):
+    from pathlib import Path
+
+    src = Path(__file__).resolve().parents[1] / "example_trials" / "tank-split-plot"
+    text = (src / "trial.toml").read_text(encoding="utf-8")
+    assert 'metal = "carbon steel"' in text and "corrosion_rate_mm_per_y" in text
+    folder = tmp_path / "trial"
+    folder.mkdir()
+    (folder / "trial.toml").write_text(text.replace('metal = "carbon steel"',
+                                                    'metal = "carbon steal"'), "utf-8")
+    result = cli("plan", str(folder))
+    assert result.returncode != 0
+    assert "coupons.metal" in result.stderr and "'carbon steel'" in result.stderr
+    assert "needed by attack" in result.stderr and "nothing was written" in result.stderr
+    assert not (folder / "plan.csv").exists()
+    # without a response that needs the density, the metal's name is the user's to choose
+    no_rate = text.replace('metal = "carbon steel"', 'metal = "carbon steal"')
+    start = no_rate.index('[[response]]\nname = "attack"')
+    end = no_rate.index("[bath]")
+    (folder / "trial.toml").write_text(no_rate[:start] + no_rate[end:], "utf-8")
+    result = cli("plan", str(folder))
+    assert result.returncode == 0, result.stderr

@@ -106,3 +106,36 @@ def density_g_cm3(name: str) -> float:
 def metals_table() -> pd.DataFrame:
     """The whole table as a DataFrame (columns: the :class:`Metal` attributes)."""
     return pd.DataFrame([asdict(m) for m in _table()])
+
+
+#: Measures computed with the metal's density (ASTM G1 corrosion rate).
+DENSITY_MEASURES = ("corrosion_rate_mm_per_y",)
+
+
+def check_coupon_metal(trial) -> None:
+    """Refuse, before anything is written, a trial whose coupons are of a metal not in the
+    density table when one of its responses needs the density.
+
+    Raises
+    ------
+    TrialFileError
+        Naming the metal, the responses that need it, the nearest known names and the fix.
+    """
+    from trialkit.exceptions import TrialFileError
+    from trialkit.problems import ProblemReport
+
+    coupons = getattr(trial, "coupons", None)
+    needing = [r.name for r in trial.responses if (r.measure or r.name) in DENSITY_MEASURES]
+    if coupons is None or not needing:
+        return
+    try:
+        metal(coupons.metal)
+    except MetalError as exc:
+        problems = ProblemReport(str(getattr(trial, "path", None) or "trial file"))
+        problems.add("coupons.metal", f"{exc} (needed by {', '.join(needing)})",
+                     value=coupons.metal, check="unknown_metal",
+                     fix="name a metal of the density table (ASTM G1 Table X1.1), e.g. "
+                         "metal = \"carbon steel\"")
+        problems.raise_if_any(TrialFileError, "The trial's coupon metal has no density for "
+                                              "its corrosion rate; nothing was written.")
+
