@@ -1,11 +1,10 @@
 """Figures out of matplotlib: PNG and SVG bytes, data URIs for a self-contained page, files,
 and closing figures.
 
-Figures are saved at their own size, laid out once (no ``bbox_inches="tight"``, which lays
-the figure out a second time on every save): trialkit's figures are made with the tight
-layout engine (:func:`trialkit.figures.style.new_axes`), and a figure made elsewhere
-without a layout engine gets one ``tight_layout`` pass before saving, so labels, titles
-and legends stay inside the picture.
+Figures are saved at their own size, laid out once by one ``tight_layout`` pass before
+saving (a figure with a layout engine of its own keeps it), so labels, titles and legends
+stay inside the picture. Neither ``bbox_inches="tight"`` nor a layout engine is used on
+trialkit's figures: each makes matplotlib draw the figure a second time on every save.
 """
 
 from __future__ import annotations

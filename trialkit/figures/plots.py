@@ -74,8 +74,7 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
     rows = -(-k // cols)
     if fig is None:
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(max(3.4 * cols, 4.5), 3.3 * rows + 0.5),
-                             layout="tight")
+            fig = plt.figure(figsize=(max(3.4 * cols, 4.5), 3.3 * rows + 0.5))
     grid = fig.subplots(rows, cols, sharey=True, squeeze=False)
     axes = list(grid.ravel()[:k])
     for extra in grid.ravel()[k:]:
@@ -248,7 +247,7 @@ def residual_panels(result, diagnostics=None, *, unit: str = "",
     unit = unit or getattr(result, "unit", "")
     if fig is None:
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(12.5, 3.6), layout="tight")  # titles apart
+            fig = plt.figure(figsize=(12.5, 3.6))  # titles apart
     a1, a2, a3 = fig.subplots(1, 3)
     for ax in (a1, a2, a3):
         style_axes(ax)
@@ -327,7 +326,7 @@ def surface3d(view, x: str | None = None, y: str | None = None, *, unit: str = "
     v = _surface(view, x, y, unit)
     if ax is None:
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(6.4, 5.0), layout="tight")
+            fig = plt.figure(figsize=(6.4, 5.0))
             ax = fig.add_subplot(1, 1, 1, projection="3d")
     XX, YY = np.meshgrid(v.grid_x, v.grid_y)
     ax.plot_surface(XX, YY, v.z, cmap=SEQUENTIAL, alpha=0.85, linewidth=0)

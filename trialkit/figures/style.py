@@ -48,7 +48,7 @@ def new_axes(ax: Axes | None, figsize=(6.0, 4.0)) -> Axes:
     if ax is not None:
         return ax
     with plt.rc_context(STYLE):
-        fig = plt.figure(figsize=figsize, layout="tight")
+        fig = plt.figure(figsize=figsize)
         return fig.add_subplot(1, 1, 1)
 
 
