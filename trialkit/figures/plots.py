@@ -24,6 +24,8 @@ Examples
 
 from __future__ import annotations
 
+import textwrap
+
 import matplotlib.pyplot as plt
 import numpy as np
 from matplotlib.axes import Axes
@@ -72,9 +74,12 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
     k = len(result.panels)
     cols = k if k <= 3 else 3
     rows = -(-k // cols)
-    if fig is None:
+    title = (f"Main effects on {result.response} (other factors at their middle "
+             "or averaged over their levels)")
+    if fig is None:  # wide enough for the title too (about 0.09 in a character)
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(max(3.4 * cols, 4.5), 3.3 * rows + 0.5))
+            fig = plt.figure(figsize=(max(3.4 * cols, 4.5, 0.09 * len(title)),
+                                      3.3 * rows + 0.5))
     grid = fig.subplots(rows, cols, sharey=True, squeeze=False)
     axes = list(grid.ravel()[:k])
     for extra in grid.ravel()[k:]:
@@ -103,8 +108,7 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
     for r in range(rows):
         grid[r, 0].set_ylabel(label(result.response, unit))
     axes[0].legend(fontsize=8, loc="best")
-    fig.suptitle(f"Main effects on {result.response} (other factors at their middle "
-                 "or averaged over their levels)")
+    fig.suptitle(title)
     return fig
 
 
@@ -314,8 +318,8 @@ def contour(view, x: str | None = None, y: str | None = None, *, unit: str = "",
     ax.set_ylabel(label(v.y, v.y_unit))
     held = ", ".join(f"{k} = {val:g}" if isinstance(val, float) else f"{k} = {val}"
                      for k, val in (v.held or {}).items())
-    ax.set_title(title or (f"{what.capitalize()} over {v.x} and {v.y}"
-                           + (f"\n({held})" if held else "")))
+    default = f"{what.capitalize()} over {v.x} and {v.y}" + (f"\n({held})" if held else "")
+    ax.set_title(textwrap.fill(title, 55) if title else default)  # a long title wrapped
     ax.legend(fontsize=8, loc="upper left", framealpha=0.8)
     return ax
 
