@@ -1,5 +1,10 @@
 """Figures out of matplotlib: PNG and SVG bytes, data URIs for a self-contained page, files,
 and closing figures.
+
+Figures are saved at their own size, laid out once by one ``tight_layout`` pass before
+saving (a figure with a layout engine of its own keeps it), so labels, titles and legends
+stay inside the picture. Neither ``bbox_inches="tight"`` nor a layout engine is used on
+trialkit's figures: each makes matplotlib draw the figure a second time on every save.
 """
 
 from __future__ import annotations
@@ -19,17 +24,25 @@ def figure_of(obj) -> Figure:
     return obj if isinstance(obj, Figure) else obj.figure
 
 
+def laid_out(obj) -> Figure:
+    """The Figure of ``obj``, given one tight layout pass if it has no layout engine."""
+    fig = figure_of(obj)
+    if fig.get_layout_engine() is None:
+        fig.tight_layout()
+    return fig
+
+
 def to_png(obj, dpi: int = 110) -> bytes:
     """PNG bytes of a figure (or of the figure holding an Axes)."""
     buf = io.BytesIO()
-    figure_of(obj).savefig(buf, format="png", dpi=dpi, bbox_inches="tight")
+    laid_out(obj).savefig(buf, format="png", dpi=dpi)
     return buf.getvalue()
 
 
 def to_svg(obj) -> str:
     """SVG text of a figure."""
     buf = io.StringIO()
-    figure_of(obj).savefig(buf, format="svg", bbox_inches="tight")
+    laid_out(obj).savefig(buf, format="svg")
     return buf.getvalue()
 
 
@@ -45,7 +58,7 @@ def save(obj, path: str | Path) -> Path:
     if suffix not in (".svg", ".png"):
         raise PlotError(f"figures are saved as .svg or .png; got {path.name!r}. Use a file "
                         "name ending in .svg or .png.")
-    figure_of(obj).savefig(path, format=suffix[1:], bbox_inches="tight")
+    laid_out(obj).savefig(path, format=suffix[1:])
     return path
 
 

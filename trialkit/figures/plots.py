@@ -24,6 +24,8 @@ Examples
 
 from __future__ import annotations
 
+import textwrap
+
 import matplotlib.pyplot as plt
 import numpy as np
 from matplotlib.axes import Axes
@@ -72,9 +74,12 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
     k = len(result.panels)
     cols = k if k <= 3 else 3
     rows = -(-k // cols)
-    if fig is None:
+    title = (f"Main effects on {result.response} (other factors at their middle "
+             "or averaged over their levels)")
+    if fig is None:  # wide enough for the title too (about 0.09 in a character)
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(max(3.4 * cols, 4.5), 3.3 * rows + 0.5))
+            fig = plt.figure(figsize=(max(3.4 * cols, 4.5, 0.09 * len(title)),
+                                      3.3 * rows + 0.5))
     grid = fig.subplots(rows, cols, sharey=True, squeeze=False)
     axes = list(grid.ravel()[:k])
     for extra in grid.ravel()[k:]:
@@ -103,9 +108,7 @@ def main_effects(result, *, unit: str = "", fig: Figure | None = None) -> Figure
     for r in range(rows):
         grid[r, 0].set_ylabel(label(result.response, unit))
     axes[0].legend(fontsize=8, loc="best")
-    fig.suptitle(f"Main effects on {result.response} (other factors at their middle "
-                 "or averaged over their levels)")
-    fig.tight_layout()
+    fig.suptitle(title)
     return fig
 
 
@@ -166,7 +169,10 @@ def effect_margins(effects, *, unit: str = "", ax: Axes | None = None) -> Axes:
     need(effects, ("summary", "lenth"), "effect_margins")
     df = effects.summary.sort_values("alias_order", kind="mergesort")
     lr = effects.lenth
-    ax = new_axes(ax, (6.0, max(2.5, 0.32 * len(df) + 1.4)))
+    # wide enough for the alias-table labels (about 0.075 in a character) on the left and
+    # the legend on the right: the figure is saved at this size, not cropped to fit
+    longest = max((len(str(t)) for t in df.term), default=0)
+    ax = new_axes(ax, (4.0 + 0.075 * longest + 2.4, max(2.5, 0.32 * len(df) + 1.4)))
     style_axes(ax)
     y = -np.arange(len(df), dtype=float)  # first alias-table entry on top
     ax.axvspan(-lr.sme, lr.sme, color=SKY, alpha=0.12, lw=0)
@@ -245,7 +251,7 @@ def residual_panels(result, diagnostics=None, *, unit: str = "",
     unit = unit or getattr(result, "unit", "")
     if fig is None:
         with plt.rc_context(STYLE):
-            fig = plt.figure(figsize=(11.0, 3.6))
+            fig = plt.figure(figsize=(12.5, 3.6))  # titles apart
     a1, a2, a3 = fig.subplots(1, 3)
     for ax in (a1, a2, a3):
         style_axes(ax)
@@ -274,7 +280,6 @@ def residual_panels(result, diagnostics=None, *, unit: str = "",
     a3.set_ylabel("normal quantile (standard deviations)")
     a3.set_title("Normal probability of the residuals")
     fig.suptitle(f"Model checks for {result.response}")
-    fig.tight_layout()
     return fig
 
 
@@ -313,8 +318,8 @@ def contour(view, x: str | None = None, y: str | None = None, *, unit: str = "",
     ax.set_ylabel(label(v.y, v.y_unit))
     held = ", ".join(f"{k} = {val:g}" if isinstance(val, float) else f"{k} = {val}"
                      for k, val in (v.held or {}).items())
-    ax.set_title(title or (f"{what.capitalize()} over {v.x} and {v.y}"
-                           + (f"\n({held})" if held else "")))
+    default = f"{what.capitalize()} over {v.x} and {v.y}" + (f"\n({held})" if held else "")
+    ax.set_title(textwrap.fill(title, 55) if title else default)  # a long title wrapped
     ax.legend(fontsize=8, loc="upper left", framealpha=0.8)
     return ax
 
@@ -407,7 +412,6 @@ def kinetics(view, *, ax: Axes | None = None) -> Axes:
     if n > 6:  # many baths: the legend goes beside the plot, out of the curves' way
         ax.legend(fontsize=6.5, loc="upper left", bbox_to_anchor=(1.01, 1.0),
                   ncol=1 if n <= 14 else 2, frameon=False)
-        ax.figure.tight_layout()
     else:
         ax.legend(fontsize=7)
     return ax
