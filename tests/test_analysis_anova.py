@@ -201,8 +201,11 @@ def test_bad_input_gives_clear_errors(change, model, error, fragment):
 def test_to_dict_contract_keys_and_natural_units():
     df = _unbalanced()
     d = fit_model(df, "y", FACT, "agitation + temperature", block=None).to_dict(3)
-    assert set(d["anova"][0]) == {"term", "df", "sum_sq", "mean_sq", "F", "p"}
+    assert set(d["anova"][0]) == {"term", "df", "sum_sq", "mean_sq", "F", "p",
+                                  "error_stratum", "error_df"}
     assert set(d["residual"]) == {"df", "sum_sq", "mean_sq"}
+    assert {(r["error_stratum"], r["error_df"]) for r in d["anova"]} == \
+        {("residual (baths)", d["residual"]["df"])}
     assert set(d["coefficients"][0]) == {"term", "estimate", "std_error", "ci_low", "ci_high"}
     nat = {r["term"]: r for r in d["coefficients"]}
     coded = {r["term"]: r for r in d["coded_coefficients"]}
