@@ -86,7 +86,7 @@ def test_without_limits_the_attack_is_flagged_not_hidden(tmp_path):
     folder, baths = _trial(tmp_path, "")
     rec = analyze(folder, baths=baths).to_dict()["recommendation"]
     assert rec["settings"] == {"salt": "strong salt"}   # fastest, and nothing forbids it
-    flagged = [r for r in rec["reasons"] if r.startswith("attack is predicted")]
+    flagged = [r for r in rec["reasons"] if r.startswith("Attack is predicted")]
     assert flagged and "clearly worse than the trial's best bath" in flagged[0]
     assert {p["response"] for p in rec["predicted"]} == {"removal", "attack"}
 

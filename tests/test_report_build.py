@@ -16,6 +16,7 @@ import report_trials as rt
 
 from trialkit.analysis.trial_analysis import analyze
 from trialkit.commands._output import _clean
+from trialkit.numbers import spoken
 from trialkit.report.build import SECTION_TITLES, build_report
 from trialkit.report.document import ReportError
 
@@ -254,8 +255,9 @@ def test_the_answer_comes_first(kind):
     text = " ".join(b.text for b in first.blocks) + " ".join(
         str(i) for b in first.blocks for i in b.items)
     assert text.startswith("Recommended: ")
-    for name in data.recommendation["settings"]:
-        assert name in text
+    units = {f.name: f.unit for f in data.trial.factors}
+    for name in data.recommendation["settings"]:   # named as a sentence says it ("pH")
+        assert spoken(name, units[name]) in text
     assert "To mix one bath of" in text and " g tetrasodium EDTA" in text
     assert "How sure:" in text and "Evidence: " in text and "Next step:" in text
     lists = [b for b in first.blocks if b.kind == "list" and b.text == "What matters"]

@@ -109,7 +109,7 @@ def test_effects_findings_use_lenth_margin(tmp_path):
     assert all(f"margin of error of {me} points" in f.text for f in loud)
     quiet = [f for f in out if f.kind == "not_detected"][0]
     for term in eff.summary[~eff.summary.significant].term:
-        assert term in quiet.text
+        assert spoken(term) in quiet.text   # "chelator × pH", not "chelator:ph"
 
 
 def test_interactions_and_curvature_sentences(tmp_path):
@@ -119,7 +119,7 @@ def test_interactions_and_curvature_sentences(tmp_path):
     # invented truth: removal peaks inside the region along both factors
     assert {f.term for f in curve} == {"chelator^2", "ph^2"}
     assert all("higher in the middle of the range" in f.text for f in curve)
-    assert any(f.text.startswith("No interaction on removal was detected: chelator:ph (p = ")
+    assert any(f.text.startswith("No interaction on removal was detected: chelator × pH (p = ")
                for f in out)
 
 

@@ -15,6 +15,8 @@ Examples
 >>> settings_text({"chelator": 3.9312, "ph": 6.2, "surfactant": "added"},
 ...               {"chelator": "% w/v", "ph": "pH"})
 'chelator 3.93 % w/v, pH 6.2, surfactant = added'
+>>> spoken("time_to_clean"), spoken("ph"), spoken("salt:temperature")
+('time to clean', 'pH', 'salt × temperature')
 """
 
 from __future__ import annotations
@@ -153,3 +155,29 @@ def settings_text(settings: Mapping[str, Any] | None,
         else:
             parts.append(f"{name} {readable(value, digits)}{' ' + unit if unit else ''}")
     return ", ".join(parts)
+
+
+def spoken(name: str, unit: str | None = None) -> str:
+    """A factor's, response's or model term's name as a sentence says it: underscores as
+    spaces, a factor named ``ph`` (or measured in pH) as ``pH``, an interaction ``a:b`` as
+    ``a × b``.  Tables and JSON keep the name as the trial file spells it.
+
+    >>> spoken("rust_removed"), spoken("acidity", "pH")
+    ('rust removed', 'pH')
+    """
+    text = str(name)
+    if ":" in text:
+        return " × ".join(spoken(part) for part in text.split(":"))
+    if unit == "pH" or text.lower() == "ph":
+        return "pH"
+    return text.replace("_", " ")
+
+
+def spoken_capitalised(name: str, unit: str | None = None) -> str:
+    """:func:`spoken` at the start of a sentence (``pH`` stays ``pH``).
+
+    >>> spoken_capitalised("time_to_clean"), spoken_capitalised("ph")
+    ('Time to clean', 'pH')
+    """
+    text = spoken(name, unit)
+    return text if text == "pH" else text[:1].upper() + text[1:]

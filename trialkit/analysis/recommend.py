@@ -10,9 +10,10 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 
+from trialkit.analysis.lean_settings import lean_settings
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
-from trialkit.numbers import readable, readable_unit, settings_text
+from trialkit.numbers import readable, readable_unit, settings_text, spoken, spoken_capitalised
 
 #: Random starts of the desirability search besides its 8 best grid points (each start
 #: costs about a second on the shared machine; the grid already brackets the optimum).
@@ -132,13 +133,14 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
             f"D = {data.desirability.overall:.2f})")
     if primary in data.surfaces:
         return dict(data.surfaces[primary].optimum["settings"]), (
-            f"best point of the fitted surface of {primary} inside the design region "
+            f"best point of the fitted surface of {spoken(primary)} inside the design region "
             f"(the surface is a {data.surfaces[primary].kind})")
     if primary in data.sweeps:
         sw = data.sweeps[primary]
         return {sw.factor.name: float(sw.lean_level)}, (
-            f"the practical lean level of the sweep: the lowest {sw.factor.name} whose "
-            f"predicted {primary} is within {readable(sw.tolerance, 3)} "
+            "the practical lean level of the sweep: the lowest "
+            f"{spoken(sw.factor.name, sw.factor.unit)} whose "
+            f"predicted {spoken(primary)} is within {readable(sw.tolerance, 3)} "
             f"{readable_unit(spec.unit)} of the "
             f"best (best at {readable(sw.best, 3)} {readable_unit(sw.factor.unit)})")
     grid = _candidates(data.trial, 3)
@@ -147,10 +149,10 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
     settings = _plain_settings(grid.iloc[k])
     what = ("best of the low, middle and high settings" if any(
         f.is_continuous for f in data.trial.factors) else "best combination of levels")
-    source = (f"{what} for {primary} by the fitted model (a screening model: confirm "
+    source = (f"{what} for {spoken(primary)} by the fitted model (a screening model: confirm "
               "before relying on it)" if data.trial.design.kind in TWO_LEVEL_KINDS and any(
                   f.is_continuous for f in data.trial.factors)
-              else f"{what} for {primary} by the fitted model")
+              else f"{what} for {spoken(primary)} by the fitted model")
     quiet = _undetected_factors(data.fits[primary], settings)
     if quiet:
         source += "; " + _equivalence_text(data, primary, settings, quiet)
@@ -158,8 +160,10 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
 
 
 def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
-                 limited: list[str], reasons: list[str]) -> tuple[dict, str]:
-    """Move ``settings`` to the best candidate that keeps every stated limit, saying why."""
+                 limited: list[str], reasons: list[str], fixed: dict | None = None
+                 ) -> tuple[dict, str]:
+    """Move ``settings`` to the best candidate that keeps every stated limit, saying why;
+    factors in ``fixed`` keep their setting (those set to their cheapest)."""
     here = pd.DataFrame([settings])
     values = {n: float(data.fits[n].predict(here, clip=False).predicted.iloc[0])
               for n in limited}
@@ -167,11 +171,13 @@ def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
     broken = [(n, s) for n, s in broken if s > 0]
     if not broken:
         return settings, source
-    said = "; ".join(f"{n} is predicted {_fmt(values[n], data.unit(n))}, "
+    said = "; ".join(f"{spoken(n)} is predicted {_fmt(values[n], data.unit(n))}, "
                      f"{_fmt(s, data.unit(n))} beyond its unacceptable value "
                      f"{_limit_text(data.specs[n])}" for n, s in broken)
     points = 3 if data.trial.design.kind in TWO_LEVEL_KINDS else 21
     grid = _candidates(data.trial, points if len(data.trial.factors) <= 3 else 3)
+    for name, value in (fixed or {}).items():
+        grid = grid[grid[name] == value].reset_index(drop=True)
     ok = _breaks(data, limited, grid) == 0
     if not ok.any():
         reasons.append(f"No setting in the trial's region keeps every stated limit: at the "
@@ -183,9 +189,9 @@ def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
     k = int(np.argmin(pred) if spec.aim == "lower" else np.argmax(pred))
     new = _plain_settings(grid[ok].iloc[k])
     reasons.append(f"Passed over {_settings_text(data, settings)} ({source.split(' (')[0]}): "
-                   f"there {said}. Recommended instead: the best {primary} among the "
+                   f"there {said}. Recommended instead: the best {spoken(primary)} among the "
                    "settings that keep every stated limit.")
-    return new, (f"best {primary} among the settings that keep every stated limit "
+    return new, (f"best {spoken(primary)} among the settings that keep every stated limit "
                  f"(of {len(grid)} candidate settings, {int(ok.sum())} keep them)")
 
 
@@ -215,7 +221,8 @@ def _flag_unlimited(data: TrialAnalysis, rows: list[dict], reasons: list[str]) -
         if worse:
             unit = data.unit(row["response"])
             reasons.append(
-                f"{row['response']} is predicted {_fmt(row['predicted'], unit)} here "
+                f"{spoken_capitalised(row['response'])} is predicted "
+                f"{_fmt(row['predicted'], unit)} here "
                 f"(95 % CI {_fmt(row['ci_low'], unit)} to {_fmt(row['ci_high'], unit)}), "
                 f"clearly worse than the trial's best bath that keeps the stated limits "
                 f"({_fmt(best, unit)}); give "
@@ -242,11 +249,13 @@ def recommend(data: TrialAnalysis) -> None:
     primary = max(wanted, key=lambda n: (data.specs[n].priority, -wanted.index(n)))
     reasons: list[str] = []
     settings, source = _primary_choice(data, primary)
+    settings, leaned = lean_settings(data, settings, reasons)
     limited = _limited(data)
-    settings, source = _keep_limits(data, primary, settings, source, limited, reasons)
+    settings, source = _keep_limits(data, primary, settings, source, limited, reasons,
+                                    fixed=leaned)
     pr = data.fits[primary].pred_r_squared
     if np.isfinite(pr) and pr < WEAK_PRED_R2:
-        source += (f"; the model for {primary} is weak (predicted R² = {pr:.2f}, below "
+        source += (f"; the model for {spoken(primary)} is weak (predicted R² = {pr:.2f}, below "
                    f"{readable(WEAK_PRED_R2)}): it should not decide on its own; confirm first")
     rows = []
     for name, fit in data.fits.items():
@@ -262,7 +271,8 @@ def recommend(data: TrialAnalysis) -> None:
     _flag_unlimited(data, rows, reasons)
     data.recommendation = {"settings": settings, "source": source,
                            "predictions": pd.DataFrame(rows), "limits_met": met,
-                           "reasons": reasons, "primary": primary}
+                           "reasons": reasons, "primary": primary,
+                           "set_to_cheapest": leaned}
     _recipe(data)
 
 
@@ -311,7 +321,7 @@ def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
         half = t * float(np.sqrt(d @ fit.ls.xtx_inv @ d * fit.sigma2))
         lo, hi = diff - half, diff + half
         (same if np.isfinite(half) and -margin <= lo and hi <= margin else open_).append(
-            f"{name} ({readable(lo, 3)} to {readable(hi, 3)})")
+            f"{spoken(name)} ({readable(lo, 3)} to {readable(hi, 3)})")
     parts = []
     if same:
         parts.append(", ".join(same) + f": the change over the range lies within the "

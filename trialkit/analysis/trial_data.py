@@ -85,6 +85,7 @@ class TrialAnalysis:
                               for r in wanted.itertuples()],
                 "limits_met": bool(rec.get("limits_met", True)),
                 "reasons": list(rec.get("reasons", [])),
+                "set_to_cheapest": dict(rec.get("set_to_cheapest", {})),
                 "predictions": table.to_dict("records")}
 
     def to_dict(self) -> dict:

@@ -10,7 +10,7 @@ trial when the best lies at the edge of the region).  Written from the numbers o
 from __future__ import annotations
 
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis
-from trialkit.numbers import readable, readable_interval, settings_text
+from trialkit.numbers import readable, readable_interval, settings_text, spoken
 from trialkit.report.document import Block
 from trialkit.report.findings import pretty_unit
 
@@ -49,8 +49,8 @@ def _at_edge(data: TrialAnalysis) -> list[str]:
         if f.is_continuous and isinstance(v, float):
             span = f.high - f.low
             if min(abs(v - f.low), abs(v - f.high)) <= 0.02 * span:
-                out.append(f"{f.name} ({'low' if abs(v - f.low) < abs(v - f.high) else 'high'}"
-                           " end)")
+                end = "low" if abs(v - f.low) < abs(v - f.high) else "high"
+                out.append(f"{spoken(f.name, f.unit)} ({end} end)")
     return out
 
 
@@ -84,7 +84,7 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
         est, ci_low, ci_high = readable_interval(p["predicted"], p["ci_low"], p["ci_high"])
         _, pi_low, pi_high = readable_interval(p["predicted"], p["pi_low"], p["pi_high"])
         blocks.append(Block.para(
-            f"How sure: {primary} is predicted {est} {unit} at these settings "
+            f"How sure: {spoken(primary)} is predicted {est} {unit} at these settings "
             f"(95 % confidence interval of the mean {ci_low} to {ci_high} "
             f"{unit}; a single new bath {pi_low} to {pi_high} {unit}). "
             f"Evidence: {word} ({why})."))

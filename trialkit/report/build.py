@@ -14,7 +14,7 @@ from pathlib import Path
 import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
-from trialkit.numbers import readable, readable_interval
+from trialkit.numbers import readable, readable_interval, spoken, spoken_capitalised
 from trialkit.report import figure_list as figs
 from trialkit.report.answer import answer_blocks, settings_phrase
 from trialkit.report.comparison_text import comparison_blocks
@@ -156,14 +156,15 @@ def _findings(data: TrialAnalysis) -> list:
                         f"{f.unit}" if sw.fieller_bounded else "its interval is unbounded")
             if not sw.fieller_bounded:
                 best = readable(sw.best, 3)
-            text = (f"{name.capitalize()} is best at {f.name} {best} {f.unit} "
+            text = (f"{spoken_capitalised(name)} is best at "
+                    f"{_at(f, best)} "
                     f"({interval}); the practical lean level, the lowest level within "
                     f"{_size(sw.tolerance, unit)} of the best, is "
                     f"{readable(sw.lean_level, 3)} {f.unit}."
-                    + (f" Above the best level {name} gets worse again, by "
+                    + (f" Above the best level {spoken(name)} gets worse again, by "
                        f"{_size(sw.drop_at_high, unit)} at the top of the range"
                        f" ({'higher' if sw.aim == 'lower' else 'lower'}"
-                       f" {name})." if sw.falls_off else ""))
+                       f" {spoken(name)})." if sw.falls_off else ""))
             out.append(Finding(text, name, f.name, "sweep",
                                {"best": sw.best, "lean_level": sw.lean_level,
                                 "fieller_low": sw.fieller_low,
@@ -179,6 +180,13 @@ def _findings(data: TrialAnalysis) -> list:
                     f"{len(done)} of {len(t90)} baths reached 90 % within their readings.")
             out.append(Finding(text, "time_to_90", fast, "kinetics", {"t90": done[fast]}))
     return out
+
+
+def _at(factor, value_text: str) -> str:
+    """``chelator 4.6 % w/v`` or ``pH 6.2``: a factor at a value already written."""
+    if factor.unit == "pH":
+        return f"pH {value_text}"
+    return f"{spoken(factor.name)} {value_text} {pretty_unit(factor.unit)}".rstrip()
 
 
 def _size(x: float, unit: str) -> str:

@@ -25,7 +25,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from trialkit.numbers import readable, readable_p, readable_unit
+from trialkit.numbers import readable, readable_p, readable_unit, spoken, spoken_capitalised
 
 DASH = "\u2013"
 MINUS = "\u2212"
@@ -92,12 +92,13 @@ def amount_text(effect: float, unit: str, dec: int) -> str:
 
 
 def span_text(f, low: float | None = None, high: float | None = None) -> str:
-    """``from 2 to 10 % w/v`` or ``from pH 5.5 to pH 7.5`` (the factor's range, or the
-    ``low``-``high`` range given: the one the model was fitted on)."""
+    """``from 2 to 10 % w/v``, or ``from 5.5 to 7.5`` for a factor in pH (said "Raising pH
+    from 5.5 to 7.5"): the factor's range, or the ``low``-``high`` range given (the one the
+    model was fitted on)."""
     low = f.low if low is None else low
     high = f.high if high is None else high
     if f.unit == "pH":
-        return f"from pH {readable(low)} to pH {readable(high)}"
+        return f"from {readable(low)} to {readable(high)}"
     return f"from {readable(low)} to {readable(high)} {pretty_unit(f.unit)}".rstrip()
 
 
@@ -145,6 +146,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
     quiet_inter: list[tuple[str, float]] = []
     quiet_curve: list[tuple[str, float]] = []
     resp = fit.response
+    said = spoken(resp)
     unit = pretty_unit(unit)
     for term in fit.spec.terms:
         name = term.name
@@ -175,25 +177,25 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
                 dec = decimals_for((hi - lo) / 2)
                 nums["fitted_range"] = [lo_seen, hi_seen]
                 verb = "increased" if eff > 0 else "decreased"
-                head = f"Raising {name} {span_text(f, lo_seen, hi_seen)}"
+                head = f"Raising {spoken(name, f.unit)} {span_text(f, lo_seen, hi_seen)}"
                 change_sign = 1.0
             else:
                 # sum coding: the column of the first level; effect = first - second
                 first, second = f.levels[0], f.levels[1]
                 eff, lo, hi = -eff, -hi, -lo
                 verb = "increased" if eff > 0 else "decreased"
-                head = f"Changing {name} from {first} to {second}"
+                head = f"Changing {spoken(name)} from {first} to {second}"
                 change_sign = -1.0
             nums.update(effect=eff, ci_low=lo, ci_high=hi, sign=change_sign)
             ci = f"95 % CI {interval(lo, hi, dec)}"
             if sig:
                 mag = f"95 % CI {interval(lo, hi, dec)}" if eff > 0 else \
                     f"95 % CI {interval(-hi, -lo, dec)}"
-                text = (f"{head} {verb} {resp} by {amount_text(eff, unit, dec)} "
+                text = (f"{head} {verb} {said} by {amount_text(eff, unit, dec)} "
                         f"({mag}; {fmt_p(p)}).")
                 kind = "effect"
             else:
-                text = (f"{head} made no detectable difference to {resp} ({fmt_p(p)}; "
+                text = (f"{head} made no detectable difference to {said} ({fmt_p(p)}; "
                         f"estimate {fmt(eff, dec)} {unit}, {ci}).".replace(" %,", " points,"))
                 if name in detectable and np.isfinite(detectable[name]):
                     d = float(detectable[name])
@@ -210,8 +212,8 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
                 if row is not None:
                     dec = decimals_for((nums["ci_high"] - nums["ci_low"]) / 2)
                     size = f"; interaction effect {fmt(nums['effect'], dec)} {unit}".rstrip()
-                text = (f"The effect of {a} on {resp} depends on {b}" +
-                        (" (and " + ", ".join(term.factors[2:]) + ")"
+                text = (f"The effect of {spoken(a)} on {said} depends on {spoken(b)}" +
+                        (" (and " + ", ".join(map(spoken, term.factors[2:])) + ")"
                          if len(term.factors) > 2 else "") + f" ({fmt_p(p)}{size}).")
                 out.append((abs(nums.get("effect", 0.0)) + 1e-9, Finding(text, resp, name,
                                                                          "interaction", nums)))
@@ -224,18 +226,19 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
             if sig:
                 where = "higher in the middle of the range than at its ends" if est < 0 \
                     else "lower in the middle of the range than at its ends"
-                text = f"{resp.capitalize()} curves along {f}: it is {where} ({fmt_p(p)})."
+                text = (f"{spoken_capitalised(resp)} curves along {spoken(f)}: it is {where} "
+                        f"({fmt_p(p)}).")
                 out.append((abs(float(est)) * 2, Finding(text, resp, name, "curvature", nums)))
             else:
                 quiet_curve.append((f, p))
     if quiet_inter:
-        listed = "; ".join(f"{n} ({fmt_p(p)})" for n, p in quiet_inter)
-        out.append((-2.0, Finding(f"No interaction on {resp} was detected: {listed}.", resp,
+        listed = "; ".join(f"{spoken(n)} ({fmt_p(p)})" for n, p in quiet_inter)
+        out.append((-2.0, Finding(f"No interaction on {said} was detected: {listed}.", resp,
                                   ", ".join(n for n, _ in quiet_inter), "not_detected",
                                   {"p": [p for _, p in quiet_inter]})))
     if quiet_curve:
-        listed = "; ".join(f"along {n} ({fmt_p(p)})" for n, p in quiet_curve)
-        out.append((-3.0, Finding(f"No curvature of {resp} was detected {listed}.", resp,
+        listed = "; ".join(f"along {spoken(n)} ({fmt_p(p)})" for n, p in quiet_curve)
+        out.append((-3.0, Finding(f"No curvature of {said} was detected {listed}.", resp,
                                   ", ".join(n for n, _ in quiet_curve), "not_detected",
                                   {"p": [p for _, p in quiet_curve]})))
     out.sort(key=lambda t: -t[0])
@@ -245,7 +248,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
         extra = (f", and predicts left-out baths with R² = {pr:.2f}"
                  if math.isfinite(pr) else "")
         findings.append(Finding(
-            f"The model for {resp} explains {100 * fit.r_squared:.1f} % of the variation between "
+            f"The model for {said} explains {100 * fit.r_squared:.1f} % of the variation between "
             f"{fit.n} baths (R² = {fit.r_squared:.2f}{extra}).", resp, "model", "model",
             {"r_squared": fit.r_squared, "pred_r_squared": pr, "n": fit.n}))
     return findings
@@ -264,8 +267,8 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
                 "p_approximate": True}
         if r.significant:
             verb = "raised" if r.effect > 0 else "lowered"
-            text = (f"Going from the low to the high level of {r.term} {verb} "
-                    f"{effects.response} by {amount_text(r.effect, unit, dec)}, beyond "
+            text = (f"Going from the low to the high level of {spoken(r.term)} {verb} "
+                    f"{spoken(effects.response)} by {amount_text(r.effect, unit, dec)}, beyond "
                     f"Lenth's margin of error of {amount_text(me, unit, dec)} (simultaneous "
                     f"margin {amount_text(sme, unit, dec)}; approximate {fmt_p(r.p)}, from "
                     f"Lenth's pseudo standard error).")
@@ -273,8 +276,9 @@ def effects_findings(effects, *, unit: str = "") -> list[Finding]:
     quiet = [r.term for r in df.itertuples() if not r.significant]
     if quiet:
         text = (f"Within Lenth's margin of error ({amount_text(me, unit, dec)}; simultaneous "
-                f"margin {amount_text(sme, unit, dec)}), no effect on {effects.response} was "
-                f"detected for: {', '.join(quiet)}.")
+                f"margin {amount_text(sme, unit, dec)}), no effect on "
+                f"{spoken(effects.response)} was detected for: "
+                f"{', '.join(map(spoken, quiet))}.")
         out.append(Finding(text, effects.response, ", ".join(quiet), "not_detected",
                            {"me": me, "sme": sme}))
     return out
@@ -296,18 +300,19 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
     with Holm-adjusted p-values, and a best point at the edge of the region.
     """
     resp = fit.response
+    said = spoken(resp)
     out: list[Finding] = []
     lo, hi = fit.limits
     if lo is not None or hi is not None:
         out.append(Finding(
-            f"{resp.capitalize()} can only lie {_range_text(lo, hi)} "
+            f"{spoken_capitalised(resp)} can only lie {_range_text(lo, hi)} "
             f"{pretty_unit(unit)}".rstrip() + ": the model is fitted on the raw scale and "
             "its predictions and intervals are cut to that range (flagged where cut).",
             resp, "scale", "model", {"physical_range": list(fit.limits)}))
     box = getattr(diagnostics, "box_cox", None)
     if box and not box.get("raw_scale_supported", True):
         out.append(Finding(
-            f"The Box–Cox check does not support the raw scale for {resp} (power "
+            f"The Box–Cox check does not support the raw scale for {said} (power "
             f"{readable(box['lambda_hat'], 2)}, interval {readable(box['ci_low'], 2)} to "
             f"{readable(box['ci_high'], 2)}"
             f"); a {box['transform']} scale would fit better.", resp, "scale", "model",
@@ -315,7 +320,7 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
     pr = fit.pred_r_squared
     if math.isfinite(pr) and pr < weak_below:
         out.append(Finding(
-            f"The model for {resp} is weak: it predicts left-out baths with R² = {pr:.2f} "
+            f"The model for {said} is weak: it predicts left-out baths with R² = {pr:.2f} "
             f"(below {readable(weak_below)}); do not let it decide on its own.", resp, "model",
             "model", {"pred_r_squared": pr, "weak": True}))
     pvals = {k: v for k, v in _anova_p(fit).items() if k != "block" and math.isfinite(v)}
@@ -324,16 +329,16 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
 
         names = list(pvals)
         holm = multipletests([pvals[n] for n in names], method="holm")[1]
-        listed = "; ".join(f"{n} {fmt_p(float(h)).removeprefix('p ')}"
+        listed = "; ".join(f"{spoken(n)} {fmt_p(float(h)).removeprefix('p ')}"
                            for n, h in zip(names, holm, strict=True))
         out.append(Finding(
-            f"{len(names)} terms were tested for {resp}; Holm-adjusted p-values (for "
+            f"{len(names)} terms were tested for {said}; Holm-adjusted p-values (for "
             f"testing them all at once): {listed}.", resp, "model", "multiplicity",
             {"n_tested": len(names), "p_holm": dict(zip(names, map(float, holm),
                                                         strict=True))}))
     if reduced:
         out.append(Finding(
-            f"The p-values for {resp} are from the reduced model, after terms were dropped "
+            f"The p-values for {said} are from the reduced model, after terms were dropped "
             "on the same data: they are optimistic.", resp, "model", "model",
             {"reduced": True}))
     edge = []
@@ -343,7 +348,8 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
         edge = [sweep.factor.name]
     if edge:
         out.append(Finding(
-            f"The best point for {resp} is at the edge of the region in {', '.join(edge)}: "
+            f"The best point for {said} is at the edge of the region in "
+            f"{', '.join(map(spoken, edge))}: "
             "the best may lie beyond; extend the range to find it.", resp,
             ", ".join(edge), "edge", {"at_edge": edge}))
     return out

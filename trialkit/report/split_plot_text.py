@@ -31,6 +31,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 
+from trialkit.numbers import spoken
 from trialkit.report.findings import (
     Finding,
     amount_text,
@@ -60,6 +61,7 @@ def split_plot_findings(result, factors: Sequence, *, unit: str = "",
     """
     by_name = {f.name: f for f in factors}
     resp, unit = result.response, pretty_unit(unit)
+    said = spoken(resp)
     out: list[tuple[float, Finding]] = []
     for r in result.effects.itertuples():
         f = by_name.get(r.factor)
@@ -67,9 +69,9 @@ def split_plot_findings(result, factors: Sequence, *, unit: str = "",
         dec = decimals_for((hi - lo) / 2)
         hard = r.error_stratum == "whole plot"
         if f is not None and f.is_continuous:
-            head = f"Raising {r.factor} {span_text(f, float(r.low), float(r.high))}"
+            head = f"Raising {spoken(r.factor, f.unit)} {span_text(f, float(r.low), float(r.high))}"
         else:
-            head = f"Changing {r.factor} from {r.low} to {r.high}"
+            head = f"Changing {spoken(r.factor)} from {r.low} to {r.high}"
         head += " (set per tank)" if hard else ""
         tail = f"{fmt_p(p)}, {AGAINST[r.error_stratum]}, {_df_text(r.error_df)}"
         nums = {"effect": eff, "ci_low": lo, "ci_high": hi, "p": p,
@@ -77,11 +79,11 @@ def split_plot_findings(result, factors: Sequence, *, unit: str = "",
         if math.isfinite(p) and p < alpha:
             verb = "increased" if eff > 0 else "decreased"
             ci = interval(lo, hi, dec) if eff > 0 else interval(-hi, -lo, dec)
-            text = (f"{head} {verb} {resp} by {amount_text(eff, unit, dec)} "
+            text = (f"{head} {verb} {said} by {amount_text(eff, unit, dec)} "
                     f"(95 % CI {ci}; {tail}).")
             out.append((abs(eff), Finding(text, resp, r.factor, "effect", nums)))
         else:
-            text = (f"{head} made no detectable difference to {resp} (estimate "
+            text = (f"{head} made no detectable difference to {said} (estimate "
                     f"{fmt(eff, dec)} {unit}, 95 % CI {interval(lo, hi, dec)}; "
                     f"{tail}).").replace(" %,", " points,")
             out.append((-1 / (1 + abs(eff)), Finding(text, resp, r.factor, "not_detected",
@@ -90,7 +92,8 @@ def split_plot_findings(result, factors: Sequence, *, unit: str = "",
         if ":" not in str(r.term) or not (math.isfinite(r.p_value) and r.p_value < alpha):
             continue
         parts = str(r.term).split(":")
-        text = (f"The effect of {parts[0]} on {resp} depends on {' and '.join(parts[1:])} "
+        text = (f"The effect of {spoken(parts[0])} on {said} depends on "
+                f"{' and '.join(map(spoken, parts[1:]))} "
                 f"({fmt_p(float(r.p_value))}, {AGAINST[r.error_stratum]}).")
         out.append((0.0, Finding(text, resp, str(r.term), "interaction",
                                  {"p": float(r.p_value), "error_stratum": r.error_stratum,
@@ -110,7 +113,7 @@ def why_wider(result, unit: str = "") -> str:
     hard = eff[eff.error_stratum == "whole plot"]
     if hard.empty:
         return ""
-    names = " and ".join(dict.fromkeys(hard.factor))
+    names = " and ".join(map(spoken, dict.fromkeys(hard.factor)))
     wp, sp = (max(float(result.variance_components[k]), 0.0)
               for k in ("whole_plot", "subplot"))
     return (f"The interval for {names} is wider than for the other factors because "
