@@ -15,6 +15,7 @@ import report_trials as rt
 from scipy import stats
 
 from trialkit.analysis.model import fit_model
+from trialkit.numbers import spoken
 from trialkit.report import findings as fd
 
 NUM = r"(−?[\d.]+)"
