@@ -4,9 +4,10 @@ A model's best point picks a level of every factor, even of one whose effect the
 could not tell from noise; the recommendation would then add an ingredient (or heat a
 tank) on the strength of a difference nobody has shown.  When a factor made no detectable
 difference to any response the trial wants something of, the recommendation moves it to
-its cheapest setting: the one whose recipe costs least (priced from the catalogue), and,
-when the recipes cost the same, for a temperature the setting nearest room temperature
-(no heating: cheaper and safer, `common practice`).  A factor with a detected effect on
+its cheapest setting: for a temperature the setting nearest room temperature (no heating:
+cheaper and safer, `common practice`; heating is not in a recipe's cost), otherwise the
+one whose recipe costs least (priced from the catalogue) or, unpriced, needs the least of
+every ingredient.  A factor with a detected effect on
 any wanted response, or on its interactions, is left where the model put it.
 
 Examples
@@ -126,10 +127,11 @@ def lean_settings(data: TrialAnalysis, settings: dict, reasons: list[str]
         if name not in out:
             continue
         options = [float(f.low), float(f.high)] if f.is_continuous else list(f.levels)
-        choice, why = _cheapest(data, out, name, options)
-        if choice is None and f.is_continuous and f.unit in ("degC", "°C"):
+        if f.is_continuous and f.unit in ("degC", "°C"):  # heating is not in the recipe
             choice, why = nearest_room_temperature(options), \
-                "nearest room temperature (no heating)"
+                "nearest room temperature (no heating, which the recipe's cost leaves out)"
+        else:
+            choice, why = _cheapest(data, out, name, options)
         if choice is None or choice == out[name]:
             continue
         out[name] = moved[name] = choice
