@@ -308,3 +308,20 @@ def test_the_answer_tells_of_wanted_responses_and_does_not_flag_what_a_compromis
     weighed = {a.response for a in data.desirability.aims}
     assert "cost" in weighed
     assert not any(r.startswith(tuple(weighed)) for r in data.recommendation["reasons"])
+
+
+def test_lack_of_fit_without_pure_error_says_why_it_is_not_tested():
+    # a cost worked out from recipes: baths at the same settings agree exactly, so
+    # F = lack of fit / pure error has a zero denominator (Montgomery, lack-of-fit test:
+    # pure error needs replicates that vary — from memory); never "F = , p not available"
+    from trialkit.report.build import _lack_of_fit_text
+
+    nan = float("nan")
+    assert "no pure error" in _lack_of_fit_text("cost", {"F": nan, "p": nan,
+                                                         "lack_of_fit_df": 3})
+    assert "as many terms" in _lack_of_fit_text("cost", {"F": nan, "p": nan,
+                                                         "lack_of_fit_df": 0})
+    assert _lack_of_fit_text("removal", {"F": 1.234, "p": 0.31, "lack_of_fit_df": 3}) == \
+        "Lack of fit against pure error for removal: F = 1.23, p = 0.31."
+    report = rt.report_of("example:surface-follow-up").to_html()
+    assert "F = , " not in report and "Lack of fit for cost is not tested" in report

@@ -13,7 +13,7 @@ import pytest
 from trialkit.chemistry.mixing_sheet import recipes_for_plan
 from trialkit.cli import main
 from trialkit.planning.plan import load_plan
-from trialkit.responses.bath_cost import COST_MEASURES, bath_costs
+from trialkit.responses.bath_cost import COST_MEASURES, bath_costs, cost_unit
 from trialkit.responses.measures import known_measures
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "example_trials"
@@ -46,6 +46,18 @@ def test_the_surface_example_trades_removal_attack_and_computed_cost():
     assert data.desirability is not None
     names = [a.response for a in data.desirability.aims]
     assert {"removal", "attack", "cost"} <= set(names)
+    # the trial file leaves the unit blank; the catalogue's one currency gives it (issue 17)
+    assert data.specs["cost"].unit == "" and data.unit("cost") == "EUR/L"
+    said = [f["text"] for f in rt.report_of("example:surface-follow-up").findings
+            if f["response"] == "cost" and f["kind"] == "effect"]
+    assert said and all(" EUR/L (95 % CI" in t for t in said)
+
+
+def test_a_cost_unit_names_one_currency_or_none():
+    assert cost_unit("cost_per_m2", ["USD"]) == "USD/m²"
+    assert cost_unit("cost_per_bath", ["EUR"]) == "EUR per bath"
+    assert cost_unit("cost_per_l", ["EUR", "USD"]) == "per L"      # no exchange rates assumed
+    assert cost_unit("cost_per_l", [None]) == "per L"
 
 
 def test_unknown_measure_is_refused_at_plan_time_with_a_suggestion(tmp_path, capsys):

@@ -141,7 +141,7 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
             "the practical lean level of the sweep: the lowest "
             f"{spoken(sw.factor.name, sw.factor.unit)} whose "
             f"predicted {spoken(primary)} is within {readable(sw.tolerance, 3)} "
-            f"{readable_unit(spec.unit)} of the "
+            f"{readable_unit(data.unit(primary))} of the "
             f"best (best at {readable(sw.best, 3)} {readable_unit(sw.factor.unit)})")
     grid = _candidates(data.trial, 3)
     pred = data.fits[primary].predict(grid, clip=False).predicted.to_numpy()

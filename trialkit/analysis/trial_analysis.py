@@ -157,6 +157,9 @@ def _bath_table(data: TrialAnalysis, responses, baths: pd.DataFrame | None) -> p
         measure = spec.measure or spec.name
         if costs is not None and measure in costs:
             table[spec.name] = table["bath"].map(costs.set_index("bath")[measure].to_dict())
+            from trialkit.responses.bath_cost import cost_unit
+
+            data.derived_units[spec.name] = cost_unit(measure, costs["currency"])
             continue
         try:
             values = responses.bath_values(measure)

@@ -56,6 +56,7 @@ class TrialAnalysis:
     photos: pd.DataFrame | None = None  # coverages measured from photos (photo_readings)
     agreement: object | None = None  # analysis.agreement.CoverageAgreement, hand vs photo
     split_plots: dict = field(default_factory=dict)  # response -> SplitPlotResult
+    derived_units: dict = field(default_factory=dict)  # response -> unit the data give
     notes: dict = field(default_factory=dict)  # topic -> list of sentences
 
     def note(self, topic: str, text: str) -> None:
@@ -66,8 +67,11 @@ class TrialAnalysis:
         return {r.name: r for r in self.trial.responses}
 
     def unit(self, response: str) -> str:
+        """The response's unit: as the trial file states it, else as the data give it (a
+        cost's currency, e.g. ``EUR/L``)."""
         spec = self.specs.get(response)
-        return spec.unit if spec is not None else ""
+        stated = spec.unit if spec is not None else ""
+        return stated or self.derived_units.get(response, "")
 
     def recommendation_dict(self) -> dict | None:
         """The recommendation as plain data: ``settings``, ``predicted`` (every response

@@ -120,8 +120,9 @@ def _brief(data: TrialAnalysis) -> list[Block]:
                           "levels": _levels(f)} for f in t.factors])
     blocks.append(Block.frame(ftab, "Factors and their levels"))
     if t.responses:
-        rtab = pd.DataFrame([{"response": r.name, "unit": pretty_unit(r.unit), "aim": r.aim,
-                              "computed as": r.measure or r.name} for r in t.responses])
+        rtab = pd.DataFrame([{"response": r.name, "unit": pretty_unit(data.unit(r.name)),
+                              "aim": r.aim, "computed as": r.measure or r.name}
+                             for r in t.responses])
         blocks.append(Block.frame(rtab, "Responses"))
     return blocks + _notes(data, "plan")
 
@@ -182,6 +183,18 @@ def _findings(data: TrialAnalysis) -> list:
     return out
 
 
+def _lack_of_fit_text(name: str, lf: dict) -> str:
+    """The lack-of-fit sentence, or why the test cannot be made."""
+    if lf["F"] == lf["F"]:
+        return (f"Lack of fit against pure error for {name}: F = {readable(lf['F'], 3)}, "
+                f"{fmt_p(lf['p'])}.")
+    if lf["lack_of_fit_df"] <= 0:
+        return (f"Lack of fit for {name} is not tested: the model has as many terms as "
+                "there are distinct settings.")
+    return (f"Lack of fit for {name} is not tested: the baths at the same settings agree "
+            "exactly (no pure error), as for a value worked out rather than measured.")
+
+
 def _at(factor, value_text: str) -> str:
     """``chelator 4.6 % w/v`` or ``pH 6.2``: a factor at a value already written."""
     if factor.unit == "pH":
@@ -236,8 +249,7 @@ def _models(data: TrialAnalysis) -> list[Block]:
         blocks.append(Block.frame(coef, f"Coefficients for {name} in the factors' own units"))
         if an.lack_of_fit:
             lf = an.lack_of_fit
-            blocks.append(Block.para(f"Lack of fit against pure error for {name}: F = "
-                                     f"{readable(lf['F'], 3)}, {fmt_p(lf['p'])}."))
+            blocks.append(Block.para(_lack_of_fit_text(name, lf)))
         blocks += _diagnostic_text(data, name)
         if fit.df_resid > 0:
             blocks += figs.model_figures(data, name)

@@ -49,7 +49,7 @@ def comparison_blocks(data, name: str) -> list[Block]:
     rows = [c for c in data.comparisons if c["response"] == name]
     for factor in dict.fromkeys(r["factor"] for r in rows):
         mine = [r for r in rows if r["factor"] == factor]
-        blocks.append(Block.bullets(level_sentences(mine, spec.unit, spec.aim),
+        blocks.append(Block.bullets(level_sentences(mine, data.unit(name), spec.aim),
                                     f"{name}: the levels of {factor} compared"))
     vs = [v for v in data.versus_controls if v["response"] == name]
     if vs:

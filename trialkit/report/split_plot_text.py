@@ -7,13 +7,13 @@ randomised on its own.
 
 Examples
 --------
->>> import numpy as np, pandas as pd
+>>> import itertools, pandas as pd
 >>> from trialkit.analysis.split_plot_trial import analyse_split_plot
 >>> from trialkit.trial.factors import Factor
->>> rng = np.random.default_rng(5)
->>> rows = [{"day": d, "tank": f"{d}-{t}", "temperature": t, "chelator": c,
-...          "removal": 50 + 10 * (t == 40) + 5 * (c == 6) + rng.normal()}
-...         for d in (1, 2, 3) for t in (20, 40) for c in (2, 6) for _ in (1, 2)]
+>>> noise = itertools.cycle([0.8, -1.1, 0.3, -0.4, 1.2, -0.6, 0.1, -0.9, 0.5, 0.7, -0.2])
+>>> rows = [dict(day=d, tank=f"{d}-{t}", temperature=t, chelator=c,
+...              removal=50 + 10 * (t == 40) + 5 * (c == 6) + next(noise))
+...         for d, t, c, _ in itertools.product((1, 2, 3), (20, 40), (2, 6), "ab")]
 >>> res = analyse_split_plot(pd.DataFrame(rows), "removal", ["temperature"], ["chelator"],
 ...                          whole_plot="tank", block="day")
 >>> factors = [Factor.continuous("temperature", 20, 40, unit="degC"),

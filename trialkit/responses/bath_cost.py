@@ -20,9 +20,23 @@ COST_MEASURES: dict[str, tuple[str, str, str]] = {
     "cost_per_l": ("per L", "per_l", "ingredient cost per litre of bath, from its recipe"),
     "cost_per_bath": ("per bath", "total", "ingredient cost of the whole bath, from its "
                       "recipe"),
-    "cost_per_m2": ("per m2", "per_m2", "ingredient cost per square metre of coupon area "
+    "cost_per_m2": ("per m²", "per_m2", "ingredient cost per square metre of coupon area "
                     "in the bath, from its recipe"),
 }
+
+
+def cost_unit(measure: str, currencies) -> str:
+    """The unit of a cost measure in the one currency of its baths, e.g. ``EUR/L``; the
+    bare ``per L`` when the baths are priced in several currencies or in none.
+
+    >>> cost_unit("cost_per_l", ["EUR", "EUR"]), cost_unit("cost_per_bath", ["EUR", "USD"])
+    ('EUR/L', 'per bath')
+    """
+    text = COST_MEASURES[measure][0]
+    found = {str(c) for c in currencies if isinstance(c, str) and c}
+    if len(found) != 1:
+        return text
+    return f"{found.pop()}{text.replace('per ', '/') if text != 'per bath' else ' per bath'}"
 
 
 def bath_costs(plan) -> pd.DataFrame:
