@@ -80,16 +80,22 @@ class CensoredFit:
                              "ci_low": self.beta - z * self.se,
                              "ci_high": self.beta + z * self.se})
 
-    def predict(self, settings: pd.DataFrame) -> pd.DataFrame:
-        """Median time (``exp(x'beta)``) with its confidence interval (Wald, on ln T)."""
+    def predict(self, settings: pd.DataFrame | dict, n_new: int = 1) -> pd.DataFrame:
+        """Median time (``exp(x'beta)``) with its confidence interval (Wald, on ln T), and
+        the interval of the geometric mean of ``n_new`` new baths (``sigma² / n_new``
+        added on ln T)."""
+        if isinstance(settings, dict):
+            settings = pd.DataFrame([settings])
         coded = coded_frame(settings, self._spec.used_factors)
         X = model_matrix(self._spec, coded, levels=self._levels).X
         eta = X @ self.beta
         var = np.einsum("ij,jk,ik->i", X, self._cov[:-1, :-1], X)
         z = float(stats.norm.ppf(1 - self.alpha / 2))
         half = z * np.sqrt(var)
+        half_new = z * np.sqrt(var + self.sigma ** 2 / n_new)
         return pd.DataFrame({"median": np.exp(eta), "ci_low": np.exp(eta - half),
-                             "ci_high": np.exp(eta + half)})
+                             "ci_high": np.exp(eta + half), "pi_low": np.exp(eta - half_new),
+                             "pi_high": np.exp(eta + half_new)})
 
     def to_dict(self) -> dict:
         return {"model": "log-normal accelerated failure time (maximum likelihood)",

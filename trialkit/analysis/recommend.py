@@ -257,15 +257,8 @@ def recommend(data: TrialAnalysis) -> None:
     if np.isfinite(pr) and pr < WEAK_PRED_R2:
         source += (f"; the model for {spoken(primary)} is weak (predicted R² = {pr:.2f}, below "
                    f"{readable(WEAK_PRED_R2)}): it should not decide on its own; confirm first")
-    rows = []
-    for name, fit in data.fits.items():
-        p1, p3 = (_predict(data, name, settings, n) for n in (1, 3))
-        rows.append({"response": name, "unit": data.unit(name), "aim": data.specs[name].aim,
-                     "predicted": float(p1.predicted), "ci_low": float(p1.ci_low),
-                     "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
-                     "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),
-                     "pi3_high": float(p3.pi_high),
-                     "clipped": bool(p1.clipped or p3.clipped), "scale": fit.scale})
+    rows = [_prediction_row(data, name, settings) for name in
+            dict.fromkeys([*data.fits, *data.censored_fits])]
     met = all(limit_shortfall(data.specs[r["response"]], r["predicted"]) == 0
               for r in rows if r["response"] in limited)
     _flag_unlimited(data, rows, reasons)
@@ -277,6 +270,26 @@ def recommend(data: TrialAnalysis) -> None:
 
 
 WEAK_PRED_R2 = 0.5
+
+
+def _prediction_row(data: TrialAnalysis, name: str, settings: dict) -> dict:
+    """One response predicted at ``settings``: by its censored time model when slow baths
+    were censored (the linear model saw only the finished ones), else by its fit."""
+    head = {"response": name, "unit": data.unit(name), "aim": data.specs[name].aim}
+    cf = data.censored_fits.get(name)
+    if cf is not None and (name not in data.fits or data.censoring[name]["n_censored"]):
+        p1, p3 = (cf.predict(settings, n_new=n).iloc[0] for n in (1, 3))
+        return {**head, "predicted": float(p1["median"]), "ci_low": float(p1.ci_low),
+                "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
+                "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),
+                "pi3_high": float(p3.pi_high), "clipped": False,
+                "scale": "log (median of a log-normal time model, slow baths censored)"}
+    p1, p3 = (_predict(data, name, settings, n) for n in (1, 3))
+    return {**head, "predicted": float(p1.predicted), "ci_low": float(p1.ci_low),
+            "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),
+            "pi_high": float(p1.pi_high), "pi3_low": float(p3.pi_low),
+            "pi3_high": float(p3.pi_high), "clipped": bool(p1.clipped or p3.clipped),
+            "scale": data.fits[name].scale}
 
 
 def _predict(data: TrialAnalysis, name: str, settings: dict, n_new: int):

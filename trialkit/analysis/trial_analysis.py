@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from trialkit.analysis.censored_times import censored_times, is_censorable
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
 
@@ -281,6 +282,8 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
                                 relative_tolerance=cfg.relative_tolerance, limits=limits)
         except TrialkitError as exc:
             data.note("analysis", f"{spec.name}: no model could be fitted ({first_line(exc)})")
+            if is_censorable(spec):
+                censored_times(data, spec)
             continue
         data.fits[spec.name] = res.fit
         data.models[spec.name] = res.fit.spec.to_text()
@@ -295,8 +298,8 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             _effects(data, spec)
         if res.sweep is None:
             _detectable(data, spec)
-        if (spec.measure or spec.name) in CENSORED_LEVELS:
-            _censoring(data, spec, res.fit)
+        if is_censorable(spec):
+            censored_times(data, spec, res.fit)
         _split_plot(data, spec)
     _comparisons(data)
     from trialkit.analysis.recommend import desirability, recommend
@@ -327,49 +330,6 @@ def _comparisons(data: TrialAnalysis) -> None:
         except (TrialkitError, ValueError) as exc:
             data.note("analysis", f"{name}: treatments not compared with the controls "
                                   f"({first_line(exc)})")
-
-
-CENSORED_LEVELS = {"time_to_50_h": 50.0, "time_to_90_h": 90.0}
-
-
-def _censoring(data: TrialAnalysis, spec, fit) -> None:
-    """Count the baths that had not reached the level by their last inspection and, when
-    there are any, fit the time with them right-censored (log-normal AFT)."""
-    level = CENSORED_LEVELS[spec.measure or spec.name]
-    tag = int(level)
-    names = [f.name for f in fit.spec.used_factors if f.name != "block"]
-    rows = []
-    for rec in data.baths.to_dict("records"):
-        k = data.kinetics.get(str(rec.get("bath")))
-        if k is None or any(pd.isna(rec.get(n)) for n in names):
-            continue
-        reached = bool(getattr(k, f"reached_{tag}"))
-        rows.append({**{n: rec[n] for n in names}, "bath": str(rec["bath"]),
-                     "time": getattr(k, f"time_to_{tag}_h") if reached else k.last_h,
-                     "censored": not reached})
-    if not rows:
-        return
-    table = pd.DataFrame(rows)
-    cens = table[table.censored]
-    out = {"level_pct": level, "n_baths": len(table), "n_censored": len(cens),
-           "censored_baths": cens.bath.tolist(), "censored_fit": None,
-           "linear_fit_uses": "only the baths that reached the level"}
-    if len(cens):
-        from trialkit.analysis.censored import fit_censored
-
-        terms = " + ".join(t.name for t in fit.spec.terms if t.name != "block")
-        try:
-            cf = fit_censored(table, "time", fit.spec.used_factors, terms or None,
-                              censored="censored", alpha=fit.alpha)
-            out["censored_fit"] = cf.to_dict()
-        except TrialkitError as exc:
-            out["censored_fit_error"] = first_line(exc)
-        data.note("analysis", f"{spec.name}: {len(cens)} of {len(table)} baths had not "
-                              f"reached {tag} % removal by their last inspection; they are "
-                              "right-censored in the log-normal time model under "
-                              "'censoring', while the linear model uses only the baths that "
-                              "got there")
-    data.censoring[spec.name] = out
 
 
 def _split_plot(data: TrialAnalysis, spec) -> None:

@@ -52,6 +52,7 @@ class TrialAnalysis:
     bench: pd.DataFrame | None = None  # baths whose recorded pH / temperature is off plan
     log_check: object | None = None  # trialkit.records.chain.LogVerification of the log
     censoring: dict = field(default_factory=dict)  # time response -> censoring (plain)
+    censored_fits: dict = field(default_factory=dict)  # time response -> CensoredFit
     coverage_source: str = "hand"  # [photos] coverage_from: the coverages the responses use
     photos: pd.DataFrame | None = None  # coverages measured from photos (photo_readings)
     agreement: object | None = None  # analysis.agreement.CoverageAgreement, hand vs photo
@@ -97,8 +98,10 @@ class TrialAnalysis:
         return {
             "trial": getattr(self.trial, "title", ""),
             "fingerprint": self.plan.fingerprint, "seed": self.trial.seed,
-            "responses": {name: self._response_dict(name, res)
-                          for name, res in self.results.items()},
+            "responses": {**{name: self._response_dict(name, res)
+                             for name, res in self.results.items()},
+                          **{name: self._censored_only_dict(name) for name in self.censoring
+                             if name not in self.results}},
             "recommendation": self.recommendation_dict(),
             "comparisons": list(self.comparisons),
             "versus_controls": list(self.versus_controls),
@@ -112,6 +115,12 @@ class TrialAnalysis:
                                    else self.agreement.to_dict()),
             "notes": {k: list(v) for k, v in self.notes.items()},
         }
+
+    def _censored_only_dict(self, name: str) -> dict:
+        """A time response with no linear model: its censored time model alone."""
+        return {"response": name, "scale": "log scale (log-normal time model, slow baths "
+                "right-censored)", "physical_range": [0.0, None],
+                "censoring": self.censoring[name]}
 
     def _response_dict(self, name: str, res) -> dict:
         """One response's analysis; in a split-plot trial every ANOVA row tested on its own

@@ -15,7 +15,8 @@ from trialkit.report.document import Block
 from trialkit.report.findings import pretty_unit
 
 #: Kinds of findings that say what matters, in the order they are told.
-TELLING = ("sweep", "effect", "screening", "curvature", "interaction", "split_plot")
+TELLING = ("sweep", "effect", "screening", "curvature", "interaction", "split_plot",
+           "censoring")
 MAX_SENTENCES = 5
 
 

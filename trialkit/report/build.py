@@ -128,10 +128,18 @@ def _brief(data: TrialAnalysis) -> list[Block]:
 
 
 def _findings(data: TrialAnalysis) -> list:
+    from trialkit.report.censored_text import censored_findings
+
     out = []
+    for name, censoring in data.censoring.items():
+        out += censored_findings(name, censoring, data.censored_fits.get(name),
+                                 data.trial.factors)
     for name, fit in data.fits.items():
         unit = data.unit(name)
-        if name in data.split_plots:
+        if name in data.censored_fits and data.censoring[name]["n_censored"]:
+            # the censored model speaks for the time; the linear one saw only the finished
+            out += [f for f in model_findings(fit, unit=unit) if f.kind == "model"]
+        elif name in data.split_plots:
             # effects judged on their own stratum; the bath-level fit gives only its R²
             from trialkit.report.split_plot_text import split_plot_findings
 
