@@ -84,6 +84,48 @@ def fully_censored_levels(table: pd.DataFrame, factors: list[str]) -> list[dict]
     return out
 
 
+def separation_tests(by_level: list[dict], separated: list[dict]) -> dict[str, float]:
+    """For each factor with a level where no bath got there: Fisher's exact test (scipy)
+    of reached-or-not at those levels against its other levels -> p-value.
+
+    >>> separation_tests([{"factor": "t", "level": 20, "n_baths": 6, "n_censored": 6},
+    ...                   {"factor": "t", "level": 40, "n_baths": 6, "n_censored": 0}],
+    ...                  [{"factor": "t", "level": 20}])
+    {'t': 0.0021645021645021645}
+    """
+    from scipy import stats
+
+    out = {}
+    for name in dict.fromkeys(s["factor"] for s in separated):
+        stuck = {s["level"] for s in separated if s["factor"] == name}
+        mine = [r for r in by_level if r["factor"] == name]
+        n_stuck = sum(r["n_baths"] for r in mine if r["level"] in stuck)
+        rest = [r for r in mine if r["level"] not in stuck]
+        table = [[n_stuck, 0], [sum(r["n_censored"] for r in rest),
+                                sum(r["n_baths"] - r["n_censored"] for r in rest)]]
+        out[name] = float(stats.fisher_exact(table)[1])
+    return out
+
+
+def censored_tests(data: TrialAnalysis, name: str) -> dict[str, float]:
+    """Factor -> p-value of its effect on a time judged by the censored model: the Wald
+    test of its coefficient (each column), or the reached-or-not test for a factor with
+    a level where no bath got there."""
+    from scipy import stats
+
+    out = dict(data.censoring[name].get("separation_tests", {}))
+    cf = data.censored_fits.get(name)
+    if cf is not None:
+        for f in cf._spec.used_factors:
+            cols = [i for i, c in enumerate(cf.columns)
+                    if c == f.name or c.startswith(f"{f.name} = ")]
+            ps = [float(2 * stats.norm.sf(abs(cf.beta[i] / cf.se[i]))) for i in cols
+                  if cf.se[i] > 0]
+            if ps:
+                out[f.name] = min(ps + ([out[f.name]] if f.name in out else []))
+    return out
+
+
 def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
     """Count the censored baths of a time response and, when there are any (or no linear
     model could be fitted), fit the time with them right-censored.  The plain result goes
@@ -96,7 +138,8 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
         used = list(fit.spec.used_factors)
     else:
         terms, used = "main", list(parse_model("main", data.trial.factors).used_factors)
-    names = [f.name for f in used if f.name != "block"]
+    used = [f for f in used if f.name != "block"]
+    names = [f.name for f in used]
     table = time_table(data, spec, names)
     if table.empty:
         return
@@ -109,6 +152,7 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
                                else "no linear model could be fitted")}
     separated = fully_censored_levels(table, names)
     out["fully_censored_levels"] = separated
+    out["separation_tests"] = separation_tests(out["by_level"], separated)
     if separated:
         # a level where no bath got there bounds its effect from one side only (the
         # likelihood grows without end): fit the other factors on the remaining baths
@@ -135,3 +179,38 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
                               "that long; the linear model, if any, uses only the baths "
                               "that got there")
     data.censoring[spec.name] = out
+
+
+def uses_censored_model(data: TrialAnalysis, name: str) -> bool:
+    """True when a time response is to be judged by its censored model: it has one, and
+    slow baths were censored (or no linear model could be fitted)."""
+    return name in data.censored_fits and (name not in data.fits
+                                           or bool(data.censoring[name]["n_censored"]))
+
+
+def fastest_settings(data: TrialAnalysis, name: str, grid: pd.DataFrame) -> tuple[dict, str]:
+    """The candidate settings with the shortest median time by the censored model.
+
+    Factors left out of that model (a level where no bath got there) are held at the
+    levels where baths did get there; the model's own factors range over ``grid``.
+    """
+    cf = data.censored_fits[name]
+    modelled = {f.name for f in cf._spec.used_factors} if cf.columns != ["intercept"] \
+        else set()
+    by_level = data.censoring[name].get("by_level", [])
+    for f in data.trial.factors:
+        if f.name in modelled:
+            continue
+        finished = [r["level"] for r in by_level
+                    if r["factor"] == f.name and r["n_censored"] < r["n_baths"]]
+        if finished:
+            grid = grid[grid[f.name].isin(finished)]
+    if grid.empty:
+        raise TrialkitError(f"{name}: no candidate setting where baths reached the level")
+    median = cf.predict(grid.reset_index(drop=True))["median"].to_numpy()
+    best = grid.reset_index(drop=True).iloc[int(median.argmin())]
+    settings = {k: (float(v) if not isinstance(v, str) else v) for k, v in best.items()}
+    n, k = data.censoring[name]["n_baths"], data.censoring[name]["n_censored"]
+    return settings, (f"shortest median {name.replace('_', ' ')} by the log-normal time "
+                      f"model, which counts the {k} of {n} baths that had not got there "
+                      "as lasting at least until their last inspection")

@@ -50,17 +50,25 @@ def _tests(data: TrialAnalysis, name: str) -> dict[str, float]:
 
 def quiet_factors(data: TrialAnalysis) -> dict[str, float]:
     """Factors with no term significant for any wanted response: name -> the smallest
-    p-value among its terms (NaN when no model holds it)."""
-    wanted = [n for n in data.fits if data.specs[n].is_wanted]
-    tests = {n: _tests(data, n) for n in wanted}
-    out: dict[str, float] = {}
-    for f in data.trial.factors:
-        found = [(p, data.fits[n].alpha) for n in wanted for term, p in tests[n].items()
-                 if f.name in {part.split("^")[0] for part in term.split(":")}
-                 and p == p]
-        if not any(p < alpha for p, alpha in found):
-            out[f.name] = min((p for p, _ in found), default=math.nan)
-    return out
+    p-value among its terms (NaN when no model holds it).  A time judged by its censored
+    model counts by that model's tests."""
+    from trialkit.analysis.censored_times import censored_tests, uses_censored_model
+
+    wanted = [n for n in dict.fromkeys([*data.fits, *data.censored_fits])
+              if data.specs[n].is_wanted]
+    found: dict[str, list[tuple[float, float]]] = {f.name: [] for f in data.trial.factors}
+    for n in wanted:
+        if uses_censored_model(data, n):
+            alpha = getattr(data.fits.get(n), "alpha", 0.05)
+            for factor, p in censored_tests(data, n).items():
+                found.setdefault(factor, []).append((p, alpha))
+            continue
+        for term, p in _tests(data, n).items():
+            for part in {part.split("^")[0] for part in term.split(":")}:
+                if part in found and p == p:
+                    found[part].append((p, data.fits[n].alpha))
+    return {name: min((p for p, _ in tests), default=math.nan)
+            for name, tests in found.items() if not any(p < a for p, a in tests)}
 
 
 def _recipes(data: TrialAnalysis, rows: list[dict]) -> list | None:

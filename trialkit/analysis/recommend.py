@@ -10,6 +10,7 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 
+from trialkit.analysis.censored_times import fastest_settings, uses_censored_model
 from trialkit.analysis.lean_settings import lean_settings
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
@@ -239,7 +240,8 @@ def recommend(data: TrialAnalysis) -> None:
     Every response with an aim is predicted there; those without a limit that are
     clearly worse than the trial's best bath are flagged.
     """
-    wanted = [n for n in data.fits if data.specs[n].is_wanted]
+    wanted = [n for n in dict.fromkeys([*data.fits, *data.censored_fits])
+              if data.specs[n].is_wanted]
     if not wanted:
         data.note("recipe", "every response is record-only (no aim higher, lower or "
                             "on-target), so "
@@ -248,12 +250,21 @@ def recommend(data: TrialAnalysis) -> None:
     # the response the trial cares most about: highest priority, first among equals
     primary = max(wanted, key=lambda n: (data.specs[n].priority, -wanted.index(n)))
     reasons: list[str] = []
-    settings, source = _primary_choice(data, primary)
+    try:
+        if uses_censored_model(data, primary) and data.specs[primary].aim == "lower":
+            settings, source = fastest_settings(data, primary, _candidates(data.trial, 3))
+        elif primary in data.fits:
+            settings, source = _primary_choice(data, primary)
+        else:
+            raise TrialkitError(f"{primary}: no model to choose settings by")
+    except TrialkitError as exc:
+        data.note("recipe", f"no recommendation: {first_line(exc)}")
+        return
     settings, leaned = lean_settings(data, settings, reasons)
     limited = _limited(data)
     settings, source = _keep_limits(data, primary, settings, source, limited, reasons,
                                     fixed=leaned)
-    pr = data.fits[primary].pred_r_squared
+    pr = data.fits[primary].pred_r_squared if primary in data.fits else np.nan
     if np.isfinite(pr) and pr < WEAK_PRED_R2:
         source += (f"; the model for {spoken(primary)} is weak (predicted R² = {pr:.2f}, below "
                    f"{readable(WEAK_PRED_R2)}): it should not decide on its own; confirm first")
@@ -277,7 +288,7 @@ def _prediction_row(data: TrialAnalysis, name: str, settings: dict) -> dict:
     were censored (the linear model saw only the finished ones), else by its fit."""
     head = {"response": name, "unit": data.unit(name), "aim": data.specs[name].aim}
     cf = data.censored_fits.get(name)
-    if cf is not None and (name not in data.fits or data.censoring[name]["n_censored"]):
+    if uses_censored_model(data, name):
         p1, p3 = (cf.predict(settings, n_new=n).iloc[0] for n in (1, 3))
         return {**head, "predicted": float(p1["median"]), "ci_low": float(p1.ci_low),
                 "ci_high": float(p1.ci_high), "pi_low": float(p1.pi_low),

@@ -82,11 +82,7 @@ def _separated_sentences(name: str, censoring: dict, factors: Sequence) -> list[
         got = ", ".join(f"{r['n_baths'] - r['n_censored']} of {r['n_baths']} at "
                         f"{_level_text(f.name, r['level'], f.unit)}" for r in done)
         last = readable(max(s["last_h"] for s in stuck), 3)
-        # reached / not reached at the stuck levels against the others: Fisher's exact test
-        n_stuck = sum(s["n_baths"] for s in stuck)
-        p = float(stats.fisher_exact([[n_stuck, 0],
-                                      [sum(r["n_censored"] for r in done),
-                                       sum(r["n_baths"] - r["n_censored"] for r in done)]])[1])
+        p = float(censoring.get("separation_tests", {}).get(f.name, math.nan))
         p_text = readable_p(p)
         p_text = f"p {p_text}" if p_text.startswith("<") else f"p = {p_text}"
         verdict = (f"{spoken(name)} depends on {spoken(f.name, f.unit)} (Fisher's exact test "
