@@ -114,3 +114,13 @@ def test_trial_analysis_counts_and_fits_the_censored_baths():
     # truth: ln t90 = ln(ln 10 / 0.2) + 0.45 (x - 1); coded slope = 0.45 x half-range 4
     assert coef["chelator"]["ci_low"] <= 0.45 * 4 <= coef["chelator"]["ci_high"]
     assert any("right-censored" in s for s in data.notes["analysis"])
+    # the sweep fitted on the finished baths does not speak for the time; the censored
+    # model does, and picks the truly fastest level (truth: k falls with chelator)
+    from trialkit.report.build import build_report
+
+    kinds = {f["kind"] for f in build_report(data).findings
+             if f["response"] == "time_to_clean"}
+    assert "sweep" not in kinds and "censoring" in kinds
+    rec = data.recommendation
+    assert "log-normal time model" in rec["source"]
+    assert rec["settings"]["chelator"] == pytest.approx(1.0)

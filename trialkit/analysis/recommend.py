@@ -252,7 +252,10 @@ def recommend(data: TrialAnalysis) -> None:
     reasons: list[str] = []
     try:
         if uses_censored_model(data, primary) and data.specs[primary].aim == "lower":
-            settings, source = fastest_settings(data, primary, _candidates(data.trial, 3))
+            points = 3 if data.trial.design.kind in TWO_LEVEL_KINDS or \
+                len(data.trial.factors) > 3 else 21
+            settings, source = fastest_settings(data, primary,
+                                                _candidates(data.trial, points))
         elif primary in data.fits:
             settings, source = _primary_choice(data, primary)
         else:

@@ -128,6 +128,7 @@ def _brief(data: TrialAnalysis) -> list[Block]:
 
 
 def _findings(data: TrialAnalysis) -> list:
+    from trialkit.analysis.censored_times import uses_censored_model
     from trialkit.report.censored_text import censored_findings
 
     out = []
@@ -136,7 +137,8 @@ def _findings(data: TrialAnalysis) -> list:
                                  data.trial.factors)
     for name, fit in data.fits.items():
         unit = data.unit(name)
-        if name in data.censored_fits and data.censoring[name]["n_censored"]:
+        censored = uses_censored_model(data, name)
+        if censored:
             # the censored model speaks for the time; the linear one saw only the finished
             out += [f for f in model_findings(fit, unit=unit) if f.kind == "model"]
         elif name in data.split_plots:
@@ -153,9 +155,9 @@ def _findings(data: TrialAnalysis) -> list:
         res = data.results.get(name)
         out += caveat_findings(fit, unit=unit, reduced=getattr(res, "reduction", None)
                                is not None, surface=data.surfaces.get(name),
-                               sweep=data.sweeps.get(name),
+                               sweep=None if censored else data.sweeps.get(name),
                                diagnostics=getattr(res, "diagnostics", None))
-        sw = data.sweeps.get(name)
+        sw = None if censored else data.sweeps.get(name)  # the sweep saw only the finished
         if sw is not None:
             from trialkit.report.findings import Finding
 
