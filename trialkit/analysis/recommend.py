@@ -324,7 +324,8 @@ def _predict(data: TrialAnalysis, name: str, settings: dict, n_new: int):
 def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
                       quiet: list[str]) -> str:
     """"Either setting will do" only where the change's interval lies inside the practical
-    margin (the [analysis] tolerance, else relative_tolerance x |prediction|)."""
+    margin (the response's ``margin``, else the [analysis] tolerance, else
+    relative_tolerance x |prediction|)."""
     from scipy import stats
 
     from trialkit.analysis.config import AnalysisConfig
@@ -333,8 +334,9 @@ def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
     cfg = (data.trial.sections or {}).get("analysis")
     cfg = cfg if isinstance(cfg, AnalysisConfig) else AnalysisConfig()
     pred = float(fit.predict(settings, clip=False).predicted.iloc[0])
-    margin = float(cfg.tolerance) if cfg.tolerance is not None else \
-        cfg.relative_tolerance * abs(pred)
+    stated = data.specs[primary].margin
+    margin = float(stated) if stated is not None else float(cfg.tolerance) \
+        if cfg.tolerance is not None else cfg.relative_tolerance * abs(pred)
     t = float(stats.t.ppf(1 - fit.alpha / 2, fit.df_resid)) if fit.df_resid > 0 else np.nan
     same, open_ = [], []
     factors = {f.name: f for f in data.trial.factors}

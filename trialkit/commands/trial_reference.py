@@ -61,6 +61,9 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
         "range": ("[low, high], an end may be \"none\"", "from the measure",
                   "values the response can take (predictions and intervals are kept "
                   "inside), e.g. [0, 100] or [0, \"none\"]"),
+        "margin": ("number > 0", "[analysis] tolerance",
+                   "a difference too small to matter, in the response's unit: 'either "
+                   "setting will do' is said only when an interval lies within ± margin"),
         "description": ("text", '""', "what it is, for the report"),
     },
     "[coupons]": {

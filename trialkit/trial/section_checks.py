@@ -26,7 +26,7 @@ FACTOR_KEYS = ("name", "kind", "unit", "low", "high", "levels", "description")
 LAYOUT_KEYS = ("replicates", "blocks", "block_label", "center_points", "controls",
                "coupons_per_bath", "witness_coupons")
 RESPONSE_KEYS = ("name", "unit", "aim", "unacceptable", "satisfactory", "ideal", "shape",
-                 "priority", "measure", "range", "description")
+                 "priority", "measure", "range", "margin", "description")
 CONTROL_KINDS = ("untreated", "reference")
 AIMS = ("higher", "lower", "on-target", "record-only")
 NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
@@ -306,9 +306,14 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
                        or did_you_mean(str(aim), list(AIMS))))
             aim = "record-only"
         nums: dict[str, float | None] = {}
-        for key in ("satisfactory", "ideal", "shape", "priority"):
+        for key in ("satisfactory", "ideal", "shape", "priority", "margin"):
             nums[key] = (number(table[key], f"{where}.{key}", p, key)
                          if key in table else None)
+        if nums["margin"] is not None and not nums["margin"] > 0:
+            p.add(f"{where}.margin", "margin must be a positive difference in the "
+                  "response's unit", value=nums["margin"], check="not_positive",
+                  fix="use e.g. margin = 5 (points of removal) or remove it")
+            nums["margin"] = None
         unacceptable = _unacceptable(table, aim, where, p)
         if aim == "on-target" and nums["ideal"] is None:
             p.add(f"{where}.ideal", 'aim = "on-target" needs the ideal value',
@@ -337,7 +342,7 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
             name=name, unit=unit, aim=aim, unacceptable=unacceptable,
             satisfactory=nums["satisfactory"], ideal=nums["ideal"],
             shape=nums["shape"] or 1.0, priority=nums["priority"] or 1.0,
-            measure=measure, range=_range(table, where, p),
+            measure=measure, range=_range(table, where, p), margin=nums["margin"],
             description=text(table, "description", where, p)))
     return out
 

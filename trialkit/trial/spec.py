@@ -56,6 +56,7 @@ class ResponseSpec:
     measure: str = ""
     description: str = ""
     range: tuple | None = None  # (low, high) the values can take; None ends unbounded
+    margin: float | None = None  # a difference too small to matter, in the response's unit
 
     @property
     def is_wanted(self) -> bool:
