@@ -9,7 +9,12 @@ from hypothesis import strategies as st
 
 from trialkit.exceptions import DesignError
 from trialkit.planning.designs import build_design, center_points
-from trialkit.planning.designs._common import cross, level_combinations
+from trialkit.planning.designs._common import (
+    cross,
+    full_factorial_index,
+    level_combinations,
+    two_level_full,
+)
 from trialkit.trial.factors import Factor
 
 CONT = [Factor.continuous("chelator", 2, 10), Factor.continuous("ph", 5, 8)]
@@ -52,3 +57,26 @@ def test_cross_runs_whole_core_at_each_combination():
     assert frame["chelator"].tolist() == [-1.0, 1.0, 0.5] * 2
     assert frame["stir"].tolist() == ["off"] * 3 + ["on"] * 3
     assert points == ("sweep",) * 6
+
+
+# reference: pyDOE3 1.6.2 ``fullfact`` (a general-purpose design library), whose standard
+# order (first factor fastest) the numpy full factorial must keep, so that plan
+# fingerprints made before it was built with numpy do not change.
+@settings(max_examples=60, deadline=None, derandomize=True)
+@given(levels=st.lists(st.integers(1, 5), min_size=1, max_size=5))
+def test_property_full_factorial_index_equals_pydoe3_fullfact(levels):
+    from pyDOE3 import fullfact
+
+    ours = full_factorial_index(levels)
+    assert ours.dtype.kind == "i"
+    np.testing.assert_array_equal(ours, fullfact(levels).astype(int))
+
+
+def test_two_level_full_equals_pydoe3_ff2n_reordered_and_refuses_no_levels():
+    # reference: pyDOE3 1.6.2 ``fullfact([2] * k) * 2 - 1``, the matrix used before
+    from pyDOE3 import fullfact
+
+    for k in range(1, 8):
+        np.testing.assert_array_equal(two_level_full(k), fullfact([2] * k) * 2.0 - 1.0)
+    with pytest.raises(DesignError, match="at least one level"):
+        full_factorial_index([2, 0])

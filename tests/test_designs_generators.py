@@ -78,3 +78,6 @@ def test_generator_set_must_define_last_factors_from_base():
         check_generator_set(["D = ABC"], "ABCDE")
     with pytest.raises(DesignError, match="added factor"):
         check_generator_set(["D = AB", "E = AD"], "ABCDE")
+    # two added factors from one word are one column (or its negative): refused
+    with pytest.raises(DesignError, match="'D = AB' and 'E = -BA' use the same word"):
+        check_generator_set(["D = AB", "E = -BA"], "ABCDE")

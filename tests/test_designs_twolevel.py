@@ -12,7 +12,9 @@ from pyDOE3 import fracfact_by_res
 from trialkit.exceptions import DesignError
 from trialkit.planning.designs import alias_structure, build_design
 from trialkit.planning.designs._common import sign_matrix
-from trialkit.trial.factors import Factor
+from trialkit.planning.designs.generators import FRACTION_TABLE, check_generator_set
+from trialkit.planning.designs.twolevel import fraction_matrix
+from trialkit.trial.factors import FACTOR_LETTERS, Factor
 
 REF = json.loads((Path(__file__).parent / "reference" / "designs" /
                   "design_properties.json").read_text())
@@ -140,3 +142,48 @@ def test_listed_levels_of_continuous_factor_noted_in_two_level_design():
     d = build_design(fs, "plackett-burman", {}, seed=0)
     assert sorted(set(d.coded["c"])) == [-1.0, 1.0]
     assert any("listed levels of c" in n for n in d.notes)
+
+
+def _pydoe3_fraction(k, generators):
+    """The matrix trialkit built before numpy did: pyDOE3 ``fracfact``, base re-sorted."""
+    import string
+
+    from pyDOE3 import fracfact
+
+    parsed = check_generator_set(list(generators), FACTOR_LETTERS[:k])
+    base = k - len(parsed)
+    terms = list(string.ascii_lowercase[:base])
+    for _, sign, mask in sorted(parsed):
+        word = "".join(string.ascii_lowercase[i] for i in range(base) if mask >> i & 1)
+        terms.append(("-" if sign < 0 else "") + word)
+    x = fracfact(" ".join(terms))
+    return x[np.lexsort(tuple(x[:, j] for j in range(base)))]
+
+
+@pytest.mark.parametrize("kp", sorted(FRACTION_TABLE))
+def test_fraction_matrix_equals_pydoe3_fracfact_for_every_table_design(kp):
+    # reference: pyDOE3 1.6.2 ``fracfact`` on the e-Handbook Table 3.17 generators; the
+    # same rows in the same order keep plan fingerprints as they were
+    k, _ = kp
+    np.testing.assert_array_equal(fraction_matrix(k, FRACTION_TABLE[kp]),
+                                  _pydoe3_fraction(k, FRACTION_TABLE[kp]))
+
+
+@settings(max_examples=60, deadline=None, derandomize=True)
+@given(data=st.data())
+def test_property_fraction_matrix_equals_pydoe3_with_signed_generators(data):
+    # reference: pyDOE3 1.6.2 ``fracfact``, negative generators included
+    k = data.draw(st.integers(4, 8))
+    # p added factors need p distinct words of two or more base letters
+    p = data.draw(st.sampled_from([p for p in range(1, k - 1)
+                                   if 2 ** (k - p) - (k - p) - 1 >= p]))
+    base = k - p
+    letters = FACTOR_LETTERS[:k]
+    words = [m for m in range(3, 2 ** base) if m & (m - 1)]  # two letters or more
+    masks = data.draw(st.lists(st.sampled_from(words), min_size=p, max_size=p, unique=True))
+    gens = []
+    for t, mask in zip(range(base, k), masks, strict=True):
+        sign = data.draw(st.sampled_from(["", "-"]))
+        word = "".join(letters[i] for i in range(base) if mask >> i & 1)
+        gens.append(f"{letters[t]} = {sign}{word}")
+    np.testing.assert_array_equal(fraction_matrix(k, gens), _pydoe3_fraction(k, gens))

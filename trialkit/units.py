@@ -6,6 +6,11 @@ are parsed here.  Besides everything pint knows, a few labels of the trade are a
 as units: the concentration bases ``% w/v``, ``% w/w``, ``% v/v``, the pH scale and
 plain ``%``.
 
+pint is imported and its registry built on first need: the two together take about as
+long as importing pandas.  Checking a unit of :data:`COMMON_UNITS` (each one pint knows,
+checked against the registry in ``tests/test_units.py``), or reading a bare number in the
+unit it is asked in, needs no registry, so laying out a plan usually loads no pint.
+
 Examples
 --------
 >>> check_unit("% w/v")
@@ -28,6 +33,19 @@ TRADE_UNITS: tuple[str, ...] = ("% w/v", "% w/w", "% v/v", "pH", "%", "")
 
 #: Concentration bases a bath ingredient may be given in.
 CONCENTRATION_BASES: tuple[str, ...] = ("% w/v", "% w/w", "g/L", "mol/L")
+
+
+#: Unit spellings common in trial files, all known to pint: :func:`check_unit` accepts
+#: them without building the registry.
+COMMON_UNITS: frozenset[str] = frozenset({
+    "degC", "degF", "K", "kelvin",
+    "s", "min", "minute", "h", "hour", "d", "day", "week",
+    "mg", "g", "kg", "mL", "L", "um", "µm", "mm", "cm", "m", "mm**2", "cm**2", "m**2",
+    "mg/L", "g/L", "g/mL", "mL/L", "mmol/L", "mol/L",
+    "g/m**2", "mg/cm**2", "g/cm**2", "g/m**2/h", "mg/cm**2/h",
+    "mm/yr", "mm/year", "um/yr", "µm/yr",
+    "rpm", "V", "mV", "mS/cm", "uS/cm", "µS/cm",
+})
 
 
 class UnitError(TrialkitError):
@@ -58,6 +76,8 @@ def check_unit(text: str) -> str:
     label = normalise_trade_unit(text)
     if label is not None:
         return label
+    if str(text) in COMMON_UNITS:
+        return str(text)
     try:
         registry().Unit(str(text))
     except Exception as exc:  # pint raises several types
@@ -90,7 +110,10 @@ def to_unit(text: str | float, unit: str, default_unit: str | None = None) -> fl
     """Parse a quantity and return its magnitude in ``unit``.
 
     Raises :class:`UnitError` when the dimensions do not match (e.g. ``"2 kg"`` as a volume).
+    A bare number whose ``default_unit`` is ``unit`` is returned as a float without pint.
     """
+    if isinstance(text, (int, float)) and default_unit is not None and default_unit == unit:
+        return float(text)
     q = quantity(text, default_unit)
     try:
         return float(q.to(unit).magnitude)

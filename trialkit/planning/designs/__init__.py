@@ -20,7 +20,6 @@ from trialkit.planning.designs._common import center_points
 from trialkit.planning.designs.aliasing import AliasStructure, alias_structure
 from trialkit.planning.designs.base import POINT_TYPES, Design
 from trialkit.planning.designs.blocking import two_level_block_columns
-from trialkit.planning.designs.optimal import build_optimal
 from trialkit.planning.designs.options import DESIGN_KINDS, DESIGN_OPTIONS, check_design_options
 from trialkit.planning.designs.space import build_latin_hypercube, build_sweep
 from trialkit.planning.designs.surface import build_box_behnken, build_central_composite
@@ -88,5 +87,7 @@ def build_design(factors: Sequence[Factor], kind: str, options: Mapping | None =
     if kind == "sweep":
         return build_sweep(factors, options)
     if kind == "optimal":
+        from trialkit.planning.designs.optimal import build_optimal  # loads the search
+
         return build_optimal(factors, options, seed=seed, folder=folder)
     return build_latin_hypercube(factors, options, seed)

@@ -1,4 +1,11 @@
-"""Helpers shared by the design builders: crossing with categorical factors, center points."""
+"""Helpers shared by the design builders: full factorials in standard order, crossing with
+categorical factors, center points.
+
+Full factorials are built here with numpy rather than by pyDOE3's ``fullfact``: importing
+pyDOE3 imports scipy.stats, which would make every plan of a factorial pay seconds at start
+up.  Row order and values are those of ``fullfact`` (checked against it in
+``tests/test_designs_common.py``).
+"""
 
 from __future__ import annotations
 
@@ -8,9 +15,47 @@ import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import DesignError
-from trialkit.planning.designs._pydoe import fullfact
 from trialkit.planning.designs.base import Design
 from trialkit.trial.factors import Factor
+
+
+def full_factorial_index(levels: Sequence[int]) -> np.ndarray:
+    """Every combination of level indices, first factor changing fastest (standard order).
+
+    Parameters
+    ----------
+    levels : sequence of int
+        Number of levels of each factor, each at least 1.
+
+    Returns
+    -------
+    numpy.ndarray
+        Integer matrix of ``prod(levels)`` rows and ``len(levels)`` columns; column ``j``
+        holds 0 .. ``levels[j] - 1``.
+
+    Examples
+    --------
+    >>> full_factorial_index([2, 3]).tolist()
+    [[0, 0], [1, 0], [0, 1], [1, 1], [0, 2], [1, 2]]
+    """
+    counts = [int(n) for n in levels]
+    if any(n < 1 for n in counts):
+        raise DesignError(f"every factor needs at least one level; got {counts}")
+    if not counts:
+        return np.zeros((1, 0), dtype=int)
+    grids = np.meshgrid(*(np.arange(n) for n in reversed(counts)), indexing="ij")
+    return np.column_stack([g.ravel() for g in reversed(grids)])
+
+
+def two_level_full(k: int) -> np.ndarray:
+    """2^k factorial in standard order (first factor fastest), coded -1/+1 as floats.
+
+    Examples
+    --------
+    >>> two_level_full(2).tolist()
+    [[-1.0, -1.0], [1.0, -1.0], [-1.0, 1.0], [1.0, 1.0]]
+    """
+    return full_factorial_index([2] * k) * 2.0 - 1.0
 
 
 def continuous(factors: Sequence[Factor]) -> list[Factor]:
@@ -25,7 +70,7 @@ def level_combinations(cats: Sequence[Factor]) -> list[tuple[str, ...]]:
     """Every combination of the categorical factors' levels, first factor changing fastest."""
     if not cats:
         return [()]
-    idx = fullfact([len(f.levels) for f in cats]).astype(int)
+    idx = full_factorial_index([len(f.levels) for f in cats])
     return [tuple(f.levels[i] for f, i in zip(cats, row, strict=True)) for row in idx]
 
 

@@ -89,7 +89,8 @@ def check_generator_set(generators, letters: str) -> list[tuple[int, int, int]]:
     """Parse a full set of generators for ``len(letters)`` factors.
 
     With p generators the first k-p factors are the base factors; the generators must
-    define each of the last p factors once, from base factors only.
+    define each of the last p factors once, from base factors only, and no two from the
+    same word (they would be the same column, or its negative).
     """
     k, p = len(letters), len(generators)
     if p < 1 or p >= k - 1:
@@ -107,6 +108,13 @@ def check_generator_set(generators, letters: str) -> list[tuple[int, int, int]]:
         if mask >> base:
             raise DesignError(f"generator {g!r} uses an added factor; words may use only "
                               f"the base factors {' '.join(letters[:base])}")
+    first_of: dict[int, str] = {}
+    for g, (_, _, mask) in zip(generators, parsed, strict=True):
+        if mask in first_of:
+            raise DesignError(f"generators {first_of[mask]!r} and {g!r} use the same word, "
+                              "so those two factors could never be told apart; give each "
+                              "added factor a word of its own")
+        first_of[mask] = g
     return parsed
 
 

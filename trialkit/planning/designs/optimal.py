@@ -32,29 +32,15 @@ from trialkit.planning import power as pw
 from trialkit.planning.designs.base import Design
 from trialkit.planning.designs.constraints import parse_cannot_mix, parse_constraint
 from trialkit.planning.designs.exchange import Region, coordinate_exchange
+from trialkit.planning.designs.optimal_keys import (  # OPTION_DESCRIPTIONS: re-exported
+    CRITERIA,
+    OPTION_DESCRIPTIONS,  # noqa: F401
+    OPTION_KEYS,
+)
 from trialkit.problems import ProblemReport, did_you_mean
 from trialkit.trial.factors import Factor
 from trialkit.trial.retired_names import retired_key_hint
 from trialkit.trial.textsafe import unescape_text
-
-CRITERIA = ("D", "I")
-#: Trial-file options of ``kind = "optimal"`` -> description.
-OPTION_DESCRIPTIONS: dict[str, str] = {
-    "runs": "whole number (required): runs the search chooses, besides runs to keep",
-    "model": "model the design must estimate: main, interactions, quadratic (default) or "
-             "terms joined by '+'",
-    "criterion": "\"D\" (default; precise coefficients) or \"I\" (precise predictions)",
-    "tries": "random starting designs, best kept (default 10)",
-    "grid": "levels per continuous factor tried by the exchange (default 5)",
-    "constraints": "list of linear constraints in natural units, "
-                   "e.g. [\"ph >= 4 + 0.2*chelator\"]",
-    "cannot_mix": "list of combinations that cannot be mixed, e.g. "
-                "[{surfactant = \"added\", temperature = [40, 50]}]",
-    "keep_runs": "list of runs that must be in the design, every factor in natural units",
-    "runs_done": "path of an earlier plan.csv whose runs the new ones complement",
-    "max_passes": "passes over all coordinates per try (default 50)",
-}
-OPTION_KEYS = tuple(OPTION_DESCRIPTIONS)
 
 
 @dataclass

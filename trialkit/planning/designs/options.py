@@ -56,8 +56,7 @@ from collections.abc import Mapping, Sequence
 from trialkit.exceptions import DesignError
 from trialkit.planning.designs.aliasing import alias_structure, roman
 from trialkit.planning.designs.generators import check_generator_set
-from trialkit.planning.designs.optimal import OPTION_DESCRIPTIONS as OPTIMAL_OPTIONS
-from trialkit.planning.designs.optimal import check_optimal_options
+from trialkit.planning.designs.optimal_keys import OPTION_DESCRIPTIONS as OPTIMAL_OPTIONS
 from trialkit.planning.designs.space import LHS_SPREADS
 from trialkit.planning.designs.twolevel import fraction_matrix
 from trialkit.problems import ProblemReport, did_you_mean
@@ -405,6 +404,13 @@ def _check_lhs(factors, cont, cats, opts, problems, where):
         _within(it, limits.MAX_SEARCH, f"{where}.iterations", "iterations", problems)
 
 
+def _check_optimal(factors, cont, cats, opts, problems, where):
+    # imported here: the search and its power computations load only for optimal designs
+    from trialkit.planning.designs.optimal import check_optimal_options
+
+    check_optimal_options(factors, opts, problems, where)
+
+
 _CHECKERS = {
     "full-factorial": _check_full,
     "fractional-factorial": _check_fractional,
@@ -413,6 +419,5 @@ _CHECKERS = {
     "box-behnken": _check_bbd,
     "sweep": _check_sweep,
     "latin-hypercube": _check_lhs,
-    "optimal": lambda factors, cont, cats, opts, problems, where:
-        check_optimal_options(factors, opts, problems, where),
+    "optimal": _check_optimal,
 }

@@ -26,8 +26,8 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 
 from trialkit.exceptions import DesignError
-from trialkit.planning.designs._common import continuous, cross
-from trialkit.planning.designs._pydoe import bbdesign, fullfact
+from trialkit.planning.designs._common import continuous, cross, two_level_full
+from trialkit.planning.designs._pydoe import bbdesign
 from trialkit.planning.designs.base import Design
 from trialkit.trial.factors import Factor
 
@@ -39,11 +39,6 @@ BBD_BLOCKS: dict[int, tuple[tuple[int, ...], ...]] = {
     6: ((0, 1, 3), (1, 2, 4), (2, 3, 5), (0, 3, 4), (1, 4, 5), (0, 2, 5)),
     7: ((3, 4, 5), (0, 5, 6), (1, 4, 6), (0, 1, 3), (2, 3, 6), (0, 2, 4), (1, 2, 5)),
 }
-
-
-def two_level_full(k: int) -> np.ndarray:
-    """2^k factorial in standard order (first factor fastest), +-1."""
-    return fullfact([2] * k) * 2.0 - 1.0
 
 
 def rotatable_alpha(n_factorial: int) -> float:

@@ -1,21 +1,28 @@
 """Factorial designs: full factorial (mixed levels), two-level fractional, Plackett–Burman.
 
-pyDOE3 builds the matrices (``fullfact``, ``fracfact``, ``pbdesign``); the defining
-relation, resolution and alias table always come from the built matrix itself
+Full factorials and regular fractions are built with numpy (standard order, generated
+columns as signed products of the base columns: the rows and signs pyDOE3's ``fullfact``
+and ``fracfact`` give, checked against them in the tests) so that planning a factorial does
+not import pyDOE3 and, through it, scipy.stats; Plackett–Burman comes from pyDOE3's
+``pbdesign``, imported on first use.  The defining relation, resolution and alias table
+always come from the built matrix itself
 (:func:`trialkit.planning.designs.aliasing.alias_structure`).
 """
 
 from __future__ import annotations
 
-import string
 from collections.abc import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
 
 from trialkit.exceptions import DesignError
-from trialkit.planning.designs._common import two_level_frame
-from trialkit.planning.designs._pydoe import fracfact, fullfact, pbdesign
+from trialkit.planning.designs._common import (
+    full_factorial_index,
+    two_level_frame,
+    two_level_full,
+)
+from trialkit.planning.designs._pydoe import pbdesign
 from trialkit.planning.designs.aliasing import AliasStructure, alias_structure, roman, word_text
 from trialkit.planning.designs.base import Design
 from trialkit.planning.designs.generators import (
@@ -59,7 +66,7 @@ def build_full_factorial(factors: Sequence[Factor], options: Mapping) -> Design:
                 values.append(np.array([-1.0, 1.0]))
         else:
             values.append(np.array(f.levels, dtype=object))
-    idx = fullfact([len(v) for v in values]).astype(int)
+    idx = full_factorial_index([len(v) for v in values])
     coded = pd.DataFrame({f.name: values[j][idx[:, j]] for j, f in enumerate(factors)})
     for f in factors:
         if f.is_continuous:
@@ -74,19 +81,26 @@ def build_full_factorial(factors: Sequence[Factor], options: Mapping) -> Design:
 
 
 def fraction_matrix(k: int, generators: Sequence[str]) -> np.ndarray:
-    """+-1 matrix of the 2^(k-p) design with these generators, base in standard order."""
+    """+-1 matrix of the 2^(k-p) design with these generators, base in standard order.
+
+    The ``k - p`` base factors form a full factorial, first factor changing fastest; each
+    generated factor is its generator's sign times the product of the base columns in its
+    word.
+
+    Examples
+    --------
+    >>> fraction_matrix(3, ["C = -AB"]).tolist()
+    [[-1.0, -1.0, -1.0], [1.0, -1.0, 1.0], [-1.0, 1.0, 1.0], [1.0, 1.0, -1.0]]
+    """
     letters = FACTOR_LETTERS[:k]
     parsed = check_generator_set(list(generators), letters)
     base = k - len(parsed)
-    terms = [string.ascii_lowercase[i] for i in range(base)]
-    by_target = {t: (s, m) for t, s, m in parsed}
-    for t in range(base, k):
-        s, m = by_target[t]
-        word = "".join(string.ascii_lowercase[i] for i in range(base) if m >> i & 1)
-        terms.append(("-" if s < 0 else "") + word)
-    x = fracfact(" ".join(terms))
-    order = np.lexsort(tuple(x[:, j] for j in range(base)))  # first factor fastest
-    return x[order]
+    x = np.empty((2 ** base, k))
+    x[:, :base] = two_level_full(base)
+    for t, sign, mask in parsed:
+        word = [i for i in range(base) if mask >> i & 1]
+        x[:, t] = (-1.0 if sign < 0 else 1.0) * np.prod(x[:, word], axis=1)
+    return x
 
 
 def normal_generator(text: str, letters: str) -> str:
