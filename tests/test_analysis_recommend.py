@@ -139,13 +139,14 @@ def test_limit_shortfall(aim, limit, value, short):
 FS = [Factor.continuous("a", -1, 1), Factor.continuous("b", -1, 1)]
 
 
-def _data(sd):
+def _data(sd, margin=None):
     pts = [(a, b) for a in (-1.0, 1.0) for b in (-1.0, 1.0)] * 4
     df = pd.DataFrame(pts, columns=["a", "b"])
     df["y"] = 100 + 10 * df.a + np.random.default_rng(4).normal(0, sd, len(df))
     fit = fit_model(df, "y", FS, "main", block=None)
     trial = SimpleNamespace(factors=FS, sections={"analysis": AnalysisConfig()})
-    return SimpleNamespace(fits={"y": fit}, trial=trial)
+    return SimpleNamespace(fits={"y": fit}, trial=trial,
+                           specs={"y": ResponseSpec("y", margin=margin)})
 
 
 def test_either_setting_only_inside_the_practical_margin():
@@ -154,3 +155,26 @@ def test_either_setting_only_inside_the_practical_margin():
     assert "either setting will do" in precise and "cannot say" not in precise
     noisy = _equivalence_text(_data(12.0), "y", {"a": 1.0, "b": 0.0}, ["b"])
     assert "cannot say that either setting will do" in noisy
+
+
+def test_a_responses_own_margin_decides_either_setting():
+    # the same precise data: a margin of 0.2 units is narrower than the interval of the
+    # change of b (about ±0.5), a margin of 30 is wider than the noisy one (about ±12)
+    tight = _equivalence_text(_data(0.5, margin=0.2), "y", {"a": 1.0, "b": 0.0}, ["b"])
+    assert "cannot say" in tight and "±0.2" in tight
+    wide = _equivalence_text(_data(12.0, margin=30.0), "y", {"a": 1.0, "b": 0.0}, ["b"])
+    assert "either setting will do" in wide and "cannot say" not in wide and "±30" in wide
+
+
+@pytest.mark.parametrize("bad", ["0", "-2", '"five"'])
+def test_a_bad_margin_is_refused_with_the_fix(tmp_path, bad, capsys):
+    folder = tmp_path / "m"
+    folder.mkdir()
+    text = SALTS.format(attack_limits="").replace('measure = "removal_pct"',
+                                                  f'measure = "removal_pct"\nmargin = {bad}')
+    (folder / "trial.toml").write_text(text, encoding="utf-8")
+    assert main(["plan", str(folder)]) == 1          # refused, the problem listed
+    err = capsys.readouterr()
+    said = err.out + err.err
+    assert "(removal).margin: margin must be" in said and "->" in said
+    assert not (folder / "plan.csv").exists()
