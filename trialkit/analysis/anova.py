@@ -159,21 +159,27 @@ def _lenth_columns(fit) -> tuple[np.ndarray, np.ndarray]:
     return F, p
 
 
-def _settings_key(fit) -> pd.Series:
+def settings_groups(fit) -> np.ndarray:
+    """Group number of each row's factor settings (continuous values rounded to 1e-9 in
+    coded units), by ``groupby().ngroup()``: rows with equal numbers are replicates."""
     cols = [f.name for f in fit.spec.used_factors]
-    key = fit.coded[cols].astype(str) if cols else pd.DataFrame(index=fit.coded.index)
-    num = [f.name for f in fit.spec.used_factors if f.is_continuous]
-    for c in num:
-        key[c] = np.round(fit.coded[c].astype(float), 9).astype(str)
-    return key.agg("|".join, axis=1) if cols else pd.Series("", index=fit.coded.index)
+    if not cols:
+        return np.zeros(len(fit.coded), dtype=int)
+    key = fit.coded[cols].copy()
+    for f in fit.spec.used_factors:
+        if f.is_continuous:
+            key[f.name] = np.round(key[f.name].astype(float), 9)
+    return key.groupby(cols, sort=False, dropna=False).ngroup().to_numpy()
 
 
 def lack_of_fit(fit) -> dict | None:
     """Lack of fit against pure error; None without replicated settings."""
-    key = _settings_key(fit)
-    groups = pd.Series(fit.y).groupby(key.to_numpy())
-    pe_ss = float(groups.apply(lambda g: float(((g - g.mean()) ** 2).sum())).sum())
-    pe_df = int(len(fit.y) - groups.ngroups)
+    group = settings_groups(fit)
+    y = np.asarray(fit.y, dtype=float)
+    count = np.bincount(group)
+    mean = np.bincount(group, weights=y) / count
+    pe_ss = float(((y - mean[group]) ** 2).sum())
+    pe_df = int(len(y) - np.count_nonzero(count))
     lof_df = int(fit.df_resid - pe_df)
     if pe_df <= 0:
         return None
