@@ -69,6 +69,8 @@ MIN_CARD_LEVEL, MAX_CARD_LEVEL = 0.05, 0.98
 EDGE_SIGMA, EDGE_HIGH = 3.0, 2.0
 #: The upper threshold is at least this many times the photo's median gradient magnitude.
 EDGE_NOISE_FACTOR = 3.2
+#: The whole card reaches this many pixels beyond the patch between its edges.
+OUTLINE_MARGIN = 4
 
 
 def _coupon_mask(lab: np.ndarray) -> np.ndarray:
@@ -97,7 +99,21 @@ def card_edges(lightness: np.ndarray) -> np.ndarray:
 
 
 def find_card(rgb: np.ndarray) -> tuple[int, int, int, int] | None:
-    """Box ``(x0, y0, x1, y1)`` of a grey or white card in ``rgb`` (floats 0..1), or None."""
+    """Box ``(x0, y0, x1, y1)`` of a grey or white card in ``rgb`` (floats 0..1), or None.
+
+    The box is the card's inner part, whose colour sets the white balance; see
+    :func:`find_card_with_outline` for the whole card as well.
+    """
+    found = find_card_with_outline(rgb)
+    return None if found is None else found[0]
+
+
+def find_card_with_outline(rgb: np.ndarray) -> tuple[tuple, tuple] | None:
+    """``(inner box, whole card's box)`` of a card in ``rgb``, or None.
+
+    The whole card's box is its patch's bounding box grown by :data:`OUTLINE_MARGIN`
+    pixels (the edges and the blur around it, left out when the coupon is looked for).
+    """
     from skimage.color import rgb2lab
     from skimage.measure import label, regionprops
     from skimage.morphology import dilation, disk
@@ -125,5 +141,8 @@ def find_card(rgb: np.ndarray) -> tuple[int, int, int, int] | None:
         L, a, b = rgb2lab(med[None, None, :])[0, 0]
         ratio = float(np.hypot(a, b)) / max(float(L), 1e-9)
         if ratio <= best_ratio:
-            best, best_ratio = (int(x0 + mx), int(y0 + my), int(x1 - mx), int(y1 - my)), ratio
+            m = OUTLINE_MARGIN
+            best = ((int(x0 + mx), int(y0 + my), int(x1 - mx), int(y1 - my)),
+                    (max(0, x0 - m), max(0, y0 - m), min(w, x1 + m), min(h, y1 + m)))
+            best_ratio = ratio
     return best

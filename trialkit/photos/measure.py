@@ -200,14 +200,18 @@ def _scaled_box(box, photo: Photo, what: str) -> tuple[int, int, int, int]:
 
 def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
                    ) -> tuple[np.ndarray, tuple, tuple | None]:
-    """(balanced rgb, gains, the card's box in measured pixels or None)."""
+    """(balanced rgb, gains, the card's whole box in measured pixels or None).
+
+    The card's colour is the median of ``box``; the whole box (for ``auto``, the found
+    card with its rim) is left out of the coupon.
+    """
     if settings.card is None:
         return photo.rgb, (1.0, 1.0, 1.0), None
     if settings.card == "auto":
-        from trialkit.photos.card import find_card
+        from trialkit.photos.card import find_card_with_outline
 
-        box = find_card(photo.rgb)
-        if box is None:
+        found = find_card_with_outline(photo.rgb)
+        if found is None:
             raise PhotoError(
                 f"no card found in {photo.path}; give card = [x0, y0, x1, y1] ([photos] "
                 "card, or --card X0,Y0,X1,Y1: the card's box in pixels as viewed), or "
@@ -215,11 +219,12 @@ def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
                 "flat, nearly neutral, unclipped rectangle by its outline, apart from the "
                 "coupon and the photo's border (see trialkit.photos.card).",
                 exit_code=EXIT_REFUSED)
+        box, whole = found
         shown = [round(v / photo.scale) for v in box]
         notes.append(f"card found at {shown} (x0, y0, x1, y1)")
         what = f"found at {shown}"
     else:
-        box = _scaled_box(settings.card, photo, "card")
+        box = whole = _scaled_box(settings.card, photo, "card")
         what = f"box {list(settings.card)}"
     x0, y0, x1, y1 = box
     card = np.median(photo.rgb[y0:y1, x0:x1].reshape(-1, 3), axis=0)
@@ -228,7 +233,7 @@ def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
                          f"(median {np.round(card, 3).tolist()}); it cannot set the white "
                          "balance. Check the card box.", exit_code=EXIT_REFUSED)
     gains = card.mean() / card
-    return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains), box
+    return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains), whole
 
 
 def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
