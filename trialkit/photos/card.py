@@ -65,7 +65,8 @@ MAX_CARD_CHROMA_RATIO = 0.5
 #: A card's median channels must lie in this range (0..1): unclipped, not black.
 MIN_CARD_LEVEL, MAX_CARD_LEVEL = 0.05, 0.98
 #: Canny on L*: Gaussian sigma (pixels) and the least upper hysteresis threshold (Sobel
-#: magnitude of the smoothed L*; a step of 3 L* gives about 3.5 at this sigma).
+#: magnitude of the smoothed L*; a step of 3.4 L*, WHITE_CARD on BACKGROUND, gives about
+#: 3.5 at this sigma).
 EDGE_SIGMA, EDGE_HIGH = 3.0, 2.0
 #: The upper threshold is at least this many times the photo's median gradient magnitude.
 EDGE_NOISE_FACTOR = 3.2
