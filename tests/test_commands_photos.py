@@ -71,3 +71,19 @@ def test_refusals_exit_codes_and_nothing_recorded(cli, tmp_path):
     assert res.returncode == 2 and "X0 < X1" in res.stderr
     res = cli("photos", str(tmp_path / "missing.png"))
     assert res.returncode == 2 and "missing.png" in res.stderr
+
+
+def test_auto_card_with_no_card_refuses_the_batch_and_records_nothing(cli, tmp_path):
+    plan = make_test_plan(tmp_path / "trial")
+    folder = plan.trial.folder
+    with_card, _ = _photo(tmp_path, "B01-R1_before.png", 60, 5, cast=(1.0, 0.83, 0.62),
+                          card=True)
+    without, _ = _photo(tmp_path, "B01-R1_after.png", 10, 6, cast=(1.0, 0.83, 0.62))
+    res = cli("photos", str(with_card), str(without), "--trial", str(folder),
+              "--card", "auto")
+    assert res.returncode == 1, res.stderr
+    assert "no card found in" in res.stderr and "B01-R1_after.png; give card = [x0, y0, " \
+        "x1, y1]" in res.stderr
+    assert "B01-R1_before.png" not in res.stderr.split("could not be measured")[1]
+    assert not (folder / "record-log.sqlite").exists() or \
+        RecordLog.for_folder(folder).count() == 0

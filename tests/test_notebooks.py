@@ -65,10 +65,11 @@ def _kernel_env(monkeypatch):
     monkeypatch.setenv("MPLBACKEND", "Agg")
 
 
-def test_six_notebooks_with_outputs_cleared():
+def test_seven_notebooks_with_outputs_cleared():
     assert NAMES == ["01_plan_a_sweep_and_check_power.ipynb", "02_mix_the_baths.ipynb",
                      "03_record_and_ingest.ipynb", "04_analyse_the_screening_trial.ipynb",
-                     "05_fit_the_surface_and_report.ipynb", "06_split_plot_tanks.ipynb"]
+                     "05_fit_the_surface_and_report.ipynb", "06_split_plot_tanks.ipynb",
+                     "07_measure_rust_from_photos.ipynb"]
     for name in NAMES:
         nb = nbformat.read(NOTEBOOKS / name, as_version=4)
         nbformat.validate(nb)
@@ -174,3 +175,42 @@ def test_05_surface_optimum_interval_covers_the_truth_and_cost_pulls_cheaper(tmp
     assert "invented" in page.lower()
     assert r["sections"] == ["answer", "brief", "readings", "matters", "models", "recipe",
                              "confirm", "safety", "reproduce"]
+
+
+def test_07_photos_measured_within_3_points_and_agreement_by_its_formulas(tmp_path):
+    r = run_notebook(NAMES[6], tmp_path)
+    # issue 20: within +-3 points under a colour cast corrected by the card (here a white
+    # card on white paper, found by card = "auto" inside the card as drawn)
+    assert r["photos"] == len(r["measured"]) == len(r["pairs"]) == 12
+    for row in r["measured"]:
+        assert abs(row["rust_pct"] - row["true_pct"]) <= 3.0, row
+    fx0, fy0, fx1, fy1 = json.loads(r["card_notes"][0].split(" at ")[1].split(" (")[0])
+    x0, y0, x1, y1 = r["card"]
+    assert x0 <= fx0 < fx1 <= x1 and y0 <= fy0 < fy1 <= y1
+    assert r["statuses"] == ["accepted"] and r["photo_sources"] == 12
+    # the hand side is the example's invented readings, as checked in
+    readings = pd.read_csv(REPO / "example_trials" / "chelator-sweep" / "readings"
+                           / "coupons.csv").set_index("coupon")["coverage_before_pct"]
+    pairs = pd.DataFrame(r["pairs"])
+    assert pairs["hand_pct"].tolist() == readings.loc[pairs["coupon"]].tolist()
+    # Bland & Altman (1986): bias = mean(photo - hand), limits bias +- z SD (n - 1), with
+    # their 1.96 taken exactly as scipy's normal quantile
+    from scipy.stats import norm
+
+    d = pairs["photo_pct"] - pairs["hand_pct"]
+    z = norm.ppf(0.975)
+    assert r["bias"] == pytest.approx(d.mean(), abs=1e-9)
+    assert r["lower"] == pytest.approx(d.mean() - z * d.std(ddof=1), abs=1e-9)
+    assert r["upper"] == pytest.approx(d.mean() + z * d.std(ddof=1), abs=1e-9)
+    # the invented eye reads 3 points high: the photos read lower on average
+    assert r["bias"] < 0
+    # McGraw & Wong (1996) ICC(A,1) from the two-way mean squares, written out here
+    x = pairs[["hand_pct", "photo_pct"]].to_numpy()
+    n, k = x.shape
+    grand = x.mean()
+    msr = k * ((x.mean(axis=1) - grand) ** 2).sum() / (n - 1)
+    msc = n * ((x.mean(axis=0) - grand) ** 2).sum() / (k - 1)
+    resid = x - x.mean(axis=1, keepdims=True) - x.mean(axis=0, keepdims=True) + grand
+    mse = (resid ** 2).sum() / ((n - 1) * (k - 1))
+    want = (msr - mse) / (msr + (k - 1) * mse + k * (msc - mse) / n)
+    assert r["icc"] == pytest.approx(want, rel=1e-9)

@@ -2,7 +2,8 @@
 
 For each invented and example trial the report is opened; a copy with a small checking
 script appended reports, through ``--dump-dom``, whether every image loaded
-(``naturalWidth > 0``) and which sections are present; console messages are read from
+(``naturalWidth > 0``), whether each is shown (drawn size, CSS, not covered at its
+centre) and which sections are present; console messages are read from
 Chromium's log on stderr; a screenshot goes to ``test-artifacts/``.  A negative control
 (a page with a broken image and a console error) proves the checks can fail.
 
@@ -46,6 +47,19 @@ window.addEventListener("load", function () {
       document.querySelectorAll("table"), function (t) {
         return t.getBoundingClientRect().right; })))
   };
+  // each image scrolled into view: its size as drawn, whether CSS hides it, and whether
+  // it is what the page shows at its centre (not covered by something else)
+  out.shown = imgs.map(function (i) {
+    i.scrollIntoView({block: "center"});
+    var r = i.getBoundingClientRect(), s = window.getComputedStyle(i);
+    var top = document.elementFromPoint(r.left + r.width / 2, r.top + r.height / 2);
+    var section = i.closest("section[id]");
+    return {alt: i.alt, natural_width: i.naturalWidth, width: r.width, height: r.height,
+            styled_visible: s.display !== "none" && s.visibility !== "hidden" &&
+                            parseFloat(s.opacity) > 0,
+            on_top: top === i, section: section ? section.id : ""};
+  });
+  window.scrollTo(0, 0);
   document.getElementById("tk-check-result").textContent = JSON.stringify(out);
 });
 </script>
@@ -95,14 +109,38 @@ def png_size(path: Path) -> tuple[int, int]:
     return struct.unpack(">II", head[16:24])
 
 
+def _tiny_png() -> str:
+    """A 4 x 4 red PNG, base64 (written by Pillow)."""
+    import base64
+    import io
+
+    from PIL import Image
+
+    buf = io.BytesIO()
+    Image.new("RGB", (4, 4), (200, 0, 0)).save(buf, format="PNG")
+    return base64.b64encode(buf.getvalue()).decode("ascii")
+
+
 def test_the_checks_can_fail(tmp_path):
     page = tmp_path / "bad.html"
+    good = f"data:image/png;base64,{_tiny_png()}"
     page.write_text("<!DOCTYPE html><html><body><h1>x</h1><img alt='gone' "
                     "src='data:image/png;base64,AAAA'><script>console.error('boom')</script>"
+                    f"<img alt='hidden' style='display:none' src='{good}'>"
+                    f"<div style='position:relative'><img alt='covered' width=40 height=40 "
+                    f"src='{good}'><div style='position:absolute;left:0;top:0;width:60px;"
+                    f"height:60px;background:#fff'></div></div>"
+                    f"<img alt='seen' width=40 height=40 src='{good}'>"
                     "</body></html>", encoding="utf-8")
     result, console = check_page(page, tmp_path)
     assert result["broken"] == ["gone"]
     assert any("boom" in c for c in console)
+    shown = {i["alt"]: i for i in result["shown"]}
+    assert shown["hidden"]["natural_width"] == 4 and not shown["hidden"]["styled_visible"]
+    assert shown["hidden"]["width"] == 0
+    assert shown["covered"]["natural_width"] == 4 and not shown["covered"]["on_top"]
+    assert shown["seen"]["on_top"] and shown["seen"]["styled_visible"]
+    assert shown["seen"]["width"] == shown["seen"]["height"] == 40
 
 
 @pytest.mark.parametrize("kind", rt.ALL_KINDS)

@@ -108,3 +108,25 @@ def test_analyze_json_carries_the_agreement(cli, trial):
     assert out["coverage_agreement"]["icc_form"].startswith("ICC(A,1)")
     assert {p["photo"] for p in out["photos"]} == {f"{c}_{w}.png" for c in COUPONS
                                                     for w in ("before", "after")}
+
+
+def test_overlays_load_and_show_in_chromium(trial, tmp_path):
+    # one page load in headless Chromium (tests/test_report_browser.py's checking script):
+    # every overlay image decodes to its file's width, is drawn, not hidden and not covered
+    from test_report_browser import check_page, chromium
+
+    chromium()
+    data = analyze(trial)
+    page = build_report(data).write(tmp_path / "photos-report.html")
+    result, console = check_page(page, tmp_path)
+    overlays = [i for i in result["shown"] if i["alt"].startswith("photo ")]
+    assert len(overlays) == 8 and result["broken"] == []
+    want = {f"photo {r.photo} of coupon {r.coupon}": Image.open(r.overlay).size[0]
+            for r in data.photos.itertuples()}
+    for img in overlays:
+        key = next(k for k in want if img["alt"].startswith(k + " "))
+        assert img["natural_width"] == want[key] > 0, img
+        assert img["section"] == "readings", img
+        assert img["width"] > 50 and img["height"] > 50, img
+        assert img["styled_visible"] and img["on_top"], img
+    assert console == [], console

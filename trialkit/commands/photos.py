@@ -53,8 +53,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--region", metavar="X0,Y0,X1,Y1", type=_box, default=None,
                         help="the coupon's box in pixels (default: found by its outline)")
     parser.add_argument("--card", metavar="X0,Y0,X1,Y1|auto", type=_card, default=None,
-                        help="a grey or white card's box, or 'auto' to find a grey card in "
-                             "the frame: corrects the white balance")
+                        help="a grey or white card's box, or 'auto' to find a grey or white "
+                             "card in the frame: corrects the white balance")
     parser.add_argument("--threshold", choices=("otsu", "marked"), default=None,
                         help="Otsu's threshold (default) or half-way between marked pixels")
     parser.add_argument("--rust-pixel", metavar="X,Y", type=_pixel, action="append",

@@ -25,6 +25,7 @@ DARK_RUST = (0.36, 0.2, 0.12)    # dark brown rust
 LIGHT_RUST = (0.78, 0.5, 0.22)   # light orange rust
 BACKGROUND = (0.92, 0.92, 0.90)  # plain light paper
 CARD = (0.75, 0.75, 0.75)        # a neutral grey card
+WHITE_CARD = (0.96, 0.96, 0.96)  # a neutral white card (on BACKGROUND: about 3 L* apart)
 
 
 @dataclass
@@ -39,12 +40,13 @@ class Scene:
 
 
 def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0),
-           noise=0.02, blur=1.0, card=False, background=BACKGROUND,
+           noise=0.02, blur=1.0, card=False, card_colour=CARD, background=BACKGROUND,
            shades: tuple = (RUST,)) -> Scene:
     """A photo whose plate has about ``target_pct`` % rust (the exact truth is returned).
 
     ``cast`` multiplies the R, G, B channels (a colour cast of the light), ``card`` puts a
-    neutral grey card in the top right, ``noise`` is the SD of Gaussian sensor noise and
+    neutral card of ``card_colour`` (grey by default, or :data:`WHITE_CARD`) in the top
+    right, ``noise`` is the SD of Gaussian sensor noise and
     ``blur`` the sigma (pixels) of a Gaussian lens blur; ``shades`` the rust colours, laid
     in patches of their own (one colour by default).
     """
@@ -78,7 +80,7 @@ def render(target_pct: float, *, seed: int, size=(480, 640), cast=(1.0, 1.0, 1.0
     cbox = None
     if card:
         cbox = (int(0.78 * w), int(0.1 * h), int(0.95 * w), int(0.35 * h))
-        img[cbox[1]:cbox[3], cbox[0]:cbox[2]] = CARD
+        img[cbox[1]:cbox[3], cbox[0]:cbox[2]] = card_colour
     img = img * np.asarray(cast)[None, None, :]
     if blur:
         img = gaussian_filter(img, sigma=(blur, blur, 0))

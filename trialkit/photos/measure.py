@@ -3,9 +3,10 @@
 Method (every setting is recorded with the result, :class:`PhotoCoverage`):
 
 1. **Read** the photo upright (:func:`trialkit.photos.reading.read_photo`).
-2. **White balance** (when a card box is given, or ``card = "auto"`` finds a grey card:
-   :mod:`trialkit.photos.card`): each channel is scaled so that the card's median colour
-   becomes neutral grey of the same mean (a von Kries-type gain;
+2. **White balance** (when a card box is given, or ``card = "auto"`` finds a grey or
+   white card by its outline, :mod:`trialkit.photos.card`; none found: refused): each
+   channel is scaled so that the card's median colour becomes neutral grey of the same
+   mean (a von Kries-type gain;
    applied to the sRGB values, which for the near power-law sRGB curve is close to the
    same gain on linear light).
 3. **Coupon**: the box the user gives (``region``), or found by its outline: the colour
@@ -199,21 +200,31 @@ def _scaled_box(box, photo: Photo, what: str) -> tuple[int, int, int, int]:
 
 def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
                    ) -> tuple[np.ndarray, tuple, tuple | None]:
-    """(balanced rgb, gains, the card's box in measured pixels or None)."""
+    """(balanced rgb, gains, the card's whole box in measured pixels or None).
+
+    The card's colour is the median of ``box``; the whole box (for ``auto``, the found
+    card with its rim) is left out of the coupon.
+    """
     if settings.card is None:
         return photo.rgb, (1.0, 1.0, 1.0), None
     if settings.card == "auto":
-        from trialkit.photos.card import find_card
+        from trialkit.photos.card import find_card_with_outline
 
-        box = find_card(photo.rgb)
-        if box is None:
-            notes.append("no grey card found in the frame: no white-balance correction")
-            return photo.rgb, (1.0, 1.0, 1.0), None
+        found = find_card_with_outline(photo.rgb)
+        if found is None:
+            raise PhotoError(
+                f"no card found in {photo.path}; give card = [x0, y0, x1, y1] ([photos] "
+                "card, or --card X0,Y0,X1,Y1: the card's box in pixels as viewed), or "
+                "leave card out for no white-balance correction. card = \"auto\" finds a "
+                "flat, nearly neutral, unclipped rectangle by its outline, apart from the "
+                "coupon and the photo's border (see trialkit.photos.card).",
+                exit_code=EXIT_REFUSED)
+        box, whole = found
         shown = [round(v / photo.scale) for v in box]
-        notes.append(f"grey card found at {shown} (x0, y0, x1, y1)")
+        notes.append(f"card found at {shown} (x0, y0, x1, y1)")
         what = f"found at {shown}"
     else:
-        box = _scaled_box(settings.card, photo, "card")
+        box = whole = _scaled_box(settings.card, photo, "card")
         what = f"box {list(settings.card)}"
     x0, y0, x1, y1 = box
     card = np.median(photo.rgb[y0:y1, x0:x1].reshape(-1, 3), axis=0)
@@ -222,7 +233,7 @@ def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
                          f"(median {np.round(card, 3).tolist()}); it cannot set the white "
                          "balance. Check the card box.", exit_code=EXIT_REFUSED)
     gains = card.mean() / card
-    return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains), box
+    return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains), whole
 
 
 def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
@@ -324,8 +335,8 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
     Raises
     ------
     PhotoError
-        The file is not a readable image, is empty or without colour, or no coupon is
-        found; the message names the file.
+        The file is not a readable image, is empty or without colour, no coupon is
+        found, or ``card = "auto"`` finds no card; the message names the file.
     """
     from skimage.color import rgb2lab
     from skimage.filters import gaussian

@@ -6,7 +6,7 @@ Keys (all optional)::
     coverage_from = "hand"        # hand | photo: which coverage readings the analysis uses
     region = [40, 30, 600, 420]   # the coupon's box in the photos, x0, y0, x1, y1 (pixels)
     card = [620, 20, 700, 100]    # a grey or white card's box, for the white balance,
-                                  # or "auto": a grey card found in the frame
+                                  # or "auto": a grey or white card found in the frame
     threshold = "otsu"            # otsu | marked
     rust_pixels = [[120, 80]]     # pixels marked as rust (x, y), for threshold = "marked"
     steel_pixels = [[300, 200]]   # pixels marked as bare steel
@@ -62,7 +62,7 @@ class PhotoSettings:
         The coupon's box ``(x0, y0, x1, y1)`` in pixels of the photo as it is viewed (EXIF
         orientation applied); None: find the coupon by its outline.
     card : tuple, "auto" or None
-        A grey or white card's box; ``"auto"``: find a grey card in the frame
+        A grey or white card's box; ``"auto"``: find a grey or white card in the frame
         (:mod:`trialkit.photos.card`); None: no white-balance correction.
     threshold : str
         ``"otsu"`` (Otsu's threshold on the rust-ness of the coupon's pixels) or
