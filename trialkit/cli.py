@@ -126,8 +126,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (PermissionError, IsADirectoryError, NotADirectoryError, FileExistsError) as exc:
         what = {PermissionError: "permission denied", IsADirectoryError: "is a folder",
                 NotADirectoryError: "not a folder", FileExistsError: "already exists"}
+        hint = "" if not isinstance(exc, PermissionError) else (
+            " If you may not write there, give --out with a place you may write to."
+            if hasattr(args, "out") else " If you may not write there, copy the trial "
+            "folder to one you may write to (reading commands work where it is).")
         print(f"trialkit {command}: error: {what[type(exc)]}: {exc.filename} (nothing was "
-              "written there)", file=sys.stderr)
+              f"written there).{hint}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:  # pragma: no cover - interactive only
         return 130

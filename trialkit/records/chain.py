@@ -38,6 +38,8 @@ import sqlite3
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from trialkit.records.read_only import read_only_uri
+
 GENESIS = "0" * 64
 CHAIN_SCHEMA = """
 CREATE TABLE IF NOT EXISTS chain (
@@ -167,7 +169,7 @@ def verify_log(log_path: str | os.PathLike) -> LogVerification:
         The file is not an SQLite database (the caller says so).
     """
     path = Path(log_path)
-    con = sqlite3.connect(f"file:{path}?mode=ro", uri=True)
+    con = sqlite3.connect(read_only_uri(path), uri=True)
     broken: list[str] = []
     notes: list[str] = []
     try:

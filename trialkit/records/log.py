@@ -52,6 +52,7 @@ import pandas as pd
 from trialkit.exceptions import RecordLogError
 from trialkit.records import chain
 from trialkit.records.fields import COUPON_FIELDS
+from trialkit.records.read_only import read_only_uri
 
 LOG_FILE = "record-log.sqlite"
 SCHEMA_VERSION = "1"
@@ -160,7 +161,7 @@ class RecordLog:
 
     def _complete(self) -> bool:
         """True when the file already holds every table and trigger of the log."""
-        con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=60.0)
+        con = sqlite3.connect(read_only_uri(self.path), uri=True, timeout=60.0)
         try:
             names = {r[0] for r in con.execute("SELECT name FROM sqlite_master")}
         finally:
@@ -173,7 +174,7 @@ class RecordLog:
         Run when a log is opened and before every ingest.
         """
         try:
-            con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=60.0)
+            con = sqlite3.connect(read_only_uri(self.path), uri=True, timeout=60.0)
             try:
                 con.execute("PRAGMA busy_timeout=60000")
                 rows = [r[0] for r in con.execute("PRAGMA quick_check")]
@@ -195,7 +196,7 @@ class RecordLog:
 
     def _connect(self, read_only: bool = False) -> sqlite3.Connection:
         if read_only:  # reading never needs to write (works in a read-only folder)
-            con = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=60.0,
+            con = sqlite3.connect(read_only_uri(self.path), uri=True, timeout=60.0,
                                   isolation_level=None)
             con.execute("PRAGMA busy_timeout=60000")
             return con

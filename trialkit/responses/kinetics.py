@@ -324,8 +324,10 @@ def fit_removal(elapsed_h, coverage_pct, *, model: str = "auto",
         setattr(fit, f"reached_{tag}", reached)
         setattr(fit, f"time_to_{tag}_h", model_time if reached else math.nan)
         if not reached:
+            # a time beyond the last reading is an extrapolation: not quoted (issue 17;
+            # the fitted value stays in time_to_<level>_model_h)
             where = ("the model levels off first" if math.isinf(model_time)
-                     else f"the model would reach it at {model_time:.3g} h")
+                     else "a time beyond the readings would be a guess")
             fit.notes.append(
                 f"{tag} % removal not reached within the readings (last at "
                 f"{fit.last_h:g} h); {where}; not reported as a result.")
