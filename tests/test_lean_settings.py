@@ -130,3 +130,27 @@ def test_least_material_is_the_recipe_needing_no_more_of_anything():
 def test_room_temperature_is_the_nearest_setting_to_22_degc():
     assert nearest_room_temperature([40.0, 20.0]) == 20.0
     assert nearest_room_temperature([35.0, 60.0]) == 35.0
+
+
+def test_a_saturated_screen_judges_by_lenth_not_by_an_empty_anova(tmp_path):
+    # one replicate of 2^3 with every interaction: no residual df, so the ANOVA has no
+    # p-values; Lenth's method (Lenth 1989) sees the surfactant's 20-point effect
+    folder = tmp_path / "sat"
+    folder.mkdir()
+    saturated = ("chelator + surfactant + temperature + chelator:surfactant + "
+                 "chelator:temperature + surfactant:temperature + "
+                 "chelator:surfactant:temperature")
+    (folder / "trial.toml").write_text(
+        TRIAL.replace("replicates = 3", "replicates = 1")
+        .replace('model = "main"', f'model = "{saturated}"'), encoding="utf-8")
+    plan = make_plan(load_trial(folder))
+    rng = np.random.default_rng(3)
+    baths = plan.baths.copy()
+    baths["removal"] = (40 + 6 * baths["chelator"].astype(float)
+                        + 20 * (baths["surfactant"] == "added")
+                        + rng.normal(0, 1.0, len(baths)))
+    data = analyze(folder, baths=baths)
+    assert not data.fits["removal"].df_resid > 0 and "removal" in data.effects
+    rec = data.to_dict()["recommendation"]
+    assert rec["settings"]["surfactant"] == "added"
+    assert "surfactant" not in rec["set_to_cheapest"]

@@ -19,6 +19,7 @@ Examples
 from __future__ import annotations
 
 import math
+import re
 from types import SimpleNamespace
 
 import pandas as pd
@@ -39,12 +40,17 @@ def nearest_room_temperature(values: list[float]) -> float:
 
 
 def _tests(data: TrialAnalysis, name: str) -> dict[str, float]:
-    """p-value of each model term of one response, on its own stratum in a split plot."""
+    """p-value of each model term of one response: on its own stratum in a split plot,
+    Lenth's (approximate) in a saturated two-level screen."""
     split = data.split_plots.get(name)
     if split is not None:
         return {str(t): float(p) for t, p in zip(split.tests.term, split.tests.p_value,
                                                  strict=True)}
-    table = data.fits[name].anova(2).summary
+    fit = data.fits[name]
+    if not fit.df_resid > 0 and name in data.effects:  # saturated: Lenth's approximate p
+        eff = data.effects[name].summary
+        return {str(t): float(p) for t, p in zip(eff.term, eff.p, strict=True)}
+    table = fit.anova(2).summary
     return {str(t): float(p) for t, p in zip(table.term, table.p, strict=True)}
 
 
@@ -64,7 +70,8 @@ def quiet_factors(data: TrialAnalysis) -> dict[str, float]:
                 found.setdefault(factor, []).append((p, alpha))
             continue
         for term, p in _tests(data, n).items():
-            for part in {part.split("^")[0] for part in term.split(":")}:
+            # a term "a:b", "a^2", a level "a = x" or an alias chain "a:b = c:d"
+            for part in {part.split("^")[0].strip() for part in re.split(r":| = ", term)}:
                 if part in found and p == p:
                     found[part].append((p, data.fits[n].alpha))
     return {name: min((p for p, _ in tests), default=math.nan)
