@@ -348,6 +348,20 @@ def region_statistics(fit, Y: np.ndarray, natural: Mapping[str, float],
     return stat, float(stats.f.ppf(1 - fit.alpha, k, fit.df_resid))
 
 
+def resample_stationary_points(fit, ops, Ystar: np.ndarray
+                               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Stationary points of the surface refitted to every column of ``Ystar`` (n, B), in
+    one batch (one QR): ``xs`` (B, k), and each refit's gradient ``b`` (k, B) and
+    curvature ``B`` (B, k, k) in coded units."""
+    _, Lb, LB = ops
+    betas = batched_refit(fit.mm.X, Ystar)  # (p, B)
+    bs = Lb @ betas
+    Bs = np.einsum("ijp,pb->bij", LB, betas)
+    with np.errstate(all="ignore"):
+        xs = np.linalg.solve(Bs, -bs.T[:, :, None] / 2)[:, :, 0]
+    return xs, bs, Bs
+
+
 def bootstrap_optimum(fit, ops, region: np.ndarray, sign: float, n_boot: int, seed: int,
                       *, level: float | None = None, grid_n: int | None = None
                       ) -> pd.DataFrame:
@@ -379,12 +393,8 @@ def bootstrap_optimum(fit, ops, region: np.ndarray, sign: float, n_boot: int, se
         return out[["factor", "low", "high", "share_interior", "joint", "reaches_edge",
                     "method"]]
     rng = np.random.default_rng(seed)
-    Ystar = bootstrap_responses(fit.ls, n_boot, rng)
-    betas = batched_refit(fit.mm.X, Ystar)  # (p, n_boot)
-    bs = Lb @ betas  # (k, n_boot)
-    Bs = np.einsum("ijp,pb->bij", LB, betas)  # (n_boot, k, k)
-    with np.errstate(all="ignore"):
-        xs = np.linalg.solve(Bs, -bs.T[:, :, None] / 2)[:, :, 0]
+    xs, bs, Bs = resample_stationary_points(fit, ops,
+                                            bootstrap_responses(fit.ls, n_boot, rng))
     eig = np.linalg.eigvalsh(Bs)
     good = np.all(sign * eig < 0, axis=1) & np.all(np.isfinite(xs), axis=1)
     good &= np.all((xs >= region[:, 0]) & (xs <= region[:, 1]), axis=1)
