@@ -12,6 +12,7 @@ import pandas as pd
 
 from trialkit.analysis.censored_times import fastest_settings, uses_censored_model
 from trialkit.analysis.lean_settings import lean_settings
+from trialkit.analysis.observed_best import best_observed
 from trialkit.analysis.trial_data import TWO_LEVEL_KINDS, TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
 from trialkit.numbers import readable, readable_unit, settings_text, spoken, spoken_capitalised
@@ -263,14 +264,21 @@ def recommend(data: TrialAnalysis) -> None:
     except TrialkitError as exc:
         data.note("recipe", f"no recommendation: {first_line(exc)}")
         return
-    settings, leaned = lean_settings(data, settings, reasons)
     limited = _limited(data)
-    settings, source = _keep_limits(data, primary, settings, source, limited, reasons,
-                                    fixed=leaned)
     pr = data.fits[primary].pred_r_squared if primary in data.fits else np.nan
-    if np.isfinite(pr) and pr < WEAK_PRED_R2:
-        source += (f"; the model for {spoken(primary)} is weak (predicted R² = {pr:.2f}, below "
-                   f"{readable(WEAK_PRED_R2)}): it should not decide on its own; confirm first")
+    weak = bool(np.isfinite(pr) and pr < WEAK_PRED_R2) and not uses_censored_model(
+        data, primary)
+    seen = _observed_choice(data, primary, limited, pr) if weak else None
+    if seen is not None:  # a weak model does not choose on its own: the best bath run
+        settings, source = seen
+        leaned: dict = {}
+        reasons.append(f"The model for {spoken(primary)} is weak (it predicts left-out "
+                       f"baths with R² = {pr:.2f}, below {readable(WEAK_PRED_R2)}), so the "
+                       f"recommendation is {source}, not a model's best point.")
+    else:
+        settings, leaned = lean_settings(data, settings, reasons)
+        settings, source = _keep_limits(data, primary, settings, source, limited, reasons,
+                                        fixed=leaned)
     rows = [_prediction_row(data, name, settings) for name in
             dict.fromkeys([*data.fits, *data.censored_fits])]
     met = all(limit_shortfall(data.specs[r["response"]], r["predicted"]) == 0
@@ -284,6 +292,30 @@ def recommend(data: TrialAnalysis) -> None:
 
 
 WEAK_PRED_R2 = 0.5
+
+
+def _observed_choice(data: TrialAnalysis, primary: str, limited: list[str],
+                     pr: float) -> tuple[dict, str] | None:
+    """The best treatment the trial ran for ``primary`` among those whose observed means
+    keep every stated limit (:func:`trialkit.analysis.observed_best.best_observed`)."""
+    names = [f.name for f in data.trial.factors]
+    if data.baths is None or any(n not in data.baths for n in names):
+        return None
+
+    def keeps(row) -> bool:
+        return all(limit_shortfall(data.specs[n], float(row[n])) == 0
+                   for n in limited if n in row and row[n] == row[n])
+
+    found = best_observed(data.baths, names, primary, data.specs[primary].aim, keeps)
+    if found is None:
+        return None
+    settings, mean, n = found
+    factors = {f.name: f for f in data.trial.factors}
+    settings = {k: (float(v) if factors[k].is_continuous else str(v))
+                for k, v in settings.items()}
+    return settings, (f"the best treatment the trial ran for {spoken(primary)} (mean "
+                      f"{_fmt(mean, data.unit(primary))} over {n} bath"
+                      f"{'s' if n != 1 else ''})")
 
 
 def _prediction_row(data: TrialAnalysis, name: str, settings: dict) -> dict:
