@@ -30,8 +30,10 @@ from pathlib import Path
 import pandas as pd
 
 from trialkit.demo.run import example_trials_folder
+from trialkit.numbers import readable
 
 pd.set_option("display.width", 160)
+pd.set_option("display.float_format", readable)  # numbers as the report writes them
 EXAMPLES = example_trials_folder()
 WORK = Path("trialkit-demo-notebooks") / "{nn}"
 shutil.rmtree(WORK, ignore_errors=True)  # a fresh copy each run
@@ -138,8 +140,7 @@ removal slows again. The next step is a response surface around this level (note
 results = {"fingerprint": plan.fingerprint, "baths": len(plan.baths),
            "power_curvature": ev.power_of("chelator^2"),
            "replicates_for_90": ev.replicates_needed(0.9),
-           "best": float(sw.best), "interval": [float(sw.fieller_low), float(sw.fieller_high)]}
-results'''),
+           "best": float(sw.best), "interval": [float(sw.fieller_low), float(sw.fieller_high)]}'''),
     ]
 
 
@@ -204,8 +205,7 @@ results = {"recipes": len(sheet.recipes),
            "edta_note": edta["note"],
            "ph_error": max(abs(r.to_dict()["predicted_ph"] - r.to_dict()["target_ph"])
                            for r in sheet.recipes if r.to_dict()["target_ph"] == 7.0),
-           "cautions": list(sheet.cautions)}
-results'''),
+           "cautions": list(sheet.cautions)}'''),
     ]
 
 
@@ -309,8 +309,7 @@ results = {"refused": not bad.ok, "problems": len(bad.refused),
            "stored": int(len(good.accepted)), "corrections": int(len(fix.accepted)),
            "revision": int(fix.accepted["revision"].max()),
            "coupon": coupon, "old_mass": float(old),
-           "current_mass": float(current.loc[coupon, "mass_final_g"])}
-results'''),
+           "current_mass": float(current.loc[coupon, "mass_final_g"])}'''),
     ]
 
 
@@ -397,8 +396,7 @@ the follow-up (notebook 5) fixes temperature and agitation and maps chelator and
 """),
         code('''\
 results = {"alpha": ALPHA, "p_removal": p_removal, "p_attack": p_attack,
-           "factors": [f.name for f in plan.trial.factors]}
-results'''),
+           "factors": [f.name for f in plan.trial.factors]}'''),
     ]
 
 
@@ -503,8 +501,7 @@ results = {"removal_optimum": best_removal.optimum["settings"],
            "compromise_two": two.settings, "compromise_three": three.settings,
            "cost_at_two": float(fits["cost"].predict(two.settings).predicted.iloc[0]),
            "cost_at_three": float(fits["cost"].predict(three.settings).predicted.iloc[0]),
-           "report": str(path), "sections": [s.key for s in report.sections if s.available]}
-results'''),
+           "report": str(path), "sections": [s.key for s in report.sections if s.available]}'''),
     ]
 
 
@@ -575,8 +572,7 @@ results = {"split_width": float(wide.ci_high - wide.ci_low),
            "strata": dict(zip(split.tests.term, split.tests.error_stratum)),
            "p": dict(zip(split.tests.term, split.tests.p_value)),
            "tank_runs_needed": int(power.table.set_index("term")
-                                   .loc["temperature", "tank_runs_needed"])}
-results'''),
+                                   .loc["temperature", "tank_runs_needed"])}'''),
     ]
 
 
@@ -721,8 +717,7 @@ results = {"photos": len(measured), "statuses": sorted(set(measured["status"])),
            "card": [int(v) for v in truth.card[0]],
            "pairs": agreement.pairs[["coupon", "hand_pct", "photo_pct"]].to_dict("records"),
            "bias": agreement.bias, "lower": agreement.lower, "upper": agreement.upper,
-           "icc": agreement.icc, "photo_sources": len(from_photos)}
-results'''),
+           "icc": agreement.icc, "photo_sources": len(from_photos)}'''),
     ]
 
 

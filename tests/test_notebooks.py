@@ -46,12 +46,29 @@ def _kernel_name() -> str:
     return "python3"
 
 
+#: Python reprs and exponent notation in a display (``np.float64(40.0)``, ``1.007e-08``).
+UNREADABLE = re.compile(r"np\.(?:float|int)\d+\(|\b\d(?:\.\d+)?e[+-]\d{2}\b")
+
+
+def _output_text(output) -> str:
+    """The text a person sees of one cell output (stream, plain text or HTML)."""
+    if "text" in output:
+        return str(output["text"])
+    data = output.get("data", {})
+    return str(data.get("text/plain", "")) + str(data.get("text/html", ""))
+
+
 def run_notebook(name: str, cwd: Path) -> dict:
     nb = nbformat.read(NOTEBOOKS / name, as_version=4)
     nb.cells.append(new_code_cell("import json\nprint(json.dumps(results, default=str))"))
     client = NotebookClient(nb, kernel_name=_kernel_name(), timeout=600,
                             resources={"metadata": {"path": str(cwd)}})
     client.execute()
+    unreadable = [(i, hit.group(0)) for i, cell in enumerate(nb.cells[:-1])
+                  for o in cell.get("outputs", []) for hit in UNREADABLE.finditer(
+                      _output_text(o))]
+    # issue 17: what a notebook shows a person has no Python reprs and no exponents
+    assert not unreadable, (name, unreadable[:5])
     out = nb.cells[-1].outputs
     text = "".join(o.get("text", "") for o in out if o.get("name") == "stdout")
     return json.loads(text)

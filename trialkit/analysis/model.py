@@ -337,9 +337,9 @@ class ModelFit:
         parts = []
         for term, est in zip(self.coded_coefficients.term, self.coded_coefficients.estimate,
                              strict=True):
-            if not np.isfinite(est):
-                continue
-            value = f"{abs(est):.{digits}g}"
+            value = readable(abs(est), digits)  # plain notation, never 1.35e-19
+            if not np.isfinite(est) or (value == "≈ 0" and term != "intercept"):
+                continue  # a zero up to rounding adds nothing to the equation
             if term == "intercept":
                 parts.append(("-" if est < 0 else "") + value)
                 continue
