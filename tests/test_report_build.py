@@ -325,3 +325,14 @@ def test_lack_of_fit_without_pure_error_says_why_it_is_not_tested():
         "Lack of fit against pure error for removal: F = 1.23, p = 0.31."
     report = rt.report_of("example:surface-follow-up").to_html()
     assert "F = , " not in report and "Lack of fit for cost is not tested" in report
+
+
+@pytest.mark.parametrize("kind", [k for k in rt.ALL_KINDS if k.startswith("example:")])
+def test_no_exponent_notation_or_python_repr_anywhere_a_reader_looks(kind):
+    # issue 17, numbers for people: the whole page, folded tables and equations included
+    # (image data and the embedded machine-readable JSON left out)
+    page = rt.report_of(kind).to_html()
+    page = re.sub(r'src="data:[^"]*"', "", page)
+    page = re.sub(r"<script.*?</script>", "", page, flags=re.S)
+    hits = re.findall(r"\b\d(?:\.\d+)?e[+-]\d{2}\b|np\.(?:float|int)\d+\(", page)
+    assert not hits, hits[:5]
