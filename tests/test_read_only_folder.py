@@ -1,9 +1,9 @@
 """A trial folder the user may not write to, enforced by the operating system (issue 14).
 
 The recorded trial is copied, its files and folders made read-only, and every command is
-run in a fresh interpreter as a user without write permission: as root the test drops to
-the unprivileged uid 65534 with util-linux ``setpriv`` (root ignores file modes); as an
-ordinary user the modes alone bind.  Reading commands work; writing commands refuse,
+run in a fresh interpreter without write permission: as root the test drops, with
+util-linux ``setpriv``, the capabilities that let root ignore file modes; as an ordinary
+user the modes alone bind.  Reading commands work; writing commands refuse,
 say how to go on, and nothing in the folder changes.  The readings are invented.
 """
 
@@ -23,7 +23,8 @@ from malformed_sheets.make_corpus import fill_csv, good_readings, make_test_plan
 
 from trialkit.records.sheets import export_csv, ingest_sheet
 
-UNPRIVILEGED = 65534  # "nobody" on Debian and most Linux systems
+#: Capabilities that let root ignore file modes (capabilities(7)).
+DROPPED = "-dac_override,-dac_read_search,-fowner"
 
 
 @pytest.fixture(scope="module")
@@ -65,10 +66,11 @@ def _run(args, scratch: Path):
            "TMPDIR": str(scratch)}
     cmd = [sys.executable, "-m", "trialkit", *args]
     if os.geteuid() == 0:
+        # root stays root but loses the capabilities that override file modes, so the
+        # modes bind it as they bind its files' owner (and the environment stays readable)
         setpriv = shutil.which("setpriv")
-        assert setpriv, "running as root needs util-linux setpriv to drop privileges"
-        cmd = [setpriv, f"--reuid={UNPRIVILEGED}", f"--regid={UNPRIVILEGED}",
-               "--clear-groups", *cmd]
+        assert setpriv, "running as root needs util-linux setpriv to drop capabilities"
+        cmd = [setpriv, f"--bounding-set={DROPPED}", *cmd]
     return subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=scratch,
                           timeout=600)
 

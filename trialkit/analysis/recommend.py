@@ -130,9 +130,11 @@ def _primary_choice(data: TrialAnalysis, primary: str) -> tuple[dict, str]:
     """The settings the trial's main question points to, before any limit is applied."""
     spec = data.specs[primary]
     if data.desirability is not None:
+        names = [spoken(a.response) for a in data.desirability.aims]
+        listed = ", ".join(names[:-1]) + f" and {names[-1]}" if len(names) > 1 else names[0]
         return dict(data.desirability.settings), (
-            "best compromise of all responses (Derringer–Suich desirability "
-            f"D = {data.desirability.overall:.2f})")
+            f"best compromise of {listed} (Derringer–Suich desirability "
+            f"D = {data.desirability.overall:.2f}, 1 = every aim fully met)")
     if primary in data.surfaces:
         return dict(data.surfaces[primary].optimum["settings"]), (
             f"best point of the fitted surface of {spoken(primary)} inside the design region "

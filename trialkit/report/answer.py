@@ -75,8 +75,10 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
              and f.response in wanted]
     if said:
         blocks.append(Block.bullets(said[:MAX_SENTENCES], "What matters"))
-    if rec.get("reasons"):
-        blocks.append(Block.bullets(list(rec["reasons"])[:2], "Why these settings"))
+    why = list(rec.get("reasons") or [])[:2] or (
+        [rec["source"][:1].upper() + rec["source"][1:] + "."] if rec.get("source") else [])
+    if why:  # the reasons, else how the settings were chosen (e.g. the compromise)
+        blocks.append(Block.bullets(why, "Why these settings"))
     pred = rec["predictions"].set_index("response")
     if primary in pred.index:
         p = pred.loc[primary]
