@@ -96,3 +96,22 @@ def test_evaluate_text_has_no_reprs_or_exponents(name, sizes, tmp_path, capsys):
     out = capsys.readouterr().out
     assert "Evaluation:" in out
     assert offences(out) == [], out
+
+
+def test_an_estimate_beside_its_interval_takes_the_intervals_digits():
+    # issue 17: significant digits matched to the interval, row by row
+    import pandas as pd
+
+    from trialkit.numbers import readable_frame
+
+    t = pd.DataFrame({"term": ["a", "b", "c"], "estimate": [0.0516349, 12.3456, 1234.5678],
+                      "ci_low": [0.04012, 10.1, 1200.1], "ci_high": [0.06318, 14.9, 1269.0],
+                      "pi_low": [0.01, 5.0, 1100.0], "pi_high": [0.09, 19.7, 1370.0]})
+    out = readable_frame(t)
+    assert out.estimate.tolist() == ["0.052", "12.3", "1235"]
+    assert out.ci_low.tolist() == ["0.040", "10.1", "1200"]
+    assert out.pi_high.tolist() == ["0.090", "20", "1370"]   # width 14.7: two digits
+    for row in out.itertuples():   # the estimate never quotes a digit its interval lacks
+        decimals = [len(x.split(".")[1]) if "." in x else 0
+                    for x in (row.estimate, row.ci_low, row.ci_high)]
+        assert len(set(decimals)) == 1

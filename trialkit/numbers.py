@@ -25,6 +25,11 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
+#: Columns of an estimate that may stand beside an interval, in order of preference.
+VALUE_COLUMNS = ("estimate", "effect", "predicted", "difference", "median", "value")
+#: Interval columns written to their width's digits with the estimate beside them.
+INTERVAL_COLUMNS = (("ci_low", "ci_high"), ("low", "high"), ("pi_low", "pi_high"),
+                    ("pi3_low", "pi3_high"))
 #: Column names that hold p-values.
 P_COLUMNS = frozenset({"p", "p_adjusted", "p_value", "p-value", "PR(>F)", "p adj",
                        "p_lack_of_fit"})
@@ -118,12 +123,37 @@ def readable_cell(value, is_p: bool = False, digits: int = 4) -> str:
 def readable_frame(table, digits: int = 4):
     """A copy of a pandas DataFrame with every cell as text by :func:`readable_cell`
     (p-value columns, :data:`P_COLUMNS`, as ``< 0.001``), ready for ``to_string`` or
-    ``to_html``."""
+    ``to_html``.  An estimate beside its interval (:data:`VALUE_COLUMNS`,
+    :data:`INTERVAL_COLUMNS`) is written to the interval's digits
+    (:func:`readable_interval`).
+
+    >>> import pandas as pd
+    >>> t = pd.DataFrame({"estimate": [0.0516349], "ci_low": [0.04012], "ci_high": [0.06318]})
+    >>> readable_frame(t).iloc[0].tolist()
+    ['0.052', '0.040', '0.063']
+    """
     out = table.copy()
     for col in out.columns:
         is_p = str(col) in P_COLUMNS
         out[col] = [readable_cell(v, is_p, digits) for v in out[col]]
+    cols = [str(c) for c in table.columns]
+    value = next((c for c in VALUE_COLUMNS if c in cols), None)
+    for low, high in INTERVAL_COLUMNS:
+        if value is None or low not in cols or high not in cols:
+            continue
+        # an estimate beside its interval: written to the interval's digits
+        for i, (v, lo, hi) in enumerate(zip(table[value], table[low], table[high],
+                                            strict=True)):
+            if all(_is_number(x) for x in (v, lo, hi)):
+                texts = readable_interval(v, lo, hi)
+                if low.startswith("ci") or (low, high) == ("low", "high"):
+                    out.iloc[i, cols.index(value)] = texts[0]
+                out.iloc[i, cols.index(low)], out.iloc[i, cols.index(high)] = texts[1:]
     return out
+
+
+def _is_number(x) -> bool:
+    return hasattr(x, "__float__") and not isinstance(x, (bool, str))
 
 
 def readable_table(table, digits: int = 4) -> str:

@@ -24,7 +24,7 @@ from pathlib import Path
 import pandas as pd
 
 from trialkit.exceptions import TrialkitError
-from trialkit.numbers import P_COLUMNS, readable_cell
+from trialkit.numbers import readable_frame
 
 TEMPLATE = "report.html.j2"
 
@@ -88,11 +88,9 @@ class Block:
         """Header and rows of the table as text (:mod:`trialkit.numbers`: ``digits``
         significant, plain notation, p-values as ``< 0.001``)."""
         df = self.table if self.table is not None else pd.DataFrame()
-        is_p = [str(c) in P_COLUMNS for c in df.columns]
-
+        text = readable_frame(df, digits)  # estimates beside intervals to their digits
         return ([str(c) for c in df.columns],
-                [[readable_cell(v, p, digits) for v, p in zip(row, is_p, strict=True)]
-                 for row in df.itertuples(index=False)])
+                [[str(v) for v in row] for row in text.itertuples(index=False)])
 
 
 @dataclass
