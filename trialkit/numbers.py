@@ -79,6 +79,18 @@ def readable_p(value) -> str:
     return "< 0.001" if v < 0.001 else readable(v, 2)
 
 
+def p_phrase(value) -> str:
+    """A p-value in a sentence: ``p < 0.001``, ``p = 0.36``, or ``p not available``.
+
+    >>> p_phrase(2e-9), p_phrase(0.3587), p_phrase(float("nan"))
+    ('p < 0.001', 'p = 0.36', 'p not available')
+    """
+    text = readable_p(value)
+    if not text:
+        return "p not available"
+    return f"p {text}" if text.startswith("<") else f"p = {text}"
+
+
 def readable_interval(value, low, high, digits: int = 2) -> tuple[str, str, str]:
     """An estimate and its interval written to one decimal place, the one that gives the
     interval's width ``digits`` significant digits (so no digit is quoted that the interval

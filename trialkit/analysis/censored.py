@@ -74,11 +74,20 @@ class CensoredFit:
     _cov: np.ndarray
 
     @property
+    def factors(self) -> list:
+        """The factors the model holds."""
+        return list(self._spec.used_factors) if self.columns != ["intercept"] else []
+
+    @property
     def summary(self) -> pd.DataFrame:
+        """Coefficients of ln T with Wald intervals and p-values (normal reference)."""
         z = float(stats.norm.ppf(1 - self.alpha / 2))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            p = 2 * stats.norm.sf(np.abs(self.beta / self.se))
         return pd.DataFrame({"term": self.columns, "estimate": self.beta, "std_error": self.se,
                              "ci_low": self.beta - z * self.se,
-                             "ci_high": self.beta + z * self.se})
+                             "ci_high": self.beta + z * self.se,
+                             "p": np.where(self.se > 0, p, np.nan)})
 
     def predict(self, settings: pd.DataFrame | dict, n_new: int = 1) -> pd.DataFrame:
         """Median time (``exp(x'beta)``) with its confidence interval (Wald, on ln T), and

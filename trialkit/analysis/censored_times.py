@@ -17,6 +17,7 @@ import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
+from trialkit.numbers import spoken
 
 #: Time measures that can be censored -> the removal level (%) they time.
 CENSORED_LEVELS = {"time_to_50_h": 50.0, "time_to_90_h": 90.0}
@@ -111,16 +112,13 @@ def censored_tests(data: TrialAnalysis, name: str) -> dict[str, float]:
     """Factor -> p-value of its effect on a time judged by the censored model: the Wald
     test of its coefficient (each column), or the reached-or-not test for a factor with
     a level where no bath got there."""
-    from scipy import stats
-
     out = dict(data.censoring[name].get("separation_tests", {}))
     cf = data.censored_fits.get(name)
     if cf is not None:
-        for f in cf._spec.used_factors:
-            cols = [i for i, c in enumerate(cf.columns)
-                    if c == f.name or c.startswith(f"{f.name} = ")]
-            ps = [float(2 * stats.norm.sf(abs(cf.beta[i] / cf.se[i]))) for i in cols
-                  if cf.se[i] > 0]
+        table = cf.summary
+        for f in cf.factors:
+            mine = table[(table.term == f.name) | table.term.str.startswith(f"{f.name} = ")]
+            ps = [float(p) for p in mine.p if p == p]
             if ps:
                 out[f.name] = min(ps + ([out[f.name]] if f.name in out else []))
     return out
@@ -195,8 +193,7 @@ def fastest_settings(data: TrialAnalysis, name: str, grid: pd.DataFrame) -> tupl
     levels where baths did get there; the model's own factors range over ``grid``.
     """
     cf = data.censored_fits[name]
-    modelled = {f.name for f in cf._spec.used_factors} if cf.columns != ["intercept"] \
-        else set()
+    modelled = {f.name for f in cf.factors}
     by_level = data.censoring[name].get("by_level", [])
     for f in data.trial.factors:
         if f.name in modelled:
@@ -211,6 +208,6 @@ def fastest_settings(data: TrialAnalysis, name: str, grid: pd.DataFrame) -> tupl
     best = grid.reset_index(drop=True).iloc[int(median.argmin())]
     settings = {k: (float(v) if not isinstance(v, str) else v) for k, v in best.items()}
     n, k = data.censoring[name]["n_baths"], data.censoring[name]["n_censored"]
-    return settings, (f"shortest median {name.replace('_', ' ')} by the log-normal time "
+    return settings, (f"shortest median {spoken(name)} by the log-normal time "
                       f"model, which counts the {k} of {n} baths that had not got there "
                       "as lasting at least until their last inspection")

@@ -26,7 +26,7 @@ import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis, first_line
 from trialkit.exceptions import TrialkitError
-from trialkit.numbers import readable, readable_p, settings_text, spoken_capitalised
+from trialkit.numbers import p_phrase, readable, settings_text, spoken_capitalised
 
 #: Room temperature of a workshop, °C (`common practice`: 20-25 °C).
 ROOM_TEMPERATURE_C = 22.0
@@ -150,9 +150,8 @@ def lean_settings(data: TrialAnalysis, settings: dict, reasons: list[str]
         if choice is None or choice == out[name]:
             continue
         out[name] = moved[name] = choice
-        shown = readable_p(p)
         tested = ("in no model" if p != p else
-                  f"smallest p of its terms {shown if shown.startswith('<') else '= ' + shown}")
+                  f"smallest {p_phrase(p)} among its terms")
         reasons.append(
             f"{spoken_capitalised(name, f.unit)} made no detectable difference to any "
             f"response the trial aims at ({tested}), so the recommendation takes "

@@ -32,7 +32,7 @@ from collections.abc import Sequence
 
 from scipy import stats
 
-from trialkit.numbers import readable, readable_p, settings_text, spoken, spoken_capitalised
+from trialkit.numbers import p_phrase, readable, settings_text, spoken, spoken_capitalised
 from trialkit.report.findings import Finding, span_text
 from trialkit.trial.model_matrix import level_label
 
@@ -83,8 +83,7 @@ def _separated_sentences(name: str, censoring: dict, factors: Sequence) -> list[
                         f"{_level_text(f.name, r['level'], f.unit)}" for r in done)
         last = readable(max(s["last_h"] for s in stuck), 3)
         p = float(censoring.get("separation_tests", {}).get(f.name, math.nan))
-        p_text = readable_p(p)
-        p_text = f"p {p_text}" if p_text.startswith("<") else f"p = {p_text}"
+        p_text = p_phrase(p)
         verdict = (f"{spoken(name)} depends on {spoken(f.name, f.unit)} (Fisher's exact test "
                    f"on reached or not, {p_text}), but this trial cannot say by how much"
                    if p < ALPHA else
@@ -105,7 +104,8 @@ def _ratio_sentences(name: str, fit, factors: Sequence) -> list[Finding]:
     by_name = {f.name: f for f in factors}
     first_levels = {level_label(f.name, f.levels[0]): f for f in factors
                     if not f.is_continuous}
-    for term, beta, se in zip(fit.columns, fit.beta, fit.se, strict=True):
+    for term, beta, se, p in zip(fit.columns, fit.beta, fit.se, fit.summary.p,
+                                 strict=True):
         f = by_name.get(term) or first_levels.get(term)
         if f is None or not (se > 0):
             continue
@@ -118,10 +118,9 @@ def _ratio_sentences(name: str, fit, factors: Sequence) -> list[Finding]:
             continue
         ratio = math.exp(change * beta)
         lo, hi = sorted(math.exp(change * (beta + s * z * se)) for s in (-1, 1))
-        p = float(2 * stats.norm.sf(abs(beta / se)))
+        p = float(p)
         nums = {"time_ratio": ratio, "ci_low": lo, "ci_high": hi, "p": p}
-        p_text = readable_p(p)
-        p_text = f"p {p_text}" if p_text.startswith("<") else f"p = {p_text}"
+        p_text = p_phrase(p)
         ci = f"time ratio {readable(ratio, 2)}, 95 % CI {readable(lo, 2)}–{readable(hi, 2)}"
         if p < fit.alpha:
             verb = "shortened" if ratio < 1 else "lengthened"

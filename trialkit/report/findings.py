@@ -25,7 +25,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from trialkit.numbers import readable, readable_p, readable_unit, spoken, spoken_capitalised
+from trialkit.numbers import p_phrase, readable, readable_unit, spoken, spoken_capitalised
 
 DASH = "\u2013"
 MINUS = "\u2212"
@@ -73,10 +73,7 @@ def fmt(x: float, dec: int) -> str:
 
 def fmt_p(p: float) -> str:
     """``p < 0.001`` or ``p = 0.62`` (two significant digits)."""
-    if p is None or not math.isfinite(p):
-        return "p not available"
-    text = readable_p(p)
-    return f"p {text}" if text.startswith("<") else f"p = {text}"
+    return p_phrase(p)
 
 
 def pretty_unit(unit: str) -> str:
