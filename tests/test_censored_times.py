@@ -95,6 +95,9 @@ def test_a_level_where_no_bath_finished_is_reported_and_tested(tmp_path):
     p_ref = stats.fisher_exact([[6, 0], [0, 6]])[1]            # reference: scipy
     assert text and f"p = {p_ref:.2g}" in text[0] and "cannot say by how much" in text[0]
     assert "Every bath at temperature 20 °C (6) was still short of 90 %" in text[0]
+    # the note counts every bath, not only those left after setting the stuck level aside
+    note = [n for n in data.notes["analysis"] if n.startswith("time_to_clean: ")]
+    assert any("6 of 12 baths had not reached" in n for n in note), note
 
 
 @pytest.mark.parametrize("seed", [11, 12, 13, 14])

@@ -195,7 +195,11 @@ def test_whole_trial_is_the_object_the_report_renders(tmp_path, capsys):
     report = build_report(same)
     assert report.data["recommendation"]["settings"] == data["recommendation"]["settings"]
     text = _main(capsys, folder, "--all").stdout
-    assert text.startswith("TrialAnalysis of ") and "recommended: chelator" in text
+    # the text is the report's answer: the same recommended settings, in words
+    from trialkit.report.answer import settings_phrase
+
+    words = settings_phrase(data["recommendation"]["settings"], same.trial)
+    assert text.startswith(same.trial.title) and f"Recommended: {words}." in text
     bad = _main(capsys, tmp_path / "nope.csv", "--all")
     assert bad.returncode == 2 and "needs a trial folder" in bad.stderr
 

@@ -53,3 +53,30 @@ def test_missing_sheet_file(cli, tmp_path):
     res = cli("ingest", str(tmp_path / "nope.csv"), "--trial", str(plan.trial.folder))
     assert res.returncode == 2
     assert "nope.csv" in res.stderr and "Traceback" not in res.stderr
+
+
+def test_trial_found_from_the_sheet_or_the_current_folder(cli, tmp_path):
+    # issue 17 (where files go): a sheet filled in TRIAL/sheets/ belongs to TRIAL, and a
+    # command run inside the trial folder needs no --trial
+    plan, blank = prepare(tmp_path)
+    folder = plan.trial.folder
+    (folder / "sheets").mkdir(exist_ok=True)
+    sheet = fill_csv(blank, folder / "sheets" / "day1.csv", good_readings())
+    res = cli("ingest", str(sheet), cwd=tmp_path)
+    assert res.returncode == 0, res.stderr
+    n = sum(len(v) for v in good_readings().values())
+    assert RecordLog.for_folder(folder).count() == n
+    res = cli("ingest", "sheets/day1.csv", "--json", cwd=folder)
+    assert res.returncode == 0 and json.loads(res.stdout)["status"] == "already_ingested"
+    res = cli("verify", cwd=folder)
+    assert res.returncode == 0 and "intact" in res.stdout, res.stdout + res.stderr
+
+
+def test_no_trial_anywhere_is_a_usage_error_naming_the_option(cli, tmp_path):
+    plan, blank = prepare(tmp_path)
+    stray = tmp_path / "elsewhere"
+    stray.mkdir()
+    sheet = fill_csv(blank, stray / "day1.csv", good_readings())
+    res = cli("ingest", str(sheet), cwd=stray)
+    assert res.returncode == 2 and "--trial DIR" in res.stderr and "Traceback" not in res.stderr
+    assert not (stray / "record-log.sqlite").exists()

@@ -205,3 +205,40 @@ def test_missing_bundled_trials_say_what_to_do(tmp_path, monkeypatch):
     with pytest.raises(DemoError, match=r"pip install -e \.") as info:
         run_demo(tmp_path / "out")
     assert str(tmp_path / "site" / "example_trials") in str(info.value)
+
+
+#: A decimal number as printed (not part of a date, a time, a hex digest or a name).
+_DECIMAL = re.compile(r"(?<![\w.:-])-?(\d+)\.(\d+)(?![\w.:])")
+_REPR_OR_EXPONENT = re.compile(r"\b\d(?:\.\d+)?e[+-]\d+\b|np\.(?:float|int)\d+\(|\{'|"
+                               r"\b[A-Z]\w+\(\w+=|\w+=np\.|\w='")
+
+
+@pytest.mark.parametrize("command", ["analyze", "responses", "recipe", "evaluate", "plan"])
+def test_command_line_text_reads_like_a_lab_report(cli_run, command):
+    # issue 17 (numbers for people): the text outputs a user reads, run inside each demo
+    # trial folder with no arguments: no Python reprs, no exponent notation, and no more
+    # than four significant digits (trialkit.numbers' rule; recorded values, shown as
+    # entered by 'history', are left out)
+    _, out = cli_run
+    env = {**os.environ, "PYTHONPATH": str(REPO), "MPLBACKEND": "Agg"}
+    for name in bundled_trials():
+        proc = subprocess.run([sys.executable, "-m", "trialkit", command], cwd=out / name,
+                              env=env, capture_output=True, text=True, timeout=300)
+        assert proc.returncode == 0, (name, proc.stderr[-2000:])
+        text = proc.stdout
+        assert len(text.splitlines()) > 3, (name, text)
+        assert not _REPR_OR_EXPONENT.findall(text), (name, _REPR_OR_EXPONENT.findall(text))
+        long = [m.group(0) for m in _DECIMAL.finditer(text)
+                if len((m.group(1) + m.group(2)).lstrip("0")) > 4]
+        assert not long, (name, long[:10])
+        if command == "analyze":      # the answer first, with its cautions
+            assert text.splitlines()[2] == "The answer" and "Recommended: " in text
+            assert "Safety cautions" in text and "safety data sheet" in text
+
+
+def test_the_text_checks_can_fail():
+    assert _REPR_OR_EXPONENT.findall("Responses(metal='steel') p = 1.2e-08 np.float64(3")
+    assert _REPR_OR_EXPONENT.findall("Responses(63 coupons, metal='carbon steel')")
+    long = [m.group(0) for m in _DECIMAL.finditer("19.1913 g at 2026-11-05T09:20:00.5, 0.03959")
+            if len((m.group(1) + m.group(2)).lstrip("0")) > 4]
+    assert long == ["19.1913"]

@@ -170,7 +170,7 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
         except TrialkitError as exc:
             out["censored_fit_error"] = first_line(exc)
     if len(cens):
-        data.note("analysis", f"{spec.name}: {len(cens)} of {len(table)} baths had not "
+        data.note("analysis", f"{spec.name}: {len(cens)} of {out['n_baths']} baths had not "
                               f"reached {int(level)} % removal by their last inspection; "
                               "they are right-censored in the log-normal time model "
                               "(under 'censoring'), which counts them as lasting at least "

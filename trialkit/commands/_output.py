@@ -1,4 +1,4 @@
-"""Small helpers shared by the command modules: JSON printing."""
+"""Small helpers shared by the command modules: JSON printing, finding the trial folder."""
 
 from __future__ import annotations
 
@@ -41,3 +41,32 @@ def check_record_log(folder: str) -> None:
     path = Path(folder) / LOG_FILE
     if Path(folder).is_dir() and path.exists():
         RecordLog(path)  # runs SQLite's integrity check; RecordLogError if damaged
+
+
+def trial_folder_for(explicit: str | None, near: str | Path | None = None) -> str:
+    """The trial folder a command works on.
+
+    ``explicit`` when given; else the current folder when it holds a trial file; else the
+    nearest folder holding one among ``near`` and its parents (a sheet filled in
+    ``TRIAL/sheets/`` belongs to ``TRIAL``).
+
+    Raises
+    ------
+    SheetError
+        When no trial file is found: names where it looked and how to say which trial.
+    """
+    from trialkit.exceptions import SheetError
+    from trialkit.trial.file import TRIAL_FILE_NAME
+
+    if explicit is not None:
+        return explicit
+    if (Path.cwd() / TRIAL_FILE_NAME).is_file():
+        return "."
+    if near is not None:
+        start = Path(near).resolve()
+        for folder in [start, *start.parents] if start.is_dir() else start.parents:
+            if (folder / TRIAL_FILE_NAME).is_file():
+                return str(folder)
+    where = f" nor beside {near} or above it" if near is not None else ""
+    raise SheetError(f"no {TRIAL_FILE_NAME} in the current folder{where}; say which trial "
+                     "with --trial DIR (the folder holding its trial file)")

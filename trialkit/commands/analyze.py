@@ -18,8 +18,9 @@ from trialkit.commands._output import print_json
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("source", metavar="DIR_OR_TABLE",
-                        help="a trial folder, or a CSV/XLSX table with one row per bath")
+    parser.add_argument("source", metavar="DIR_OR_TABLE", nargs="?", default=".",
+                        help="a trial folder, or a CSV/XLSX table with one row per bath "
+                        "(default: the current folder)")
     parser.add_argument("--response", metavar="NAME",
                         help="response to analyse (trial folders: default every response, "
                         "with the recommendation; tables: name the column)")
@@ -127,8 +128,28 @@ def _whole_trial(args: argparse.Namespace, path: Path) -> int:
     if args.json:
         print_json(result.to_dict())
     else:
-        print(repr(result))
+        print(_answer_text(result))
     return 0
+
+
+def _answer_text(result) -> str:
+    """The report's answer and cautions as text, the models behind them and where to read
+    more."""
+    from trialkit.report.answer import answer_blocks
+    from trialkit.report.build import SECTION_TITLES, report_findings, safety_blocks
+    from trialkit.report.document import Section
+    from trialkit.report.plain_text import section_text
+
+    answer = Section("answer", SECTION_TITLES["answer"],
+                     answer_blocks(result, report_findings(result)))
+    safety = Section("safety", SECTION_TITLES["safety"], safety_blocks(result))
+    lines = [f"{result.trial.title} (plan {result.plan.fingerprint})", "", section_text(answer),
+             "", section_text(safety), "", "Models:"]
+    lines += [f"  {name}: {res.fit.spec.to_text()}" for name, res in result.results.items()]
+    for topic, sentences in result.notes.items():
+        lines += [f"  note ({topic}): {s}" for s in sentences]
+    lines += ["", "The whole report: 'trialkit report' (HTML); every number: add --json."]
+    return "\n".join(lines)
 
 
 def _compromise(args: argparse.Namespace, source) -> int:

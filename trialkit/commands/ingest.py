@@ -1,4 +1,4 @@
-"""``trialkit ingest SHEET --trial DIR``: check a filled sheet and store its readings.
+"""``trialkit ingest SHEET [--trial DIR]``: check a filled sheet and store its readings.
 
 Exit code 0 when the sheet was accepted (or had nothing new), 1 when it was refused.
 """
@@ -10,19 +10,21 @@ import argparse
 
 def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("sheet", metavar="SHEET", help="filled sheet (.xlsx or .csv)")
-    parser.add_argument("--trial", metavar="DIR", required=True,
-                        help="trial folder whose plan and record log the sheet belongs to")
+    parser.add_argument("--trial", metavar="DIR", default=None,
+                        help="trial folder whose plan and record log the sheet belongs to "
+                        "(default: the current folder when it holds trial.toml, else the "
+                        "nearest folder above the sheet that does)")
     parser.add_argument("--allow-mass-gain", action="store_true",
                         help="accept masses after cleaning above the initial mass (deposits)")
     parser.add_argument("--json", action="store_true", help="print the ingest report as JSON")
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.commands._output import print_json
+    from trialkit.commands._output import print_json, trial_folder_for
     from trialkit.planning.plan import load_plan
     from trialkit.records.sheets.ingest import ingest_sheet
 
-    plan = load_plan(args.trial)
+    plan = load_plan(trial_folder_for(args.trial, near=args.sheet))
     report = ingest_sheet(args.sheet, plan, allow_mass_gain=args.allow_mass_gain)
     if args.json:
         print_json(report.to_dict())

@@ -46,15 +46,18 @@ def run(args: argparse.Namespace) -> int:
     cols = ["bath"] + [c for c in ("run", "point") if c in baths]
     cols += [f"{m}_mean" for m in SHOWN if f"{m}_mean" in baths]
     cols += [c for c in ("time_to_90_h",) if c in baths]
+    from trialkit.numbers import readable
+    from trialkit.report.quality import grouped_notes
+
+    print(f"{len(resp.coupons)} coupons in {len(baths)} baths; {resp.metal} "
+          f"({readable(resp.density_g_cm3)} g/cm³); {len(resp.problems)} problem(s)")
     with pd.option_context("display.width", 160, "display.max_columns", 30):
-        print(f"{resp!r}")
-        print(f"metal: {resp.metal} ({resp.density_g_cm3} g/cm³)")
         print(readable_table(baths[cols]))
         if args.coupons:
             print()
             print(readable_table(resp.coupons))
-    for note in resp.warnings:
-        print(f"note: {note}")
+    for row in grouped_notes(list(resp.warnings)).itertuples(index=False):
+        print(f"note: {row.note}" + (f" ({row.concerns})" if row.concerns else ""))
     if resp.problems:
         print(str(resp.problems))
         return 1

@@ -11,8 +11,9 @@ import argparse
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("folder", metavar="DIR",
-                        help="trial folder (or the record-log.sqlite file itself)")
+    parser.add_argument("folder", metavar="DIR", nargs="?", default=".",
+                        help="trial folder (or the record-log.sqlite file itself; default: "
+                        "the current folder)")
     parser.add_argument("--json", action="store_true", help="print the result as JSON")
 
 

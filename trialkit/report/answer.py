@@ -68,7 +68,8 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
         amounts = "; ".join(f"{readable(ln.grams, 3)} g {ln.name}" for ln in r.lines)
         blocks.append(Block.para(f"To mix one bath of {readable(r.volume_l)} L: {amounts}; make up "
                                  f"to volume with water (predicted pH {r.predicted_ph:.2f}). "
-                                 "The full steps and cautions are below."))
+                                 "Read the safety cautions before mixing; the full steps are under "
+                                 "'The recommended recipe' in the report."))
     wanted = {n for n, s in data.specs.items() if s.is_wanted}
     said = [f.text for f in findings if f.response == primary and f.kind in TELLING]
     said += [f.text for f in findings if f.response != primary and f.kind in TELLING

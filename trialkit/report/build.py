@@ -58,7 +58,7 @@ def build_report(data: TrialAnalysis) -> Report:
     Report
         ``write(path)`` writes the self-contained HTML page.
     """
-    findings = _findings(data)
+    findings = report_findings(data)
     sections = [
         Section("answer", SECTION_TITLES["answer"], answer_blocks(data, findings)),
         Section("brief", SECTION_TITLES["brief"], _brief(data)),
@@ -67,7 +67,7 @@ def build_report(data: TrialAnalysis) -> Report:
         Section("models", SECTION_TITLES["models"], _models(data), folded=True),
         Section("recipe", SECTION_TITLES["recipe"], _recipe(data)),
         Section("confirm", SECTION_TITLES["confirm"], _confirm(data)),
-        Section("safety", SECTION_TITLES["safety"], _safety(data)),
+        Section("safety", SECTION_TITLES["safety"], safety_blocks(data)),
         Section("reproduce", SECTION_TITLES["reproduce"], reproduce_blocks(data)),
     ]
     trial = data.trial
@@ -127,7 +127,8 @@ def _brief(data: TrialAnalysis) -> list[Block]:
     return blocks + _notes(data, "plan")
 
 
-def _findings(data: TrialAnalysis) -> list:
+def report_findings(data: TrialAnalysis) -> list:
+    """Every finding the report tells, response by response (censored times first)."""
     from trialkit.analysis.censored_times import uses_censored_model
     from trialkit.report.censored_text import censored_findings
 
@@ -384,7 +385,8 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
                          "intervals)")]
 
 
-def _safety(data: TrialAnalysis) -> list[Block]:
+def safety_blocks(data: TrialAnalysis) -> list[Block]:
+    """The cautions of the recommended recipe (general ones when there is none)."""
     from trialkit.chemistry.cautions import cautions_for
 
     if data.recipe is not None:
