@@ -16,11 +16,12 @@ import html
 import re
 import shutil
 
+import pandas as pd
 import pytest
 import report_trials as rt
 
 from trialkit.cli import main
-from trialkit.numbers import readable, readable_interval, readable_table
+from trialkit.numbers import readable, readable_frame, readable_interval, readable_table
 
 #: What a reader must never see: a numpy repr, a dict repr, exponent notation.
 BAD = re.compile(r"np\.float64\(|\{'|\d(?:\.\d+)?e[+-]\d\d")
@@ -115,3 +116,21 @@ def test_an_estimate_beside_its_interval_takes_the_intervals_digits():
         decimals = [len(x.split(".")[1]) if "." in x else 0
                     for x in (row.estimate, row.ci_low, row.ci_high)]
         assert len(set(decimals)) == 1
+
+
+def test_a_standard_error_sets_the_digits_of_its_estimate():
+    # issue 17: a standard error is quoted to two significant digits and its estimate to
+    # the same decimal place (the usual rule for uncertainties, e.g. Taylor, An
+    # Introduction to Error Analysis, 2nd ed., sec. 2.2 — from memory)
+    t = pd.DataFrame({"term": ["chelator", "ph"], "effect": [10.86421, -0.0123456],
+                      "std_error": [1.23456, 0.0004567], "p": [0.0001, 0.2]})
+    out = readable_frame(t)
+    assert out["effect"].tolist() == ["10.9", "-0.01235"]
+    assert out["std_error"].tolist() == ["1.2", "0.00046"]
+    # a planning table's stated effect is an input, not an estimate: left as given
+    plan = pd.DataFrame({"term": ["a"], "effect": [10.0], "effect_se": [0.7312]})
+    assert readable_frame(plan).iloc[0].tolist() == ["a", "10", "0.73"]
+    # with an interval the interval sets the digits
+    both = pd.DataFrame({"estimate": [5.12345], "std_error": [0.5], "ci_low": [4.1],
+                         "ci_high": [6.15]})
+    assert readable_frame(both).iloc[0].tolist() == ["5.1", "0.50", "4.1", "6.2"]

@@ -30,6 +30,10 @@ VALUE_COLUMNS = ("estimate", "effect", "predicted", "difference", "median", "val
 #: Interval columns written to their width's digits with the estimate beside them.
 INTERVAL_COLUMNS = (("ci_low", "ci_high"), ("low", "high"), ("pi_low", "pi_high"),
                     ("pi3_low", "pi3_high"))
+#: Standard-error columns: written to two significant digits; beside ``std_error`` (an
+#: estimate's own standard error) the estimate, when it has no interval, to the same
+#: decimal place.
+SE_COLUMNS = ("std_error", "effect_se", "se_fit")
 #: Column names that hold p-values.
 P_COLUMNS = frozenset({"p", "p_adjusted", "p_value", "p-value", "PR(>F)", "p adj",
                        "p_lack_of_fit"})
@@ -104,16 +108,23 @@ def readable_interval(value, low, high, digits: int = 2) -> tuple[str, str, str]
         v, lo, hi = float(value), float(low), float(high)
     except (TypeError, ValueError):
         return readable(value), readable(low), readable(high)
-    width = abs(hi - lo)
-    if (not all(math.isfinite(x) for x in (v, lo, hi)) or not 1e-9 <= width < 1e9
-            or max(abs(v), abs(lo), abs(hi)) >= 1e9):
-        return readable(v), readable(lo), readable(hi)
-    decimals = max(0, digits - 1 - math.floor(math.log10(width)))
+    out = _to_spread([v, lo, hi], abs(hi - lo), digits)
+    return out[0], out[1], out[2]
+
+
+def _to_spread(values: list[float], spread: float, digits: int) -> list[str]:
+    """``values`` written to the decimal place that gives ``spread`` (an interval's width or
+    a standard error) ``digits`` significant digits; :func:`readable` when that is not
+    defined."""
+    if (not all(math.isfinite(x) for x in values) or not 1e-9 <= spread < 1e9
+            or max(abs(x) for x in values) >= 1e9):
+        return [readable(x) for x in values]
+    decimals = max(0, digits - 1 - math.floor(math.log10(spread)))
     out = []
-    for x in (v, lo, hi):
+    for x in values:
         text = f"{round(x, decimals):.{decimals}f}"
         out.append("0" if text.lstrip("-").strip("0.") == "" else text)
-    return out[0], out[1], out[2]
+    return out
 
 
 def readable_cell(value, is_p: bool = False, digits: int = 4) -> str:
@@ -143,13 +154,27 @@ def readable_frame(table, digits: int = 4):
     >>> t = pd.DataFrame({"estimate": [0.0516349], "ci_low": [0.04012], "ci_high": [0.06318]})
     >>> readable_frame(t).iloc[0].tolist()
     ['0.052', '0.040', '0.063']
+    >>> readable_frame(pd.DataFrame({"effect": [10.8642], "std_error": [1.23456]})
+    ...                ).iloc[0].tolist()
+    ['10.9', '1.2']
     """
     out = table.copy()
     for col in out.columns:
         is_p = str(col) in P_COLUMNS
         out[col] = [readable_cell(v, is_p, digits) for v in out[col]]
     cols = [str(c) for c in table.columns]
-    value = next((c for c in VALUE_COLUMNS if c in cols), None)
+    value = next((c for c in VALUE_COLUMNS + ("coef",) if c in cols), None)
+    has_interval = any(lo in cols and hi in cols for lo, hi in INTERVAL_COLUMNS[:2])
+    for se in (c for c in SE_COLUMNS if c in cols):
+        # a standard error to two significant digits; an estimate with no interval beside
+        # it to the same decimal place
+        for i, (v, e) in enumerate(zip(table[value] if value else table[se], table[se],
+                                       strict=True)):
+            if _is_number(v) and _is_number(e) and float(e) > 0:
+                v_text, e_text = _to_spread([float(v), float(e)], float(e), 2)
+                out.iloc[i, cols.index(se)] = e_text
+                if value and se == "std_error" and not has_interval:
+                    out.iloc[i, cols.index(value)] = v_text
     for low, high in INTERVAL_COLUMNS:
         if value is None or low not in cols or high not in cols:
             continue
