@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 from malformed_sheets.make_corpus import write_trial
@@ -20,11 +21,14 @@ def test_sheet_each_format(cli, tmp_path, fmt):
     plan = load_plan(folder)
     assert out["fingerprint"] == plan.fingerprint
     files = [p for p in out["files"]]
-    expected = [str(folder / f"recording-sheet.{fmt}")]
+    # issue 17: the same names and place as the demo's sheets (trialkit.demo.run)
+    sheets = folder / "sheets"
+    expected = [str(sheets / f"recording_sheet.{fmt}")]
     if fmt == "csv":  # the test trial plans inspections: a second CSV
-        expected.append(str(folder / "recording-sheet-inspections.csv"))
+        expected = [str(sheets / "recording_sheet_coupons.csv"),
+                    str(sheets / "recording_sheet_inspections.csv")]
     assert files == expected
-    text_or_book = folder / f"recording-sheet.{fmt}"
+    text_or_book = Path(expected[0])
     if fmt == "xlsx":
         assert "Coupon readings" in load_workbook(text_or_book).sheetnames
     else:
@@ -71,7 +75,7 @@ def test_sheet_out_folder_writes_inside_and_links_are_refused(tmp_path, capsys):
     out = tmp_path / "sheets"
     out.mkdir()
     assert main(["sheet", str(tmp_path / "t"), "--format", "csv", "--out", str(out)]) == 0
-    assert (out / "recording-sheet.csv").exists()
+    assert (out / "recording_sheet.csv").exists()
     target = tmp_path / "precious.txt"
     target.write_text("keep me")
     link = tmp_path / "link.csv"

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-DEFAULT_STEM = "recording-sheet"
+from trialkit.records.sheet_names import SHEET_STEM, SHEETS_FOLDER
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
@@ -14,8 +14,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--format", dest="fmt", choices=("xlsx", "csv", "html"),
                         default="xlsx", help="sheet format (default xlsx)")
     parser.add_argument("--out", metavar="FILE", default=None,
-                        help=f"file to write (default DIR/{DEFAULT_STEM}.FORMAT); a CSV "
-                             "inspection sheet goes beside it as NAME-inspections.csv")
+                        help=f"file to write (default DIR/{SHEETS_FOLDER}/{SHEET_STEM}.FORMAT,"
+                             f" a CSV as {SHEET_STEM}_coupons.csv); a CSV inspection sheet "
+                             "goes beside it as NAME_inspections.csv")
     parser.add_argument("--paper", choices=("A4", "Letter"), default=None,
                         help="paper size of the HTML bench sheet (default from [sheet])")
     parser.add_argument("--json", action="store_true", help="print the files written as JSON")
@@ -25,30 +26,32 @@ def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import print_json
     from trialkit.planning.plan import load_plan
     from trialkit.records.config import sheet_config
+    from trialkit.records.sheet_names import sheet_paths
 
     plan = load_plan(args.folder)
     config = sheet_config(plan.trial)
     folder = plan.trial.folder or Path(args.folder)
-    out = Path(args.out) if args.out else Path(folder) / f"{DEFAULT_STEM}.{args.fmt}"
-    if out.is_dir():  # --out names a folder: the sheet goes inside it
-        out = out / f"{DEFAULT_STEM}.{args.fmt}"
-    _refuse_links(out, out.with_name(f"{out.stem}-inspections{out.suffix or '.csv'}"))
+    out = Path(args.out) if args.out else None
+    if out is not None and out.is_dir():  # --out names a folder: the sheet goes inside it
+        out = out / f"{SHEET_STEM}.{args.fmt}"
+    paths = sheet_paths(folder, args.fmt, inspections=config.has_timecourse, out=out)
+    _refuse_links(*paths)
+    paths[0].parent.mkdir(parents=True, exist_ok=True)
     written: list[Path] = []
     if args.fmt == "xlsx":
         from trialkit.records.sheets.export_xlsx import export_xlsx
 
-        written.append(export_xlsx(plan, out, config=config))
+        written.append(export_xlsx(plan, paths[0], config=config))
     elif args.fmt == "csv":
         from trialkit.records.sheets.export_csv import export_csv
 
-        written.append(export_csv(plan, out, layout="coupons", config=config))
-        if config.has_timecourse:
-            extra = out.with_name(f"{out.stem}-inspections{out.suffix or '.csv'}")
-            written.append(export_csv(plan, extra, layout="inspections", config=config))
+        written.append(export_csv(plan, paths[0], layout="coupons", config=config))
+        if len(paths) > 1:
+            written.append(export_csv(plan, paths[1], layout="inspections", config=config))
     else:
         from trialkit.records.sheets.export_html import export_html
 
-        written.append(export_html(plan, out, config=config, paper=args.paper))
+        written.append(export_html(plan, paths[0], config=config, paper=args.paper))
     if args.json:
         print_json({"fingerprint": plan.fingerprint, "files": [str(p) for p in written]})
     else:

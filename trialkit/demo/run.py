@@ -35,13 +35,13 @@ from trialkit.demo.findings import demo_findings
 from trialkit.demo.result import DemoResult, DemoStage, DemoTrial, plain_data
 from trialkit.exceptions import TrialkitError
 from trialkit.numbers import settings_text
+from trialkit.records.sheet_names import SHEET_STEM, SHEETS_FOLDER, sheet_paths
 
 #: Stages in the order they run.
 STAGES = ("copy", "plan", "recipes", "sheets", "fill", "ingest", "responses", "analysis",
           "report")
 #: What is copied from a bundled trial folder (the plan is made afresh).
 COPIED = ("trial.toml", "README.md", "readings")
-SHEETS_FOLDER = "sheets"
 FIGURES_FOLDER = "figures"
 
 ProgressCallback = Callable[[str, str, str], None]
@@ -219,14 +219,13 @@ class _Runner:
             note = (" (the trial file plans no inspections; the inspection sheet uses the "
                     f"times of the example's readings, {', '.join(f'{h:g}' for h in hours)} h)")
         self.config = config
-        folder = self.t.folder / SHEETS_FOLDER
-        folder.mkdir(exist_ok=True)
-        xlsx = export_xlsx(self.plan, folder / "recording_sheet.xlsx", config=config)
-        csvs = [export_csv(self.plan, folder / "recording_sheet_coupons.csv",
-                           layout="coupons", config=config)]
-        if config.has_timecourse:
-            csvs.append(export_csv(self.plan, folder / "recording_sheet_inspections.csv",
-                                   layout="inspections", config=config))
+        xlsx_path = sheet_paths(self.t.folder, "xlsx")[0]
+        xlsx_path.parent.mkdir(exist_ok=True)
+        xlsx = export_xlsx(self.plan, xlsx_path, config=config)
+        csvs = [export_csv(self.plan, path, layout=layout, config=config)
+                for path, layout in zip(sheet_paths(self.t.folder, "csv",
+                                                    inspections=config.has_timecourse),
+                                        ("coupons", "inspections"), strict=False)]
         self.t.paths["sheet_xlsx"] = xlsx
         self.t.paths["sheet_csv"] = csvs
         return f"wrote {xlsx.name} and {', '.join(p.name for p in csvs)}{note}"
@@ -238,7 +237,7 @@ class _Runner:
         if not readings.exists():
             raise _Skip("the example has no readings/coupons.csv to fill the sheet from")
         tc = self.t.folder / "readings" / "timecourse.csv"
-        out = self.t.folder / SHEETS_FOLDER / "recording_sheet_filled.xlsx"
+        out = self.t.folder / SHEETS_FOLDER / f"{SHEET_STEM}_filled.xlsx"
         res = fill_sheet(self.t.paths["sheet_xlsx"], readings, out,
                          timecourse=tc if tc.exists() and self.config.has_timecourse
                          else None)
