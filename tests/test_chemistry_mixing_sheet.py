@@ -118,6 +118,16 @@ def test_bill_of_materials(sheet):
     assert edta.grams == pytest.approx(total)
     assert edta.grams_with_spare == pytest.approx(total * 1.25)
     assert edta.packs == math.ceil(total * 1.25 / 1000)
+    # issue 17: grams and cost on one basis, the amount to buy (needed plus the spare)
+    from trialkit.chemistry.ingredient_table import default_catalogue
+
+    per_gram = default_catalogue().get("tetrasodium EDTA").price_per_gram()
+    assert edta.cost == pytest.approx(edta.grams_with_spare * per_gram)
+    line = next(ln for ln in s.summary().splitlines()
+                if "tetrasodium EDTA  (baths need" in ln)
+    assert line.split()[0] == f"{edta.grams_with_spare:.4g}"
+    assert f"need {total:.4g} g, {edta.cost:.2f} " in line
+    assert "cost is of the amount to buy" in s.summary()
 
 
 def test_csv_and_html(sheet, tmp_path):

@@ -124,12 +124,14 @@ class MixingSheet:
             for ln in r.lines:
                 ml = f" ({_fmt(ln.millilitres)} mL)" if ln.millilitres else ""
                 lines.append(f"      {_fmt(ln.grams, 4):>9} g{ml}  {ln.name}  [{ln.basis}]")
-        lines.append(f"  bill of materials (with {self.spare:.0%} spare):")
+        lines.append(f"  bill of materials (to buy: what the baths need plus {self.spare:.0%} "
+                     "spare; the cost is of the amount to buy):")
         for rec in self.materials.to_dict("records"):
-            cost = (f"  {rec['cost']:.2f} {rec['currency']}"
+            cost = (f", {rec['cost']:.2f} {rec['currency']}"
                     if rec.get("cost") == rec.get("cost") and rec.get("cost") is not None
                     else "")
-            lines.append(f"      {_fmt(rec['grams'], 4):>9} g  {rec['ingredient']}{cost}")
+            lines.append(f"      {_fmt(rec['grams_with_spare'], 4):>9} g  {rec['ingredient']}"
+                         f"  (baths need {_fmt(rec['grams'], 4)} g{cost})")
         return "\n".join(lines)
 
     def __repr__(self) -> str:
@@ -320,7 +322,7 @@ predicted pH {{ "%.2f"|format(r.predicted_ph) }} · ionic strength
 {% endfor %}
 <h2>Bill of materials (spare {{ (sheet.spare * 100)|round|int }} %)</h2>
 <table><tr><th>ingredient</th><th>grams</th><th>with spare</th><th>pack</th><th>packs</th>
-<th>cost</th></tr>
+<th>cost (of the amount with spare)</th></tr>
 {% for m in sheet.materials.to_dict("records") %}<tr><td>{{ m.ingredient }}</td>
 <td>{{ "%.1f"|format(m.grams) }}</td><td>{{ "%.1f"|format(m.grams_with_spare) }}</td>
 <td>{{ m.pack }}</td><td>{{ fmt(m.packs) }}</td><td>{{ fmt(m.cost) }} {{ m.currency or "" }}</td>
