@@ -124,9 +124,9 @@ def test_bill_of_materials(sheet):
     per_gram = default_catalogue().get("tetrasodium EDTA").price_per_gram()
     assert edta.cost == pytest.approx(edta.grams_with_spare * per_gram)
     line = next(ln for ln in s.summary().splitlines()
-                if "tetrasodium EDTA  (baths need" in ln)
+                if "g  tetrasodium EDTA, " in ln)
     assert line.split()[0] == f"{edta.grams_with_spare:.4g}"
-    assert f"need {total:.4g} g, {edta.cost:.2f} " in line
+    assert f"EDTA, {edta.cost:.2f} EUR  (the baths need {total:.4g} g)" in line
     assert "cost is of the amount to buy" in s.summary()
 
 

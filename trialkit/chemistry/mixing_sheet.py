@@ -131,7 +131,7 @@ class MixingSheet:
                     if rec.get("cost") == rec.get("cost") and rec.get("cost") is not None
                     else "")
             lines.append(f"      {_fmt(rec['grams_with_spare'], 4):>9} g  {rec['ingredient']}"
-                         f"  (baths need {_fmt(rec['grams'], 4)} g{cost})")
+                         f"{cost}  (the baths need {_fmt(rec['grams'], 4)} g)")
         return "\n".join(lines)
 
     def __repr__(self) -> str:
