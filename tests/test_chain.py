@@ -237,3 +237,87 @@ def test_kill_at_random_moments_keeps_every_ingest_whole_and_the_chain_intact(tm
         assert all(n == 40 == c for n, c in counts)
         start = result.ingests + 1000 * (attempt + 1)
     assert verify_log(path).ingests > 0
+
+
+# -- a log written before the hash chain existed (issue 14: migration) -------------------
+#: The schema trialkit wrote before the chain: the three tables and their four triggers,
+#: written out here as such a file holds them (not imported, so a change to today's
+#: schema cannot hide a broken migration).
+PRE_CHAIN_SCHEMA = """
+CREATE TABLE log_info (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+CREATE TABLE ingests (
+    id INTEGER PRIMARY KEY, source TEXT NOT NULL, sha256 TEXT NOT NULL UNIQUE,
+    ingested_at TEXT NOT NULL, fingerprint TEXT NOT NULL, n_values INTEGER NOT NULL);
+CREATE TABLE readings (
+    id INTEGER PRIMARY KEY, ingest_id INTEGER NOT NULL REFERENCES ingests(id),
+    coupon TEXT NOT NULL, inspection INTEGER NOT NULL, field TEXT NOT NULL,
+    value_num REAL, value_text TEXT, revision INTEGER NOT NULL,
+    UNIQUE (coupon, inspection, field, revision));
+CREATE TRIGGER readings_no_update BEFORE UPDATE ON readings
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+CREATE TRIGGER readings_no_delete BEFORE DELETE ON readings
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+CREATE TRIGGER ingests_no_update BEFORE UPDATE ON ingests
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+CREATE TRIGGER ingests_no_delete BEFORE DELETE ON ingests
+    BEGIN SELECT RAISE(ABORT, 'the record log is append-only'); END;
+INSERT INTO log_info VALUES ('schema_version', '1'), ('plan_fingerprint', 'fp1');
+INSERT INTO ingests VALUES (1, 'a.csv', 'aaaa', '2026-10-01T09:00:00+00:00', 'fp1', 2),
+                           (2, 'b.csv', 'bbbb', '2026-10-02T09:00:00+00:00', 'fp1', 1);
+INSERT INTO readings VALUES (1, 1, 'B01-R1', 0, 'mass_initial_g', 25.0, NULL, 1),
+                            (2, 1, 'B01-R1', 0, 'operator', NULL, 'MT', 1),
+                            (3, 2, 'B01-R1', 0, 'mass_initial_g', 25.5, NULL, 2);
+"""
+
+
+def _pre_chain_log(folder: Path) -> Path:
+    folder.mkdir(parents=True, exist_ok=True)
+    path = folder / "record-log.sqlite"
+    con = sqlite3.connect(path)
+    con.executescript(PRE_CHAIN_SCHEMA)
+    con.commit()
+    con.close()
+    return path
+
+
+def test_a_log_from_before_the_chain_is_adopted_and_says_so(tmp_path, capsys):
+    path = _pre_chain_log(tmp_path / "old")
+    code, out = verify(path.parent, capsys)
+    assert code == 1 and "no hash chain" in out        # not yet migrated: said plainly
+    log = RecordLog(path)                                # first open where it may write
+    assert head_path(path).exists()
+    result = verify_log(path)
+    assert result.ok, result.broken
+    assert result.ingests == 2 and result.readings == 3
+    assert any("ingests 1 to 2 were stored before the log had a hash chain" in n
+               for n in result.notes)
+    # nothing recorded changed, and the next ingest chains on
+    con = sqlite3.connect(path)
+    assert con.execute("SELECT id, coupon, field, value_num, value_text, revision FROM "
+                       "readings ORDER BY id").fetchall() == [
+        (1, "B01-R1", "mass_initial_g", 25.0, None, 1), (2, "B01-R1", "operator", None, "MT", 1),
+        (3, "B01-R1", "mass_initial_g", 25.5, None, 2)]
+    con.close()
+    add(log, [("B01-R1", 0, "mass_final_g", 24.9)], "c")
+    code, out = verify(path.parent, capsys)
+    assert code == 0 and "intact: 3 ingest(s)" in out
+    # an edit made after the adoption is caught like any other
+    con = sqlite3.connect(path)
+    con.execute("DROP TRIGGER readings_no_update")
+    con.execute("UPDATE readings SET value_num = 26.0 WHERE id = 1")
+    con.commit()
+    con.close()
+    assert verify(path.parent, capsys)[0] == 1
+
+
+def test_a_dropped_chain_is_not_adopted(log, capsys):
+    # the chain table dropped by hand (its triggers first): the head file beside the log
+    # shows it once had a chain, so opening it again must not re-chain it silently
+    con = sqlite3.connect(log.path)
+    con.executescript("DROP TRIGGER chain_no_delete; DROP TRIGGER chain_no_update; "
+                      "DROP TABLE chain;")
+    con.commit()
+    con.close()
+    RecordLog(log.path)
+    code, out = verify(log.path.parent, capsys)
+    assert code == 1 and "has no link in the chain" in out

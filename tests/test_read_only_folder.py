@@ -105,3 +105,37 @@ def test_reading_commands_work_and_writing_ones_refuse(read_only_trial):
         assert "Traceback" not in said, (args, said)
         assert hint in said and "othing" in said, (args, said)   # "[Nn]othing ... stored"
     assert _snapshot(folder) == before
+
+
+def test_a_log_from_before_the_chain_is_read_where_it_may_not_be_migrated():
+    # its chain is added the first time it is opened where it may be written; in a
+    # read-only folder it is read as it is, and verify says it has no chain yet
+    from test_chain import PRE_CHAIN_SCHEMA
+
+    base = Path(tempfile.mkdtemp(prefix="trialkit-ro-old-"))
+    os.chmod(base, 0o755)
+    try:
+        folder = make_test_plan(base / "trial").trial.folder
+        import sqlite3
+
+        con = sqlite3.connect(folder / "record-log.sqlite")
+        con.executescript(PRE_CHAIN_SCHEMA)
+        con.commit()
+        con.close()
+        scratch = base / "scratch"
+        scratch.mkdir()
+        os.chmod(scratch, 0o777)
+        for path in [folder, *folder.rglob("*")]:
+            os.chmod(path, 0o555 if path.is_dir() else 0o444)
+        before = _snapshot(folder)
+        shown = _run(["history", str(folder), "--json"], scratch)
+        assert shown.returncode == 0, shown.stderr
+        assert '"MT"' in shown.stdout and "25.5" in shown.stdout
+        checked = _run(["verify", str(folder)], scratch)
+        assert checked.returncode == 1 and "no hash chain" in checked.stdout, checked
+        assert _snapshot(folder) == before
+        assert not (folder / "record-log.sqlite.head").exists()
+    finally:
+        for path in [base, *base.rglob("*")]:
+            os.chmod(path, 0o777 if path.is_dir() else 0o666)
+        shutil.rmtree(base)

@@ -103,6 +103,55 @@ def write_head(log_path: str | os.PathLike, head: str, ingests: int,
     os.replace(tmp, target)
 
 
+def adopt_unchained(log_path: str | os.PathLike, con: sqlite3.Connection) -> int:
+    """Chain the ingests of a log written before the hash chain existed (a migration).
+
+    Runs on a connection inside a write transaction, after the ``chain`` table was created,
+    and only when the log has ingests, no links and no head file (a log that once had a
+    chain always has a head file beside it: its links missing is tampering, reported by
+    :func:`verify_log`, not adopted).  The adopted ingests are linked in order and the
+    adoption is recorded in ``log_info`` (``chain_adopted``: how many ingests, when), so
+    :func:`verify_log` always says that changes made to them *before* the adoption cannot
+    be detected.  Returns the number of ingests adopted (0 when nothing was to do).
+    """
+    if head_path(log_path).exists():
+        return 0
+    if con.execute("SELECT COUNT(*) FROM chain").fetchone()[0]:
+        return 0
+    ids = [r[0] for r in con.execute("SELECT id FROM ingests ORDER BY id")]
+    if not ids:
+        return 0
+    prev = GENESIS
+    for ingest_id in ids:
+        link = link_hash(con, ingest_id, prev)
+        con.execute("INSERT INTO chain (ingest_id, prev, hash) VALUES (?, ?, ?)",
+                    (ingest_id, prev, link))
+        prev = link
+    import datetime as dt
+
+    when = dt.datetime.now(dt.UTC).isoformat(timespec="seconds")
+    con.execute("INSERT OR IGNORE INTO log_info VALUES ('chain_adopted', ?)",
+                (json.dumps({"ingests": len(ids), "at": when}, sort_keys=True),))
+    write_head(log_path, GENESIS, 0, pending=prev)
+    return len(ids)
+
+
+def adoption_note(con: sqlite3.Connection) -> str:
+    """The sentence :func:`verify_log` adds for a log whose first ingests were adopted by
+    :func:`adopt_unchained` (``""`` when they were not)."""
+    row = con.execute("SELECT value FROM log_info WHERE key = 'chain_adopted'").fetchone()
+    if not row:
+        return ""
+    try:
+        info = json.loads(row[0])
+        n, when = int(info["ingests"]), str(info["at"])
+    except (ValueError, KeyError, TypeError):
+        return "the log records a chain adoption it cannot read: it was edited"
+    return (f"ingests 1 to {n} were stored before the log had a hash chain and were chained "
+            f"when this version of trialkit first opened it ({when}); a change made to them "
+            "before then cannot be detected")
+
+
 @contextlib.contextmanager
 def ingest_lock(log_path: str | os.PathLike):
     """Serialise ingests across processes (with the head-file writes) where flock exists."""
@@ -222,6 +271,9 @@ def verify_log(log_path: str | os.PathLike) -> LogVerification:
                                 "it was edited")
         head = prev
         broken = chain_broken + broken
+        adopted = adoption_note(con)
+        if adopted:
+            (broken if "edited" in adopted else notes).append(adopted)
         _check_head_file(path, head, len(ingests), broken, notes)
         return LogVerification(path, not broken, len(ingests), n_read, head, broken, notes)
     finally:

@@ -9,8 +9,10 @@ not stored again; a file whose SHA-256 is already in the log changes nothing.
 
 Every ingest is also a link of a hash chain (table ``chain``; the newest link is kept a
 second time in ``record-log.sqlite.head``), which :func:`trialkit.records.chain.verify_log`
-and ``trialkit verify`` check.  Opening an existing log writes nothing; SQLite's quick
-integrity check runs when a log is opened and before every ingest.
+and ``trialkit verify`` check.  Opening an existing log writes nothing, except that a log
+written before the hash chain existed gets its chain the first time it is opened where it
+may be written (its ingests adopted in order; ``trialkit verify`` says so from then on);
+SQLite's quick integrity check runs when a log is opened and before every ingest.
 
 Schema (version 1)::
 
@@ -144,13 +146,14 @@ class RecordLog:
                 self.check_integrity()
                 if self._complete():
                     return  # nothing to create: opening never writes (read-only folders)
-            con = self._connect()
-            con.execute("PRAGMA journal_mode=WAL")
-            con.executescript(_SCHEMA + chain.CHAIN_SCHEMA)
-            con.execute("INSERT OR IGNORE INTO log_info VALUES ('schema_version', ?)",
-                        (SCHEMA_VERSION,))
-            con.commit()
-            con.close()
+            try:
+                self._create_or_migrate()
+            except (OSError, sqlite3.OperationalError):
+                if not self.path.exists():
+                    raise
+                # a log from before the hash chain in a folder that may not be written:
+                # read it as it is (reading commands work; ingests say the folder is not
+                # writable, and 'trialkit verify' says the log has no chain yet)
         except sqlite3.OperationalError as exc:
             raise RecordLogError(f"cannot open the record log {self.path}: {exc}. Is the "
                                  "trial folder writable? Nothing was changed.") from None
@@ -158,6 +161,27 @@ class RecordLog:
             raise RecordLogError(f"cannot open the record log {self.path}: {exc}. It is "
                                  "damaged or not a trialkit record log; nothing was "
                                  "changed.") from None
+
+    def _create_or_migrate(self) -> None:
+        """Create the schema; a log from before the hash chain gets its chain (its ingests
+        adopted in order, :func:`trialkit.records.chain.adopt_unchained`), in one
+        transaction under the ingest lock."""
+        with chain.ingest_lock(self.path):
+            con = self._connect()
+            try:
+                con.execute("PRAGMA journal_mode=WAL")
+                con.executescript(_SCHEMA + chain.CHAIN_SCHEMA)
+                con.execute("BEGIN IMMEDIATE")
+                con.execute("INSERT OR IGNORE INTO log_info VALUES ('schema_version', ?)",
+                            (SCHEMA_VERSION,))
+                adopted = chain.adopt_unchained(self.path, con)
+                con.execute("COMMIT")
+                if adopted:
+                    chain.write_head(self.path, chain.last_hash(con), adopted)
+            finally:
+                if con.in_transaction:
+                    con.execute("ROLLBACK")
+                con.close()
 
     def _complete(self) -> bool:
         """True when the file already holds every table and trigger of the log."""
