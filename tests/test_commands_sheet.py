@@ -84,3 +84,18 @@ def test_sheet_out_folder_writes_inside_and_links_are_refused(tmp_path, capsys):
     assert main(["sheet", str(tmp_path / "t"), "--format", "csv", "--out", str(link)]) == 2
     assert "is a symbolic link" in capsys.readouterr().err
     assert target.read_text() == "keep me"
+
+
+def test_every_command_that_works_from_a_plan_checks_the_metal(cli, tmp_path):
+    # issue 14: a coupon metal with no density (ASTM G1 Table X1.1 lists the densities) is
+    # refused before bench work by every command that reads the plan, not only by 'plan'
+    extra = ('\n[coupons]\nshape = "plate"\nlength = 50\nwidth = 25\nthickness = 2\n'
+             'metal = "unobtainium"\n\n[[response]]\nname = "attack"\n'
+             'measure = "corrosion_rate_mm_per_y"\naim = "lower"\n')
+    folder = write_trial(tmp_path / "trial", extra=extra)
+    for args in (["plan", str(folder)], ["sheet", str(folder)], ["evaluate", str(folder)]):
+        res = cli(*args)
+        assert res.returncode == 1, (args, res.stdout, res.stderr)
+        assert "coupons.metal" in res.stderr and "unobtainium" in res.stderr, args
+        assert "Traceback" not in res.stderr
+    assert not (folder / "sheets").exists() and not (folder / "plan.csv").exists()

@@ -1,4 +1,5 @@
-"""Small helpers shared by the command modules: JSON printing, finding the trial folder."""
+"""Small helpers shared by the command modules: JSON printing, finding the trial folder,
+loading a checked plan."""
 
 from __future__ import annotations
 
@@ -70,3 +71,19 @@ def trial_folder_for(explicit: str | None, near: str | Path | None = None) -> st
     where = f" nor beside {near} or above it" if near is not None else ""
     raise SheetError(f"no {TRIAL_FILE_NAME} in the current folder{where}; say which trial "
                      "with --trial DIR (the folder holding its trial file)")
+
+
+def load_checked_plan(folder):
+    """The plan of the trial in ``folder`` (:func:`trialkit.planning.plan.load_plan`), with
+    the checks that need the response layer: every response names a known measure and the
+    coupon metal has a density when a response needs one (a :class:`TrialFileError`
+    listing the problems otherwise).  Every command that works from a plan uses it, so a
+    trial file edited after planning is checked again before bench work."""
+    from trialkit.planning.plan import load_plan
+    from trialkit.responses.materials import check_coupon_metal
+    from trialkit.responses.measures import check_measures
+
+    plan = load_plan(folder)
+    check_measures(plan.trial)
+    check_coupon_metal(plan.trial)
+    return plan

@@ -14,12 +14,11 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.commands._output import print_json
+    from trialkit.commands._output import load_checked_plan, print_json
     from trialkit.commands.evaluate import evaluation_kwargs
     from trialkit.planning.comparison import compare_plans
-    from trialkit.planning.plan import load_plan
 
-    plans = [load_plan(t) for t in args.trials]
+    plans = [load_checked_plan(t) for t in args.trials]
     names = [p.trial.title for p in plans]
     if len(set(names)) != len(names):
         names = [str(t) for t in args.trials]

@@ -82,12 +82,11 @@ def _split_plot_power(plan, ev):
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.commands._output import print_json
+    from trialkit.commands._output import load_checked_plan, print_json
     from trialkit.numbers import readable
     from trialkit.planning.evaluation import evaluate_plan
-    from trialkit.planning.plan import load_plan
 
-    plan = load_plan(args.trial)
+    plan = load_checked_plan(args.trial)
     ev = evaluate_plan(plan, **evaluation_kwargs(args))
     has_effects = bool(ev.summary.effect.notna().any())
     reps = ev.replicates_needed() if ev.estimable and has_effects else None

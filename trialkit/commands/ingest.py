@@ -20,11 +20,10 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.commands._output import print_json, trial_folder_for
-    from trialkit.planning.plan import load_plan
+    from trialkit.commands._output import load_checked_plan, print_json, trial_folder_for
     from trialkit.records.sheets.ingest import ingest_sheet
 
-    plan = load_plan(trial_folder_for(args.trial, near=args.sheet))
+    plan = load_checked_plan(trial_folder_for(args.trial, near=args.sheet))
     report = ingest_sheet(args.sheet, plan, allow_mass_gain=args.allow_mass_gain)
     if args.json:
         print_json(report.to_dict())

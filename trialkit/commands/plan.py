@@ -24,14 +24,9 @@ def _refuse_relabelling(plan, out: Path) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.commands._output import print_json
-    from trialkit.planning.plan import load_plan
-    from trialkit.responses.materials import check_coupon_metal
-    from trialkit.responses.measures import check_measures
+    from trialkit.commands._output import load_checked_plan, print_json
 
-    plan = load_plan(args.trial)
-    check_measures(plan.trial)
-    check_coupon_metal(plan.trial)
+    plan = load_checked_plan(args.trial)
     out = Path(args.out) if args.out else plan.trial.folder
     _refuse_relabelling(plan, out)
     path = plan.write(out)

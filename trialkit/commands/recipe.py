@@ -19,9 +19,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from trialkit.chemistry.mixing_sheet import recipes_for_plan
-    from trialkit.planning.plan import load_plan
+    from trialkit.commands._output import load_checked_plan
 
-    plan = load_plan(args.trial)
+    plan = load_checked_plan(args.trial)
     sheet = recipes_for_plan(plan)
     folder = Path(args.out) if args.out else Path(plan.trial.folder)
     folder.mkdir(parents=True, exist_ok=True)

@@ -23,12 +23,11 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trialkit.commands._output import print_json
-    from trialkit.planning.plan import load_plan
+    from trialkit.commands._output import load_checked_plan, print_json
     from trialkit.records.config import sheet_config
     from trialkit.records.sheet_names import sheet_paths
 
-    plan = load_plan(args.folder)
+    plan = load_checked_plan(args.folder)
     config = sheet_config(plan.trial)
     folder = plan.trial.folder or Path(args.folder)
     out = Path(args.out) if args.out else None
