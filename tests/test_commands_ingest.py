@@ -42,6 +42,9 @@ def test_refused_exit_code_and_all_problems(cli, tmp_path):
     text = cli("ingest", str(sheet), "--trial", str(plan.trial.folder))
     assert text.returncode == 1
     assert "bad.csv" in text.stdout and "--allow-mass-gain" in text.stdout
+    # a refused first sheet leaves no record log behind (an empty log would read as
+    # "recorded, but every value missing")
+    assert not list(plan.trial.folder.glob("record-log.sqlite*"))
     fixed = fill_csv(blank, tmp_path / "fixed.csv",
                      {"B01-R1": {"mass_initial_g": 25.0, "mass_final_g": 25.5}})
     res = cli("ingest", str(fixed), "--trial", str(plan.trial.folder), "--allow-mass-gain")

@@ -92,3 +92,16 @@ def test_responses_without_record_log(tmp_path, cli):
     assert result.returncode == 2
     assert "no record log" in result.stderr and "trialkit ingest" in result.stderr
     assert not (folder / "record-log.sqlite").exists()  # reading never creates a log
+
+
+def test_responses_with_an_empty_record_log(tmp_path, cli):
+    # a log that holds no readings says so once, not one problem per bath
+    from trialkit.records.log import RecordLog
+
+    folder = tmp_path / "t"
+    cli("new", str(folder))
+    RecordLog.for_folder(folder)
+    result = cli("responses", str(folder))
+    assert result.returncode == 2
+    assert "holds no readings yet" in result.stderr and "trialkit ingest" in result.stderr
+    assert "witness" not in result.stdout + result.stderr

@@ -23,6 +23,10 @@ def run(args: argparse.Namespace) -> int:
     from trialkit.commands._output import load_checked_plan, print_json, trial_folder_for
     from trialkit.records.sheets.ingest import ingest_sheet
 
+    from pathlib import Path
+
+    if not Path(args.sheet).is_file():
+        raise FileNotFoundError(2, "no such file", args.sheet)
     plan = load_checked_plan(trial_folder_for(args.trial, near=args.sheet))
     report = ingest_sheet(args.sheet, plan, allow_mass_gain=args.allow_mass_gain)
     if args.json:

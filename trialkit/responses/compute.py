@@ -358,7 +358,8 @@ def load_responses(folder: str | os.PathLike, *, metal: str | None = None,
     Raises
     ------
     ResponseError
-        The folder has no record log yet (nothing has been ingested).
+        The folder has no record log yet, or one with no readings (nothing has been
+        ingested).
     """
     from trialkit.planning.plan import load_plan
     from trialkit.records import log as store
@@ -378,6 +379,10 @@ def load_responses(folder: str | os.PathLike, *, metal: str | None = None,
     )
 
     log = store.RecordLog.for_folder(trial_folder)
+    if log.count() == 0:
+        raise ResponseError(
+            f"the record log in {trial_folder} holds no readings yet; nothing has been "
+            "recorded. Fill in a sheet and read it in with 'trialkit ingest'.")
     source = coverage_source(plan.trial)  # [photos] coverage_from: hand or photo
     readings = use_coverage(log.current_values(plan=plan), source)
     timecourse = timecourse_from_log(use_coverage_long(log.current_timecourse(), source),

@@ -154,14 +154,14 @@ def ingest_sheet(path: str | Path, plan: Any, *, log: Any = None,
     -------
     IngestReport
     """
-    from trialkit.records.log import RecordLog
+    from trialkit.records.log import LOG_FILE, RecordLog
 
-    if log is None:
-        log = RecordLog.for_folder(plan.trial.folder)
     path = Path(path)
     data = path.read_bytes()  # read once: the hash and the checks see the same bytes
     sha = hashlib.sha256(data).hexdigest()
-    seen = log.ingest_of(sha)
+    if log is None and (Path(plan.trial.folder) / LOG_FILE).exists():
+        log = RecordLog.for_folder(plan.trial.folder)
+    seen = log.ingest_of(sha) if log is not None else None
     empty = pd.DataFrame(columns=["coupon", "inspection", "field", "value", "revision"])
     if seen:
         return IngestReport(path.name, sha, "already_ingested", empty, 0,
@@ -174,6 +174,8 @@ def ingest_sheet(path: str | Path, plan: Any, *, log: Any = None,
         n = len(checked.problems)
         return IngestReport(path.name, checked.sha256, "refused", empty, 0, checked.problems,
                             f"refused: {n} problem{'s' if n != 1 else ''}; nothing was stored")
+    if log is None:  # the first accepted sheet creates the log (a refused one leaves none)
+        log = RecordLog.for_folder(plan.trial.folder)
     result = log.add_readings(checked.readings, source=path.name, sha256=checked.sha256,
                               fingerprint=str(plan.fingerprint))
     if result.status == "already_ingested":
