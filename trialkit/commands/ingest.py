@@ -20,10 +20,10 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from pathlib import Path
+
     from trialkit.commands._output import load_checked_plan, print_json, trial_folder_for
     from trialkit.records.sheets.ingest import ingest_sheet
-
-    from pathlib import Path
 
     if not Path(args.sheet).is_file():
         raise FileNotFoundError(2, "no such file", args.sheet)
