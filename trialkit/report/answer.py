@@ -69,7 +69,7 @@ def answer_blocks(data: TrialAnalysis, findings) -> list[Block]:
         blocks.append(Block.para(f"To mix one bath of {readable(r.volume_l)} L: {amounts}; make up "
                                  f"to volume with water (predicted pH {r.predicted_ph:.2f}). "
                                  "Read the safety cautions before mixing; the full steps are under "
-                                 "'The recommended recipe' in the report."))
+                                 "'The recommended recipe'."))
     wanted = {n for n, s in data.specs.items() if s.is_wanted}
     said = [f.text for f in findings if f.response == primary and f.kind in TELLING]
     said += [f.text for f in findings if f.response != primary and f.kind in TELLING
