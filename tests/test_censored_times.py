@@ -121,3 +121,24 @@ def test_the_other_factor_is_estimated_from_the_baths_that_carry_it(tmp_path, se
     rec = data.recommendation["predictions"].set_index("response").loc["time_to_clean"]
     assert rec.scale.startswith("log (median")
     assert 0 < rec.ci_low <= rec.predicted <= rec.ci_high
+
+
+def test_too_few_finished_baths_shrink_the_censored_model_to_main_effects():
+    # issue 15: four finished baths cannot carry a + b + a:b (four coefficients and a
+    # scale), but they can carry the main effects; with two finished nothing is fitted
+    from trialkit.analysis.censored import fit_censored
+    from trialkit.analysis.censored_times import fit_shrinking
+    from trialkit.exceptions import AnalysisError
+    from trialkit.trial.factors import Factor
+
+    a, b = Factor.continuous("a", 0, 1), Factor.continuous("b", 0, 1)
+    t = pd.DataFrame({"a": [0, 1, 0, 1, 0, 1], "b": [0, 0, 1, 1, 0, 1],
+                      "time": [5.0, 3, 4, 2, 9, 9], "censored": [0, 0, 0, 0, 1, 1]})
+    with pytest.raises(AnalysisError, match="only 4 baths reached"):
+        fit_censored(t, "time", [a, b], "a + b + a:b", censored="censored")
+    fit, model, why = fit_shrinking(t, [a, b], "a + b + a:b", 0.05)
+    assert model == "a + b" and why == ""
+    same = fit_censored(t, "time", [a, b], "a + b", censored="censored")
+    assert list(fit.beta) == pytest.approx(list(same.beta)) and fit.columns == same.columns
+    t2 = t.assign(censored=[0, 0, 1, 1, 1, 1])
+    assert fit_shrinking(t2, [a, b], "a + b + a:b", 0.05)[:2] == (None, None)

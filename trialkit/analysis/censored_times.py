@@ -128,7 +128,6 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
     """Count the censored baths of a time response and, when there are any (or no linear
     model could be fitted), fit the time with them right-censored.  The plain result goes
     to ``data.censoring``, the fit to ``data.censored_fits``."""
-    from trialkit.analysis.censored import fit_censored
     from trialkit.trial.model_grammar import parse_model
 
     if fit is not None:
@@ -162,13 +161,19 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
         out["censored_fit_uses"] = (f"the {len(table)} baths not at a level where every "
                                     "bath was still short of the level")
     if (len(cens) or fit is None) and len(table):
-        try:
-            cf = fit_censored(table, "time", used, terms or None, censored="censored",
-                              alpha=fit.alpha if fit is not None else 0.05)
+        alpha = fit.alpha if fit is not None else 0.05
+        cf, model, error = fit_shrinking(table, used, terms or None, alpha)
+        if cf is None:
+            out["censored_fit_error"] = error
+        else:
             out["censored_fit"] = cf.to_dict()
+            out["censored_fit_model"] = model or "intercept only"
             data.censored_fits[spec.name] = cf
-        except TrialkitError as exc:
-            out["censored_fit_error"] = first_line(exc)
+            if model != (terms or None):
+                finished = int((~table["censored"].astype(bool)).sum())
+                data.note("analysis", f"{spec.name}: only {finished} baths reached "
+                          f"{int(level)} % removal, too few for the model {terms}; the "
+                          f"censored time model has the main effects only ({model})")
     if len(cens):
         data.note("analysis", f"{spec.name}: {len(cens)} of {out['n_baths']} baths had not "
                               f"reached {int(level)} % removal by their last inspection; "
@@ -177,6 +182,35 @@ def censored_times(data: TrialAnalysis, spec, fit=None) -> None:
                               "that long; the linear model, if any, uses only the baths "
                               "that got there")
     data.censoring[spec.name] = out
+
+
+def fit_shrinking(table: pd.DataFrame, used: list, terms: str | None, alpha: float):
+    """The censored time fit of ``terms``, or of the main effects alone when too few baths
+    finished for ``terms``: ``(fit, model fitted, "")``, or ``(None, None, why)``.
+
+    >>> import pandas as pd
+    >>> from trialkit.trial.factors import Factor
+    >>> a, b = Factor.continuous("a", 0, 1), Factor.continuous("b", 0, 1)
+    >>> t = pd.DataFrame({"a": [0, 1, 0, 1, 0, 1], "b": [0, 0, 1, 1, 0, 1],
+    ...                   "time": [5.0, 3, 4, 2, 9, 9], "censored": [0, 0, 0, 0, 1, 1]})
+    >>> fit, model, why = fit_shrinking(t, [a, b], "a + b + a:b", 0.05)
+    >>> model, fit.n_censored
+    ('a + b', 2)
+    """
+    from trialkit.analysis.censored import fit_censored
+
+    tried = [terms]
+    main = " + ".join(f.name for f in used) or None
+    if terms and terms != main:
+        tried.append(main)
+    error = ""
+    for model in tried:
+        try:
+            return fit_censored(table, "time", used, model, censored="censored",
+                                alpha=alpha), model, ""
+        except TrialkitError as exc:
+            error = first_line(exc)
+    return None, None, error
 
 
 def uses_censored_model(data: TrialAnalysis, name: str) -> bool:
