@@ -134,7 +134,7 @@ def diagnose(fit, *, alpha: float = 0.05) -> Diagnostics:
         drift = {"rho": float(rho_d), "p": float(p_d)}
     else:
         drift = {"rho": float("nan"), "p": float("nan")}
-    y = fit.y + float(fit.shift)
+    y = fit.transform.back(fit.y + float(fit.shift))   # the response in its own unit
     box = None
     if np.all(y > 0) and fit.df_resid > 1:
         grid = np.linspace(-2, 2, 401)
@@ -149,5 +149,12 @@ def diagnose(fit, *, alpha: float = 0.05) -> Diagnostics:
         box = {"lambda_hat": lam, "ci_low": lo, "ci_high": hi, "suggested": suggested,
                "transform": NAMES[suggested],
                "recommended": bool(grows and not lo <= 1.0 <= hi),
-               "raw_scale_supported": bool(lo <= 1.0 <= hi)}
+               "raw_scale_supported": bool(lo <= 1.0 <= hi),
+               # the scale the model uses, checked: raw is power 1, log (of y) power 0; a
+               # logit is no power transform, so Box-Cox does not judge it
+               "chosen_scale": fit.transform.kind,
+               "chosen_scale_supported": (bool(lo <= 1.0 <= hi) if fit.transform.is_raw
+                                          else bool(lo <= 0.0 <= hi)
+                                          if fit.transform.kind == "log"
+                                          and not fit.transform.low else None)}
     return Diagnostics(table, normality, spread, box, drift)

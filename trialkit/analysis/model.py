@@ -33,6 +33,7 @@ from trialkit.analysis.data import finite, prepare, response_column
 from trialkit.analysis.exact import shift_decimal
 from trialkit.analysis.linear import LeastSquares, least_squares
 from trialkit.analysis.natural import natural_coefficients
+from trialkit.analysis.response_scale import RAW, ResponseScale
 from trialkit.exceptions import AnalysisError
 from trialkit.numbers import readable
 from trialkit.trial.factors import Factor
@@ -67,6 +68,10 @@ class ModelFit:
     limits : tuple
         Physical range ``(low, high)`` of the response (None: no bound on that side);
         :meth:`predict` cuts predictions and intervals to it and flags the rows it cut.
+    transform : ResponseScale
+        The scale the response was fitted on (:mod:`trialkit.analysis.response_scale`);
+        ``y``, the coefficients and the residuals are on it, :meth:`predict` and
+        :meth:`profile` transform back to the response's unit.
     """
 
     spec: ModelSpec
@@ -80,12 +85,15 @@ class ModelFit:
     alpha: float = 0.05
     n_dropped: int = 0
     limits: tuple = (None, None)
+    transform: ResponseScale = RAW
     _cache: dict = field(default_factory=dict, repr=False)
 
     @property
     def scale(self) -> str:
         """How the model respects the response's physical range (a sentence)."""
         lo, hi = self.limits
+        if not self.transform.is_raw:
+            return self.transform.describe()
         if lo is None and hi is None:
             return "raw scale (no physical range known)"
         return (f"raw scale; predictions and intervals cut to the physical range "
@@ -235,7 +243,11 @@ class ModelFit:
                             "ci_high": pred + t * se, "pi_low": pred - t * se_pi,
                             "pi_high": pred + t * se_pi})
         lo, hi = self.limits
-        if clip and (lo is not None or hi is not None):
+        if not self.transform.is_raw:   # back to the response's unit: inside its range
+            for c in ("predicted", "ci_low", "ci_high", "pi_low", "pi_high"):
+                out[c] = self.transform.back(out[c].to_numpy())
+            out["clipped"] = False
+        elif clip and (lo is not None or hi is not None):
             cols = ["predicted", "ci_low", "ci_high", "pi_low", "pi_high"]
             raw = out[cols].to_numpy()
             cut = np.clip(raw, -np.inf if lo is None else lo, np.inf if hi is None else hi)
@@ -288,9 +300,11 @@ class ModelFit:
         var = np.einsum("ij,jk,ik->i", X, self.ls.xtx_inv, X) * self.sigma2
         t = self._t()
         se, se_pi = np.sqrt(var), np.sqrt(var + self.sigma2)
+        back = self.transform.back
         return pd.concat([grid, pd.DataFrame({
-            "predicted": pred, "se_fit": se, "ci_low": pred - t * se, "ci_high": pred + t * se,
-            "pi_low": pred - t * se_pi, "pi_high": pred + t * se_pi})], axis=1)
+            "predicted": back(pred), "se_fit": se, "ci_low": back(pred - t * se),
+            "ci_high": back(pred + t * se), "pi_low": back(pred - t * se_pi),
+            "pi_high": back(pred + t * se_pi)})], axis=1)
 
     # -- tables and output ----------------------------------------------------------
     def anova(self, typ: int = 2):
@@ -318,7 +332,8 @@ class ModelFit:
 
         out = {"response": self.response, "model": self.spec.to_text(), "n": self.n,
                "n_dropped": self.n_dropped, "alpha": self.alpha,
-               "physical_range": list(self.limits), "scale": self.scale}
+               "physical_range": list(self.limits), "scale": self.scale,
+               "scale_kind": self.transform.kind}
         out.update(table.to_dict())
         out.update({"r_squared": finite(self.r_squared),
                     "adj_r_squared": finite(self.adj_r_squared),
@@ -389,7 +404,7 @@ def with_block(spec: ModelSpec, natural: pd.DataFrame, block: str | None
 def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
               model: str | ModelSpec = "main", *, block: str | None = BLOCK,
               alpha: float = 0.05, coding: str = "sum",
-              limits: tuple = (None, None)) -> ModelFit:
+              limits: tuple = (None, None), scale: str = "raw") -> ModelFit:
     """Fit ``response`` to a model over ``factors`` on a bath-level table.
 
     Parameters
@@ -410,6 +425,8 @@ def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
         Contrasts of categorical factors (type 3 tables require "sum").
     limits : tuple
         Physical range of the response, ``(low, high)``, None for no bound.
+    scale : {"raw", "log", "logit"}
+        The scale the response is fitted on (:mod:`trialkit.analysis.response_scale`).
 
     Returns
     -------
@@ -429,7 +446,10 @@ def fit_model(table: pd.DataFrame, response: str, factors: Sequence[Factor],
         raise AnalysisError(
             f"the model {spec.to_text()!r} has {p} coefficients but only {n} baths have "
             f"{response!r}; use a smaller model (e.g. 'main') or run more baths")
-    y, shift = shift_decimal(natural[column].tolist(), name=column)
+    transform = ResponseScale.for_response(scale, tuple(limits))
+    values = natural[column].tolist() if transform.is_raw else \
+        transform.forward(natural[column].astype(float), name=response).tolist()
+    y, shift = shift_decimal(values, name=column)
     ls = least_squares(mm.X, y, mm.columns)
     return ModelFit(spec, response, natural, coded, mm, ls, y, shift, alpha, prep.n_dropped,
-                    tuple(limits))
+                    tuple(limits), transform)

@@ -228,7 +228,7 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
                   aim: str = "higher", reduce: str = "none", threshold: float = 0.05,
                   n_boot: int = 2000, seed: int = 0, tolerance: float | None = None,
                   relative_tolerance: float = 0.05,
-                  limits: tuple = (None, None)) -> AnalysisResult:
+                  limits: tuple = (None, None), scale: str = "raw") -> AnalysisResult:
     """Analyse one response of a bath-level table (see the module docstring).
 
     ``limits`` is the response's physical range: predictions and intervals are cut to it
@@ -248,10 +248,11 @@ def analyze_table(table: pd.DataFrame, response: str, factors: Sequence[Factor],
                                 f"{[f.name for f in factors]}")
         sw = fit_sweep(table, response, fac, aim=aim, tolerance=tolerance,
                        relative_tolerance=relative_tolerance, alpha=alpha, n_boot=n_boot,
-                       seed=seed, block=block, limits=limits)
+                       seed=seed, block=block, limits=limits, scale=scale)
         return AnalysisResult(sw.fit, anova_type, sweep=sw, diagnostics=diagnose(sw.fit))
     text = model or default_model(table, response, factors)
-    fit = fit_model(table, response, factors, text, block=block, alpha=alpha, limits=limits)
+    fit = fit_model(table, response, factors, text, block=block, alpha=alpha, limits=limits,
+                    scale=scale)
     red = None
     if reduce != "none":
         red = reduce_model(fit, criterion=reduce, threshold=threshold)

@@ -365,6 +365,11 @@ def _equivalence_text(data: TrialAnalysis, primary: str, settings: dict,
     from trialkit.analysis.config import AnalysisConfig
 
     fit = data.fits[primary]
+    if not fit.transform.is_raw:
+        return (", ".join(spoken(n) for n in quiet) + f": no detectable effect; the model "
+                f"of {spoken(primary)} is on the {fit.transform.kind} scale, so the change is "
+                "not bounded in the response's unit and the trial cannot say that either "
+                "setting will do")
     cfg = (data.trial.sections or {}).get("analysis")
     cfg = cfg if isinstance(cfg, AnalysisConfig) else AnalysisConfig()
     pred = float(fit.predict(settings, clip=False).predicted.iloc[0])

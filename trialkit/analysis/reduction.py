@@ -78,7 +78,8 @@ class ReductionResult:
 
 def _refit(fit: ModelFit, spec) -> ModelFit:
     return fit_model(fit.natural, fit.response, spec.factors, spec, block=None,
-                     alpha=fit.alpha, coding=fit.mm.coding, limits=fit.limits)
+                     alpha=fit.alpha, coding=fit.mm.coding, limits=fit.limits,
+                     scale=fit.transform.kind)
 
 
 def reduce_model(fit: ModelFit, *, criterion: str = "p", threshold: float = 0.05

@@ -163,7 +163,8 @@ def fieller_vertex(b1: float, b2: float, v11: float, v12: float, v22: float, t: 
 def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = "higher",
               tolerance: float | None = None, relative_tolerance: float = 0.05,
               alpha: float = 0.05, n_boot: int = 2000, seed: int = 0,
-              block: str | None = None, limits: tuple = (None, None)) -> SweepResult:
+              block: str | None = None, limits: tuple = (None, None),
+              scale: str = "raw") -> SweepResult:
     """Analyse a sweep of ``factor`` (see the module docstring).
 
     Parameters
@@ -173,6 +174,9 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
         ``relative_tolerance * |best prediction|``.
     limits : tuple
         Physical range of the response (predictions and intervals are cut to it).
+    scale : {"raw", "log", "logit"}
+        The scale the quadratic is fitted on (the best level is the same on every
+        monotone scale; predictions are transformed back).
     """
     if aim not in ("higher", "lower"):
         raise AnalysisError(f"aim must be 'higher' or 'lower', got {aim!r}")
@@ -180,7 +184,7 @@ def fit_sweep(table: pd.DataFrame, response: str, factor: Factor, *, aim: str = 
         raise AnalysisError(f"a sweep needs a continuous factor; {factor.name!r} is "
                             f"{factor.kind}")
     fit = fit_model(table, response, [factor], f"{factor.name} + {factor.name}^2",
-                    block=block, alpha=alpha, limits=limits)
+                    block=block, alpha=alpha, limits=limits, scale=scale)
     levels = fit.natural[factor.name].astype(float)
     if levels.nunique() < 3:
         raise AnalysisError(f"a sweep needs at least three levels of {factor.name!r}; got "

@@ -279,7 +279,8 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
                                 aim=_aim(spec) if spec.is_wanted else "higher",
                                 reduce=cfg.reduce, threshold=cfg.threshold, n_boot=boot,
                                 seed=trial.seed, tolerance=cfg.tolerance,
-                                relative_tolerance=cfg.relative_tolerance, limits=limits)
+                                relative_tolerance=cfg.relative_tolerance, limits=limits,
+                                scale=spec.scale)
         except TrialkitError as exc:
             data.note("analysis", f"{spec.name}: no model could be fitted ({first_line(exc)})")
             if is_censorable(spec):

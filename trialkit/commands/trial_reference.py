@@ -64,6 +64,11 @@ DOCS: dict[str, dict[str, tuple[str, str, str]]] = {
         "margin": ("number > 0", "[analysis] tolerance",
                    "a difference too small to matter, in the response's unit: 'either "
                    "setting will do' is said only when an interval lies within ± margin"),
+        "scale": ("raw | log | logit", '"raw"',
+                  "the scale the response is modelled on: raw (predictions cut to the "
+                  "range and flagged), log (a positive quantity such as a rate) or logit "
+                  "(a percentage; 0 and 100 read as 0.5 and 99.5); log and logit keep "
+                  "every prediction and interval inside the range"),
         "description": ("text", '""', "what it is, for the report"),
     },
     "[coupons]": {

@@ -120,6 +120,46 @@ def _effect_row(fit, term: str):
     return None if row.empty else row.iloc[0]
 
 
+def _curvature_text(fit, factor: str, est: float, p_text: str) -> str:
+    """A significant square term in words: a peak or a dip only where the fitted curve
+    (transformed back, other factors at their middle) has one inside the range."""
+    resp = spoken_capitalised(fit.response)
+    curve = fit.profile(factor, n=41)["predicted"].to_numpy()
+    inner = int(np.argmax(curve) if est < 0 else np.argmin(curve))
+    scale = "" if fit.transform.is_raw else f" on the {fit.transform.kind} scale"
+    if 0 < inner < len(curve) - 1:
+        where = "higher in the middle of the range than at its ends" if est < 0 \
+            else "lower in the middle of the range than at its ends"
+        return f"{resp} curves along {spoken(factor)}: it is {where} ({p_text})."
+    steep = np.abs(np.diff(curve))
+    end = "high" if steep[-1] < steep[0] else "low"
+    return (f"{resp} curves along {spoken(factor)}{scale} without a peak or a dip inside the "
+            f"range: it changes more slowly towards the {end} end ({p_text}).")
+
+
+def _transformed_effect(fit, f, p: float, sig: bool, unit: str,
+                        nums: dict) -> tuple[float, Finding]:
+    """The sentence of a main effect fitted on the log or logit scale: the response at the
+    two ends of the factor, transformed back (others at their middle), not a difference
+    of coefficients (which is in log or logit units)."""
+    ends = fit.profile(f.name, n=2)
+    a, b = (float(v) for v in ends["predicted"].iloc[:2])
+    head = (f"Raising {spoken(f.name, f.unit)} {span_text(f, f.low, f.high)}"
+            if f.is_continuous else
+            f"Changing {spoken(f.name)} from {ends[f.name].iloc[0]} to {ends[f.name].iloc[1]}")
+    said, kind = spoken(fit.response), fit.transform.kind
+    span = f"from {readable(a, 3)} to {readable(b, 3)} {unit}".rstrip()
+    nums.update(effect=b - a, ends=[a, b], scale=kind, ci_low=math.nan, ci_high=math.nan)
+    if sig:
+        verb = "raised" if b > a else "lowered"
+        text = (f"{head} {verb} {said} {span} (the other factors at their middle; fitted "
+                f"on the {kind} scale, {fmt_p(p)}).")
+        return abs(b - a), Finding(text, fit.response, f.name, "effect", nums)
+    text = (f"{head} made no detectable difference to {said} ({fmt_p(p)}, fitted on the "
+            f"{kind} scale; {span} at the two ends).")
+    return -1 / (1 + abs(b - a)), Finding(text, fit.response, f.name, "not_detected", nums)
+
+
 def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | None = None,
                    alpha: float | None = None) -> list[Finding]:
     """Sentences for every term of a fitted model, largest first.
@@ -161,7 +201,10 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
         if row is not None:
             nums.update(effect=float(row.effect), ci_low=float(row.ci_low),
                         ci_high=float(row.ci_high))
-        if term.order == 1 and term.power == 1 and row is not None:
+        if term.order == 1 and term.power == 1 and row is not None and \
+                not fit.transform.is_raw:
+            out.append(_transformed_effect(fit, factors[name], p, sig, unit, nums))
+        elif term.order == 1 and term.power == 1 and row is not None:
             f = factors[name]
             eff, lo, hi = float(row.effect), float(row.ci_low), float(row.ci_high)
             dec = decimals_for((hi - lo) / 2)
@@ -221,10 +264,7 @@ def model_findings(fit, *, unit: str = "", detectable: Mapping[str, float] | Non
             est = fit.coded_coefficients.set_index("term").loc[name, "estimate"]
             nums["coefficient"] = float(est)
             if sig:
-                where = "higher in the middle of the range than at its ends" if est < 0 \
-                    else "lower in the middle of the range than at its ends"
-                text = (f"{spoken_capitalised(resp)} curves along {spoken(f)}: it is {where} "
-                        f"({fmt_p(p)}).")
+                text = _curvature_text(fit, f, float(est), fmt_p(p))
                 out.append((abs(float(est)) * 2, Finding(text, resp, name, "curvature", nums)))
             else:
                 quiet_curve.append((f, p))
@@ -300,19 +340,28 @@ def caveat_findings(fit, *, unit: str = "", reduced: bool = False, surface=None,
     said = spoken(resp)
     out: list[Finding] = []
     lo, hi = fit.limits
-    if lo is not None or hi is not None:
+    if not fit.transform.is_raw:
+        out.append(Finding(
+            f"{spoken_capitalised(resp)} is modelled on the {fit.scale}, so every "
+            "prediction and interval stays inside its range.", resp, "scale", "model",
+            {"physical_range": list(fit.limits), "scale": fit.transform.kind}))
+    elif lo is not None or hi is not None:
         out.append(Finding(
             f"{spoken_capitalised(resp)} can only lie {_range_text(lo, hi)} "
             f"{pretty_unit(unit)}".rstrip() + ": the model is fitted on the raw scale and "
             "its predictions and intervals are cut to that range (flagged where cut).",
             resp, "scale", "model", {"physical_range": list(fit.limits)}))
     box = getattr(diagnostics, "box_cox", None)
-    if box and not box.get("raw_scale_supported", True):
+    if box and box.get("chosen_scale_supported", box.get("raw_scale_supported")) is False:
+        kind = box.get("chosen_scale", "raw")
+        better = f"a {box['transform']}" if kind == "raw" else f"the {box['transform']}"
+        hint = (' (scale = "log" in its [[response]])' if kind == "raw"
+                and box["suggested"] == 0 else "")
         out.append(Finding(
-            f"The Box–Cox check does not support the raw scale for {said} (power "
+            f"The Box–Cox check does not support the {kind} scale for {said} (power "
             f"{readable(box['lambda_hat'], 2)}, interval {readable(box['ci_low'], 2)} to "
             f"{readable(box['ci_high'], 2)}"
-            f"); a {box['transform']} scale would fit better.", resp, "scale", "model",
+            f"); {better} scale would fit better{hint}.", resp, "scale", "model",
             {"box_cox": dict(box)}))
     pr = fit.pred_r_squared
     if math.isfinite(pr) and pr < weak_below:

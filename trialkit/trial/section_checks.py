@@ -26,7 +26,7 @@ FACTOR_KEYS = ("name", "kind", "unit", "low", "high", "levels", "description")
 LAYOUT_KEYS = ("replicates", "blocks", "block_label", "center_points", "controls",
                "coupons_per_bath", "witness_coupons")
 RESPONSE_KEYS = ("name", "unit", "aim", "unacceptable", "satisfactory", "ideal", "shape",
-                 "priority", "measure", "range", "margin", "description")
+                 "priority", "measure", "range", "margin", "scale", "description")
 CONTROL_KINDS = ("untreated", "reference")
 AIMS = ("higher", "lower", "on-target", "record-only")
 NAME_PATTERN = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
@@ -338,13 +338,44 @@ def check_responses(raw: Any, p: ProblemReport) -> list[ResponseSpec]:
                   "and _, such as removal_pct)", value=short(measure), check="bad_measure",
                   fix='write e.g. measure = "removal_pct"')
             measure = name
+        scale = text(table, "scale", where, p, "raw")
+        rng = _range(table, where, p)
+        scale = _scale(scale, rng, measure, where, p)
         out.append(ResponseSpec(
             name=name, unit=unit, aim=aim, unacceptable=unacceptable,
             satisfactory=nums["satisfactory"], ideal=nums["ideal"],
             shape=nums["shape"] or 1.0, priority=nums["priority"] or 1.0,
-            measure=measure, range=_range(table, where, p), margin=nums["margin"],
+            measure=measure, range=rng, margin=nums["margin"], scale=scale,
             description=text(table, "description", where, p)))
     return out
+
+
+#: Scales a response may be modelled on (trialkit.analysis.response_scale).
+SCALES = ("raw", "log", "logit")
+
+
+def _scale(scale: str, rng: tuple | None, measure: str, where: str,
+           p: ProblemReport) -> str:
+    """The response's ``scale``, checked against its range (a problem, and raw, if not).
+
+    The range is the response's own ``range`` or, failing that, the measure's (checked
+    again when the model is fitted, where the measure's range is known)."""
+    if scale not in SCALES:
+        p.add(f"{where}.scale", f"unknown scale {short(scale)!r}", value=short(scale),
+              check="bad_scale", fix=did_you_mean(str(scale), list(SCALES)) or
+              'use scale = "raw", "log" (a positive quantity) or "logit" (a percentage)')
+        return "raw"
+    if rng is not None:
+        lo, hi = rng
+        if scale == "log" and lo is None:
+            p.add(f"{where}.scale", "the log scale needs a lower bound of the range",
+                  value=scale, check="scale_needs_range", fix='give range = [0, "none"]')
+            return "raw"
+        if scale == "logit" and (lo is None or hi is None):
+            p.add(f"{where}.scale", "the logit scale needs both ends of the range",
+                  value=scale, check="scale_needs_range", fix="give range = [0, 100]")
+            return "raw"
+    return scale
 
 
 def _range(table: dict, where: str, p: ProblemReport) -> tuple | None:

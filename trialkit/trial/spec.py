@@ -57,6 +57,7 @@ class ResponseSpec:
     description: str = ""
     range: tuple | None = None  # (low, high) the values can take; None ends unbounded
     margin: float | None = None  # a difference too small to matter, in the response's unit
+    scale: str = "raw"  # the scale it is modelled on: raw, log or logit
 
     @property
     def is_wanted(self) -> bool:
