@@ -148,3 +148,26 @@ def test_reading_commands_never_open_the_log_for_writing(recorded, tmp_path, mon
         assert "readonly" not in err and "Traceback" not in err, (cmd, err)
     assert (folder / LOG_FILE).read_bytes() == before
     assert (out / "r.html").exists()
+
+
+def test_text_that_is_not_utf8_is_damage_not_a_crash(recorded, tmp_path):
+    # one byte of a stored operator name made invalid UTF-8 (found by the random-damage
+    # test): reading commands say the log is damaged, verify names the changed ingest,
+    # and nothing is decoded with replacement characters
+    import sqlite3
+
+    folder = copy_trial(recorded[0], tmp_path / "t")
+    log = folder / LOG_FILE
+    con = sqlite3.connect(log)
+    con.execute("DROP TRIGGER readings_no_update")
+    con.execute("UPDATE readings SET value_text = CAST(x'4d80' AS TEXT) "
+                "WHERE value_text IS NOT NULL AND id = (SELECT MIN(id) FROM readings "
+                "WHERE value_text IS NOT NULL)")
+    con.commit()
+    con.close()
+    before = log.read_bytes()
+    code, out, err = run(["history", str(folder)])
+    assert code == 2 and "not valid UTF-8" in err and "Traceback" not in err, err
+    code, out, err = run(["verify", str(folder)])
+    assert code == 1 and "BROKEN" in out, out + err
+    assert log.read_bytes() == before

@@ -37,6 +37,10 @@ def run(args: argparse.Namespace) -> int:
                              "or was never written; nothing was changed")
     try:
         result = verify_log(path)
+    except UnicodeDecodeError:
+        raise RecordLogError(f"{path}: cannot be read as a record log (SQLite stopped on "
+                             "bytes that are not text): it is damaged; nothing was "
+                             "changed") from None
     except sqlite3.DatabaseError as exc:
         raise RecordLogError(f"{path}: cannot be read as a record log ({exc}); it is damaged "
                              "or not a trialkit record log; nothing was changed") from None

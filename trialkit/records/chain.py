@@ -219,6 +219,7 @@ def verify_log(log_path: str | os.PathLike) -> LogVerification:
     """
     path = Path(log_path)
     con = sqlite3.connect(read_only_uri(path), uri=True)
+    con.text_factory = lambda b: b.decode("utf-8", "replace")  # damage shows as a changed hash
     broken: list[str] = []
     notes: list[str] = []
     try:

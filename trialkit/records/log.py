@@ -54,7 +54,7 @@ import pandas as pd
 from trialkit.exceptions import RecordLogError
 from trialkit.records import chain
 from trialkit.records.fields import COUPON_FIELDS
-from trialkit.records.read_only import read_only_uri
+from trialkit.records.read_only import read_only_uri, utf8_text
 
 LOG_FILE = "record-log.sqlite"
 SCHEMA_VERSION = "1"
@@ -184,13 +184,16 @@ class RecordLog:
                 con.close()
 
     def _complete(self) -> bool:
-        """True when the file already holds every table and trigger of the log."""
+        """True when the file needs nothing created: it holds every table and trigger of
+        the log, or it has its hash chain (a chained log missing a trigger was altered
+        outside trialkit: it is left as found, for 'trialkit verify' to report)."""
         con = sqlite3.connect(read_only_uri(self.path), uri=True, timeout=60.0)
         try:
             names = {r[0] for r in con.execute("SELECT name FROM sqlite_master")}
         finally:
             con.close()
-        return {"log_info", "ingests", "readings", "chain", *chain.TRIGGERS} <= names
+        return "chain" in names or \
+            {"log_info", "ingests", "readings", "chain", *chain.TRIGGERS} <= names
 
     def check_integrity(self) -> None:
         """SQLite's quick integrity check (read-only); :class:`RecordLogError` if it fails.
@@ -199,11 +202,17 @@ class RecordLog:
         """
         try:
             con = sqlite3.connect(read_only_uri(self.path), uri=True, timeout=60.0)
+            # the check's own report may quote damaged bytes: read it leniently
+            con.text_factory = lambda b: b.decode("utf-8", "replace")
             try:
                 con.execute("PRAGMA busy_timeout=60000")
                 rows = [r[0] for r in con.execute("PRAGMA quick_check")]
             finally:
                 con.close()
+        except UnicodeDecodeError:   # SQLite's error message quoted the damaged bytes
+            raise RecordLogError(f"cannot read the record log {self.path}: it is damaged "
+                                 "(SQLite's check stopped on bytes that are not text). "
+                                 "Nothing was changed; restore it from a backup.") from None
         except sqlite3.DatabaseError as exc:
             raise RecordLogError(f"cannot read the record log {self.path} ({exc}): it is "
                                  "damaged or not a trialkit record log. Nothing was changed; "
@@ -222,9 +231,11 @@ class RecordLog:
         if read_only:  # reading never needs to write (works in a read-only folder)
             con = sqlite3.connect(read_only_uri(self.path), uri=True, timeout=60.0,
                                   isolation_level=None)
+            con.text_factory = utf8_text
             con.execute("PRAGMA busy_timeout=60000")
             return con
         con = sqlite3.connect(self.path, timeout=60.0, isolation_level=None)
+        con.text_factory = utf8_text
         con.execute("PRAGMA busy_timeout=60000")
         con.execute("PRAGMA foreign_keys=ON")
         return con
