@@ -373,7 +373,7 @@ class RecordLog:
                 current[(c, n, f)] = (num, text, rev)
             new, stored, unchanged = [], [], 0
             for coupon, inspection, name, value in readings:
-                num, text = _split(value)
+                num, text = (value, None) if type(value) is float else _split(value)
                 key = (coupon, inspection, name)
                 old = current.get(key)
                 if old and old[0] == num and old[1] == text:

@@ -293,8 +293,8 @@ def _settled_rows(raw: RawTable, layout: SheetLayout, index: dict[str, int],
                for name, j in index.items()}
     keys = [tuple(shown_text(columns[k][i] if k in columns else None, raw.from_csv).strip()
                   for k in layout.keys) for i in range(n)]
-    ok = np.array([bool(key[0]) and key in expected and not any(
-        x not in (None, "") for x in values[n_names:]) for key, (_, values) in zip(
+    ok = np.array([bool(key[0]) and key in expected and (len(values) <= n_names or not any(
+        x not in (None, "") for x in values[n_names:])) for key, (_, values) in zip(
         keys, rows, strict=True)], dtype=bool)
     entries: dict[str, list[Any]] = {}
     for c in layout.entry_columns:
