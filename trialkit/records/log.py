@@ -120,11 +120,6 @@ def _split(value: Any) -> tuple[float | None, str | None]:
     return None, str(value)
 
 
-def _same(a_num: Any, a_text: Any, value: Any) -> bool:
-    num, text = _split(value)
-    return a_num == num and a_text == text
-
-
 class RecordLog:
     """The append-only record log of one trial folder.
 
@@ -411,27 +406,30 @@ class RecordLog:
                     "SELECT coupon, inspection, field, value_num, value_text, revision "
                     "FROM readings ORDER BY revision"):
                 current[(c, n, f)] = (num, text, rev)
-            new, unchanged = [], 0
+            new, stored, unchanged = [], [], 0
             for coupon, inspection, name, value in readings:
-                old = current.get((coupon, inspection, name))
-                if old and _same(old[0], old[1], value):
+                num, text = (value, None) if type(value) is float else _split(value)
+                key = (coupon, inspection, name)
+                old = current.get(key)
+                if old and old[0] == num and old[1] == text:
                     unchanged += 1
                     continue
                 rev = old[2] + 1 if old else 1
-                current[(coupon, inspection, name)] = (*_split(value), rev)
+                current[key] = (num, text, rev)
                 new.append((coupon, int(inspection), name, value, rev))
+                stored.append((coupon, int(inspection), name, num, text, rev))
             cur = con.execute("INSERT INTO ingests (source, sha256, ingested_at, fingerprint, "
                               "n_values) VALUES (?, ?, ?, ?, ?)",
                               (source, sha256, now, fingerprint, len(new)))
             ingest_id = cur.lastrowid
-            half = len(new) // 2
-            for i, (coupon, inspection, name, value, rev) in enumerate(new):
-                if i == half:
-                    _test_pause()
-                num, text = _split(value)
-                con.execute("INSERT INTO readings (ingest_id, coupon, inspection, field, "
-                            "value_num, value_text, revision) VALUES (?, ?, ?, ?, ?, ?, ?)",
-                            (ingest_id, coupon, inspection, name, num, text, rev))
+            rows = [(ingest_id, *row) for row in stored]
+            half = len(rows) // 2
+            insert = ("INSERT INTO readings (ingest_id, coupon, inspection, field, "
+                      "value_num, value_text, revision) VALUES (?, ?, ?, ?, ?, ?, ?)")
+            con.executemany(insert, rows[:half])  # in order: the same row ids as one by one
+            if rows:
+                _test_pause()
+            con.executemany(insert, rows[half:])
             # The hash chain: this ingest's link, and the head file written in the same
             # step (pending before the commit, confirmed after it; see records.chain).
             prev = chain.last_hash(con)

@@ -14,6 +14,7 @@ ratings).
 
 from __future__ import annotations
 
+from copy import copy
 from pathlib import Path
 from typing import Any
 
@@ -89,7 +90,10 @@ def _data_tab(wb: Any, plan: Any, layout: SheetLayout, config: SheetConfig) -> N
     ws.cell(1, 1).font = Font(bold=True, size=14)
     put_text(ws.cell(2, 1), visible_stamp(meta))
     rows = plan_rows(plan, layout, config)
+    records = rows.to_dict("records")
     last = FIRST_DATA_ROW + len(rows) - 1
+    plan_fill = PatternFill("solid", fgColor=_PLAN_GREY)
+    unlocked = Protection(locked=False)
     for j, col in enumerate(layout.columns, start=1):
         letter = get_column_letter(j)
         head = ws.cell(HEADING_ROW, j)
@@ -100,15 +104,25 @@ def _data_tab(wb: Any, plan: Any, layout: SheetLayout, config: SheetConfig) -> N
         put_text(name, col.name)
         name.font = Font(color="808080", size=8)
         ws.column_dimensions[letter].width = max(10, min(28, len(col.heading) + 2))
-        for i, rec in enumerate(rows.to_dict("records")):
+        # The column's cell styles (with and without the quote prefix) are set once and
+        # copied, as openpyxl's own worksheet copy does: assigning a fill cell by cell
+        # hashes it every time.
+        styles: dict[bool, Any] = {}
+        for i, rec in enumerate(records):
             cell = ws.cell(FIRST_DATA_ROW + i, j)
             if col.role == "plan":
                 _put(cell, rec.get(col.name), col.kind)
-                cell.fill = PatternFill("solid", fgColor=_PLAN_GREY)
+            known = styles.get(cell.quotePrefix)
+            if known is not None:
+                cell._style = copy(known)
+                continue
+            if col.role == "plan":
+                cell.fill = plan_fill
             else:
-                cell.protection = Protection(locked=False)
+                cell.protection = unlocked
                 if col.kind == "datetime":
                     cell.number_format = "yyyy-mm-dd hh:mm"
+            styles[cell.quotePrefix] = copy(cell._style)
         dv = _validation(col)
         if dv is not None and len(rows):
             ws.add_data_validation(dv)

@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -106,8 +107,17 @@ def read_sheet_file(path: Path, data: bytes, problems: ProblemReport) -> list[Ra
 
 
 # -- XLSX ---------------------------------------------------------------------------
-def _check_zip(data: bytes, problems: ProblemReport) -> bool:
-    """Refuse a workbook zip that is too large inflated, damaged or declares XML entities."""
+#: A formula element (``<f>``, ``<f t="shared" ...>``, ``<x:f>``) or a merged range in a
+#: worksheet's XML: such a workbook is read in full (its formulas and merges are checked).
+_FORMULA_OR_MERGE = re.compile(rb"<(?:\w+:)?(?:f[\s/>]|mergeCell)")
+
+
+def _check_zip(data: bytes, problems: ProblemReport) -> bool | None:
+    """Refuse a workbook zip that is too large inflated, damaged or declares XML entities.
+
+    Returns None when refused, else whether its worksheets are plain: no formula and no
+    merged cell in any of them.
+    """
     try:
         archive = zipfile.ZipFile(io.BytesIO(data))
         members = archive.infolist()
@@ -115,16 +125,17 @@ def _check_zip(data: bytes, problems: ProblemReport) -> bool:
         problems.add("", "the file is not a readable XLSX workbook (the zip is damaged or "
                      "truncated)", value=type(exc).__name__, check="not_a_workbook",
                      fix="open it in a spreadsheet program and save it as .xlsx again")
-        return False
+        return None
     total = sum(m.file_size for m in members)
     if len(members) > MAX_MEMBERS or total > MAX_XLSX_BYTES:
         problems.add("", f"the workbook would be {total:,} bytes in {len(members)} parts once "
                      f"unpacked; the limit is {MAX_XLSX_BYTES:,} bytes in {MAX_MEMBERS} parts",
                      value=f"{total:,} bytes", check="too_large",
                      fix="a recording sheet is a few MB at most: export a fresh one")
-        return False
+        return None
     import zlib
 
+    plain = True
     for m in members:
         try:
             content = archive.read(m)
@@ -133,25 +144,34 @@ def _check_zip(data: bytes, problems: ProblemReport) -> bool:
             problems.add("", f"part {m.filename!r} of the workbook is damaged or truncated",
                          value=type(exc).__name__, check="not_a_workbook",
                          fix="open it in a spreadsheet program and save it as .xlsx again")
-            return False
+            return None
         if m.filename.endswith((".xml", ".rels")) and (b"<!DOCTYPE" in content
                                                        or b"<!ENTITY" in content):
             problems.add("", f"part {m.filename!r} declares a DOCTYPE or entities, which a "
                          "workbook never needs (they can make a reader expand text without "
                          "end)", value=m.filename, check="xml_declarations",
                          fix="save the sheet again from a spreadsheet program")
-            return False
-    return True
+            return None
+        if m.filename.startswith("xl/chartsheets/") or (
+                m.filename.startswith("xl/worksheets/") and _FORMULA_OR_MERGE.search(content)):
+            plain = False
+    return plain
 
 
 def _read_xlsx(data: bytes, problems: ProblemReport) -> list[RawTable]:
     from openpyxl import load_workbook
 
-    if not _check_zip(data, problems):
+    plain = _check_zip(data, problems)
+    if plain is None:
         return []
     try:
-        wb_values = load_workbook(io.BytesIO(data), data_only=True)
-        wb_formulas = load_workbook(io.BytesIO(data), data_only=False)
+        if plain:  # nothing to find in formulas or merges: one read-only pass, every cell
+            wb_values = _read_only_grids(load_workbook(io.BytesIO(data), read_only=True,
+                                                       data_only=True))
+            wb_formulas = None
+        else:
+            wb_values = load_workbook(io.BytesIO(data), data_only=True)
+            wb_formulas = load_workbook(io.BytesIO(data), data_only=False)
     except Exception as exc:  # openpyxl raises many types on a damaged workbook
         problems.add("", "the file is not a readable XLSX workbook (its XML is malformed: "
                      f"{type(exc).__name__})", value=type(exc).__name__,
@@ -193,7 +213,8 @@ def _read_xlsx(data: bytes, problems: ProblemReport) -> list[RawTable]:
                              fix=f"move its readings into {', '.join(map(repr, wanted))} "
                                  "or delete the tab")
             continue
-        table = _xlsx_tab(ws, wb_formulas[name], wanted[name], meta, problems)
+        table = _xlsx_tab(ws, wb_formulas[name] if wb_formulas else None, wanted[name], meta,
+                          problems)
         if table is not None:
             tables.append(table)
     for tab in wanted:
@@ -201,6 +222,37 @@ def _read_xlsx(data: bytes, problems: ProblemReport) -> list[RawTable]:
             problems.add(tab, f"the tab {tab!r} is missing", check="missing_tab",
                          fix="do not rename or delete the tabs of the sheet")
     return tables
+
+
+class _Grid:
+    """The cell values of one tab of a read-only workbook, read whole (every cell, beyond
+    any size the file states: ``reset_dimensions``), with the worksheet's names."""
+
+    def __init__(self, ws: Any):
+        ws.reset_dimensions()
+        self.title = ws.title
+        self.rows = [list(r) for r in ws.iter_rows(values_only=True)]
+        self.merged_cells = None  # a plain workbook has none (see _check_zip)
+
+    def iter_rows(self, values_only: bool = True) -> list[list[Any]]:
+        return self.rows
+
+
+class _Grids(dict):
+    """A read-only workbook read whole: tab name -> :class:`_Grid`, in tab order."""
+
+    @property
+    def sheetnames(self) -> list[str]:
+        return list(self)
+
+
+def _read_only_grids(wb: Any) -> _Grids:
+    """Every tab of a read-only openpyxl workbook, read at once (so that a damaged part
+    fails here, inside the reader's error handling), then the workbook closed."""
+    try:
+        return _Grids((ws.title, _Grid(ws)) for ws in wb.worksheets)
+    finally:
+        wb.close()
 
 
 def _xlsx_tab(ws: Any, ws_f: Any, layout: str, meta: dict[str, str],
@@ -215,7 +267,7 @@ def _xlsx_tab(ws: Any, ws_f: Any, layout: str, meta: dict[str, str],
                      fix="keep heading rows 3 and 4 of the exported sheet as they are")
         return None
     name_row = at + 1  # 1-based
-    for rng in ws.merged_cells.ranges:
+    for rng in ws.merged_cells.ranges if ws.merged_cells is not None else ():
         if rng.max_row >= name_row - 1:
             problems.add(ws.title, f"merged cells {rng.coord}", row=rng.min_row,
                          column=get_column_letter(rng.min_col), value=rng.coord,
@@ -230,7 +282,7 @@ def _xlsx_tab(ws: Any, ws_f: Any, layout: str, meta: dict[str, str],
             continue
         r = r_index + 1
         for c, v in enumerate(values, start=1):
-            if v is None:
+            if v is None and ws_f is not None:
                 fcell = ws_f.cell(r, c)
                 if fcell.data_type == "f" or (isinstance(fcell.value, str)
                                              and fcell.value.startswith("=")

@@ -12,15 +12,22 @@ Check codes (the ``check`` column of the problem table):
 
 from __future__ import annotations
 
-import datetime as dt
 import math
 import re
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from trialkit.problems import ProblemReport, did_you_mean
 from trialkit.records.config import SheetConfig
+from trialkit.records.sheets.cells import (
+    entry_column,
+    number_column,
+    parse_datetime,
+    parse_number,
+    shown_text,
+)
 from trialkit.records.sheets.layout import (
     COUPON_LAYOUT,
     Column,
@@ -32,9 +39,7 @@ from trialkit.records.sheets.layout import (
     split_heading,
 )
 from trialkit.records.sheets.readers import RawTable
-from trialkit.records.sheets.textsafe import unescape_text
 
-_DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
 _MASS_LATER = ("mass_final_g",)
 
 #: One accepted reading: (coupon, inspection number or 0, field, value).
@@ -42,37 +47,11 @@ Reading = tuple[str, int, str, Any]
 
 
 def _text(v: Any, raw: RawTable) -> str:
-    if v is None:
-        return ""
-    if isinstance(v, float) and v.is_integer():
-        v = int(v)
-    s = v.isoformat(sep=" ") if isinstance(v, (dt.datetime, dt.date)) else str(v)
-    return unescape_text(s) if raw.from_csv else s
+    return shown_text(v, raw.from_csv)
 
 
-def _parse_number(v: Any, raw: RawTable) -> float | None:
-    if isinstance(v, bool):
-        raise ValueError
-    if isinstance(v, (int, float)):
-        x = float(v)
-    else:
-        s = str(v).strip()
-        if raw.decimal_comma and _DECIMAL_COMMA.match(s):
-            s = s.replace(",", ".")
-        x = float(s)
-    if not math.isfinite(x):
-        raise ValueError
-    return x
-
-
-def _parse_datetime(v: Any) -> str:
-    if isinstance(v, dt.datetime):
-        return v.replace(microsecond=0).isoformat()
-    if isinstance(v, dt.date):
-        return dt.datetime(v.year, v.month, v.day).isoformat()
-    if isinstance(v, (int, float)):
-        raise ValueError
-    return dt.datetime.fromisoformat(str(v).strip()).replace(microsecond=0).isoformat()
+def _parse_number(v: Any, raw: RawTable) -> float:
+    return parse_number(v, raw.decimal_comma)
 
 
 def _layout_for(raw: RawTable, plan: Any, config: SheetConfig,
@@ -209,7 +188,7 @@ def _entry_value(v: Any, col: Column, raw: RawTable, row: int,
         return x
     if f.kind == "datetime":
         try:
-            return _parse_datetime(v)
+            return parse_datetime(v)
         except (TypeError, ValueError):
             problems.add(raw.tab, f"not a date and time: {f.heading}", row=row, column=f.name,
                          value=shown, check="wrong_type",
@@ -237,11 +216,18 @@ def validate_table(raw: RawTable, plan: Any, config: SheetConfig, problems: Prob
         return []
     expected = {tuple(cell_text(r[k]) for k in layout.keys): r
                 for r in plan_rows(plan, layout, config).to_dict("records")}
-    coupons = sorted({k[0] for k in expected})
+    plan_coupons = {k[0] for k in expected}
+    coupons = sorted(plan_coupons)
     seen: dict[tuple, int] = {}
     readings: list[Reading] = []
     width_known = set(index.values())
-    for row, values in raw.rows:
+    settled = _settled_rows(raw, layout, index, expected, getattr(plan.trial, "coupons", None),
+                            config, allow_mass_gain)
+    for (row, values), done in zip(raw.rows, settled, strict=True):
+        if done is not None and done[0] not in seen:
+            seen[done[0]] = row
+            readings += done[1]
+            continue
         cells = {name: (values[j] if j < len(values) else None) for name, j in index.items()}
         for j, v in enumerate(values):
             if j not in width_known and v not in (None, "") and j >= len(raw.names):
@@ -257,7 +243,7 @@ def validate_table(raw: RawTable, plan: Any, config: SheetConfig, problems: Prob
                          column="coupon", check="missing_coupon",
                          fix="write the coupon id back (export a fresh sheet if unsure)")
             continue
-        if coupon not in coupons:
+        if coupon not in plan_coupons:
             problems.add(raw.tab, f"coupon {coupon!r} is not in the plan", row=row,
                          column="coupon", value=coupon, check="unknown_coupon",
                          fix=did_you_mean(coupon, coupons))
@@ -289,6 +275,77 @@ def validate_table(raw: RawTable, plan: Any, config: SheetConfig, problems: Prob
         readings += [(coupon, inspection, name, v) for name, v in entries.items()
                      if v is not None]
     return readings
+
+
+def _settled_rows(raw: RawTable, layout: SheetLayout, index: dict[str, int],
+                  expected: dict[tuple, dict], spec: Any, config: SheetConfig,
+                  allow_mass_gain: bool) -> list[tuple[tuple, list[Reading]] | None]:
+    """Per data row, its key and readings when no check can find fault with it, else None.
+
+    The cells are read a column at a time (:func:`cells.entry_column`; plan numbers
+    compared in one step); the row checks run on a scratch report.  A row that any
+    check might refuse, or that is not plain enough to be settled here, is None and goes
+    through the one-row checks of :func:`validate_table`, which word the problems.
+    """
+    rows = raw.rows
+    n, n_names = len(rows), len(raw.names)
+    columns = {name: [v[j] if j < len(v) else None for _, v in rows]
+               for name, j in index.items()}
+    keys = [tuple(shown_text(columns[k][i] if k in columns else None, raw.from_csv).strip()
+                  for k in layout.keys) for i in range(n)]
+    ok = np.array([bool(key[0]) and key in expected and (len(values) <= n_names or not any(
+        x not in (None, "") for x in values[n_names:])) for key, (_, values) in zip(
+        keys, rows, strict=True)], dtype=bool)
+    entries: dict[str, list[Any]] = {}
+    for c in layout.entry_columns:
+        if c.name in index:
+            entries[c.name], flagged = entry_column(columns[c.name], c.field,
+                                                    from_csv=raw.from_csv,
+                                                    decimal_comma=raw.decimal_comma)
+            ok &= ~flagged
+    for c in layout.plan_columns:
+        if c.name in index and c.name not in layout.keys:
+            ok &= _plan_column_kept(columns[c.name], [
+                expected[k][c.name] if good else None for k, good in zip(keys, ok.tolist(),
+                                                                        strict=True)],
+                c, raw)
+    out: list[tuple[tuple, list[Reading]] | None] = [None] * n
+    scratch = ProblemReport("")
+    for i in np.flatnonzero(ok).tolist():
+        row, key = rows[i][0], keys[i]
+        values = {name: column[i] for name, column in entries.items()}
+        _row_checks(raw, row, values, config, layout, scratch, allow_mass_gain)
+        _area_check(raw, row, values, spec, scratch)
+        if scratch:
+            scratch = ProblemReport("")
+            continue
+        inspection = int(key[1]) if len(key) > 1 else 0
+        out[i] = (key, [(key[0], inspection, name, v) for name, v in values.items()
+                        if v is not None])
+    return out
+
+
+def _plan_column_kept(got: list[Any], want: list[Any], col: Column,
+                      raw: RawTable) -> np.ndarray:
+    """Per row, True where the plan column still holds the plan's value.
+
+    The same rule as :func:`_same_plan_value`, numbers compared in one numpy step.
+    """
+    want_text = [cell_text(w) for w in want]
+    kept = np.zeros(len(got), dtype=bool)
+    numeric = [i for i, t in enumerate(want_text) if t != ""
+               and col.kind in ("number", "integer")]
+    if numeric:
+        x, empty, flagged = number_column([got[i] for i in numeric], raw.decimal_comma)
+        w = np.array([float(want[i]) for i in numeric])
+        with np.errstate(invalid="ignore"):
+            close = np.abs(x - w) <= np.maximum(1e-9 * np.maximum(np.abs(x), np.abs(w)),
+                                                1e-12)
+        kept[numeric] = ~empty & ~flagged & close
+    for i, t in enumerate(want_text):
+        if (t == "" or col.kind not in ("number", "integer")) and want[i] is not None:
+            kept[i] = _text(got[i], raw).strip() == t.strip()
+    return kept
 
 
 def _row_checks(raw: RawTable, row: int, entries: dict[str, Any], config: SheetConfig,
