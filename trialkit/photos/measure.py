@@ -11,10 +11,12 @@ Method (every setting is recorded with the result, :class:`PhotoCoverage`):
    same gain on linear light).
 3. **Coupon**: the box the user gives (``region``), or found by its outline: the colour
    difference (CIE 1976 ΔE*ab, ``skimage.color.deltaE_cie76``) of every pixel from the
-   background, whose colour is the median of the photo's outer frame; Otsu's threshold on
-   that difference (``skimage.filters.threshold_otsu``), a morphological opening
-   (``skimage.morphology``), the largest connected region (``skimage.measure.label``) with
-   its holes filled.  No region at least :data:`MIN_COUPON_SHARE` of the photo and
+   background, whose colour is the median of the photo's outer frame; a rough mask from
+   Otsu's threshold on that difference (``skimage.filters.threshold_otsu``), the outline
+   placed in the middle of each blurred edge by a marker-controlled watershed
+   (``skimage.segmentation.watershed``, :func:`trialkit.photos.regions.coupon_outline`),
+   the largest connected region (``skimage.measure.label``) with its holes filled.  No
+   region at least :data:`MIN_COUPON_SHARE` of the photo and
    :data:`MIN_CONTRAST` ΔE from the background: "no coupon found".
 4. **Rust-ness** of each pixel: its CIELAB colour (``skimage.color.rgb2lab``, D65)
    projected on the warm hue direction h = :data:`RUST_HUE_DEG` in the a*-b* plane,
@@ -65,7 +67,7 @@ import numpy as np
 
 from trialkit.exceptions import EXIT_REFUSED, PhotoError
 from trialkit.photos.reading import Photo, read_photo
-from trialkit.photos.regions import MIN_CONTRAST, foreground_labels
+from trialkit.photos.regions import MIN_CONTRAST, coupon_outline
 from trialkit.photos.settings import PhotoSettings
 from trialkit.responses.rust_grade import d610_grade
 
@@ -239,19 +241,13 @@ def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
 def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
                  card: tuple | None, notes: list[str]) -> np.ndarray:
     """Boolean mask of the coupon (the region's box, or the largest outlined region)."""
-    from scipy.ndimage import binary_fill_holes
-
     h, w = lab.shape[:2]
     mask = np.zeros((h, w), bool)
     if settings.region is not None:
         x0, y0, x1, y1 = _scaled_box(settings.region, photo, "region")
         mask[y0:y1, x0:x1] = True
     else:
-        labels, diff = foreground_labels(lab, exclude=card)
-        if labels.max() > 0:
-            sizes = np.bincount(labels.ravel())
-            sizes[0] = 0
-            mask = binary_fill_holes(labels == int(np.argmax(sizes)))
+        mask, diff = coupon_outline(lab, exclude=card)
         contrast = float(np.median(diff[mask])) if mask.any() else 0.0
         if mask.sum() < MIN_COUPON_SHARE * h * w or contrast < MIN_CONTRAST:
             raise PhotoError(
