@@ -15,6 +15,7 @@ from PIL import Image
 
 from trialkit.demo.photo_scenes import DARK_RUST, LIGHT_RUST, RUST, WHITE_CARD, render
 from trialkit.exceptions import PhotoError
+from trialkit.photos.edge_cut import edge_cut
 from trialkit.photos.measure import measure_coverage, rustness
 from trialkit.photos.settings import PhotoSettings
 
@@ -107,7 +108,9 @@ def test_threshold_is_skimage_otsu_on_the_same_pixels(tmp_path):
     r = gaussian(rustness(lab), sigma=1.0, preserve_range=True)
     assert m.rule == "otsu"
     assert m.threshold == pytest.approx(float(threshold_otsu(r[m.coupon_mask])), abs=1e-9)
-    assert m.rust_px == int((r[m.coupon_mask] > m.threshold).sum())
+    # Otsu's cut makes the classes; each pixel is then judged by the local cut of its edge
+    local = edge_cut(r, m.coupon_mask, m.threshold)
+    assert m.rust_px == int(m.rust_mask.sum()) == int((r > local)[m.coupon_mask].sum())
 
 
 def test_threshold_maximises_the_between_class_variance(tmp_path):
@@ -269,7 +272,7 @@ def test_white_card_on_white_paper_found_without_a_box(tmp_path, pct, cast):
     fx0, fy0, fx1, fy1 = json.loads(found.split(" at ")[1].split(" (")[0])
     x0, y0, x1, y1 = scene.card
     assert x0 <= fx0 < fx1 <= x1 and y0 <= fy0 < fy1 <= y1
-    assert m.white_balance == "grey card" and max(m.gains) / min(m.gains) > 1.2
+    assert m.white_balance == "white card" and max(m.gains) / min(m.gains) > 1.2
     assert abs(m.rust_pct - scene.truth_pct) <= 3.0, (m.rust_pct, scene.truth_pct, m.rule)
 
 
@@ -313,7 +316,10 @@ def test_sensitivity_to_the_cut(tmp_path):
     from skimage.filters import gaussian
 
     v = gaussian(rustness(rgb2lab(r)), sigma=1.0, preserve_range=True)[s.coupon_mask]
-    assert s.rust_pct_high == pytest.approx(100 * np.mean(v > s.threshold - 5.0))
+    local = edge_cut(gaussian(rustness(rgb2lab(r)), sigma=1.0, preserve_range=True),
+                     s.coupon_mask, s.threshold)[s.coupon_mask]
+    assert s.rust_pct_high == pytest.approx(100 * np.mean(v > local - 5.0))
+    assert s.rust_pct_low == pytest.approx(100 * np.mean(v > local + 5.0))
 
 
 def test_truncated_and_oversized_images_are_refused(tmp_path, monkeypatch):

@@ -63,12 +63,17 @@ def _frame(shape: tuple) -> np.ndarray:
     return ring
 
 
+def background_colour(lab: np.ndarray) -> np.ndarray:
+    """The background's CIELAB colour: the median of the photo's outer frame."""
+    return np.median(lab[_frame(lab.shape)], axis=0)
+
+
 def background_difference(lab: np.ndarray) -> np.ndarray:
     """ΔE*ab of every pixel from the background (the median of the outer frame), smoothed."""
     from skimage.color import deltaE_cie76
     from skimage.filters import gaussian
 
-    background = np.median(lab[_frame(lab.shape)], axis=0)
+    background = background_colour(lab)
     return gaussian(deltaE_cie76(lab, background[None, None, :]), sigma=1.0,
                     preserve_range=True)
 
