@@ -149,4 +149,4 @@ def test_the_trial_files_photo_settings_are_used(tmp_path):
     assert m.white_balance == "grey card" and m.settings.card == scene.card
     assert abs(m.rust_pct - scene.truth_pct) <= 3.0
     source = RecordLog.for_folder(plan.trial.folder).history().source.iloc[0]
-    assert "white balance from the card" in source
+    assert "white balance from the grey card" in source

@@ -14,8 +14,8 @@ white card on white paper (a few L* units apart) is found as well as a grey one:
    thousand through.
 2. **Patches**: the connected regions between the edges (``skimage.measure.label``);
    one that touches the photo's border is background, one that overlaps the coupon (the
-   largest region standing out from the background,
-   :func:`trialkit.photos.regions.foreground_labels`, its holes filled) is part of it.
+   largest region standing out from the background, its holes filled,
+   :func:`trialkit.photos.regions.coupon_outline`) is part of it.
 3. **A card** is a patch of at least :data:`MIN_CARD_SHARE` of the photo that is nearly
    rectangular (``skimage.measure.regionprops``: solidity and extent at least
    :data:`MIN_SQUARENESS`), even in colour (each channel's SD inside it at most
@@ -52,7 +52,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trialkit.photos.regions import foreground_labels
+from trialkit.photos.regions import coupon_outline
 
 #: Smallest card, as a share of the photo's pixels.
 MIN_CARD_SHARE = 0.003
@@ -72,18 +72,6 @@ EDGE_SIGMA, EDGE_HIGH = 3.0, 2.0
 EDGE_NOISE_FACTOR = 3.2
 #: The whole card reaches this many pixels beyond the patch between its edges.
 OUTLINE_MARGIN = 4
-
-
-def _coupon_mask(lab: np.ndarray) -> np.ndarray:
-    """The largest region standing out from the background, holes filled."""
-    from scipy.ndimage import binary_fill_holes
-
-    labels, _ = foreground_labels(lab)
-    if labels.max() == 0:
-        return np.zeros(labels.shape, bool)
-    sizes = np.bincount(labels.ravel())
-    sizes[0] = 0
-    return binary_fill_holes(labels == int(np.argmax(sizes)))
 
 
 def card_edges(lightness: np.ndarray) -> np.ndarray:
@@ -121,7 +109,7 @@ def find_card_with_outline(rgb: np.ndarray) -> tuple[tuple, tuple] | None:
 
     lab = rgb2lab(rgb)
     patches = label(~dilation(card_edges(lab[..., 0]), disk(1)), connectivity=1)
-    coupon = _coupon_mask(lab)
+    coupon, _ = coupon_outline(lab)
     h, w = patches.shape
     best, best_ratio = None, MAX_CARD_CHROMA_RATIO
     for r in regionprops(patches):

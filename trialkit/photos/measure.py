@@ -11,10 +11,12 @@ Method (every setting is recorded with the result, :class:`PhotoCoverage`):
    same gain on linear light).
 3. **Coupon**: the box the user gives (``region``), or found by its outline: the colour
    difference (CIE 1976 ΔE*ab, ``skimage.color.deltaE_cie76``) of every pixel from the
-   background, whose colour is the median of the photo's outer frame; Otsu's threshold on
-   that difference (``skimage.filters.threshold_otsu``), a morphological opening
-   (``skimage.morphology``), the largest connected region (``skimage.measure.label``) with
-   its holes filled.  No region at least :data:`MIN_COUPON_SHARE` of the photo and
+   background, whose colour is the median of the photo's outer frame; a rough mask from
+   Otsu's threshold on that difference (``skimage.filters.threshold_otsu``), the outline
+   placed in the middle of each blurred edge by a marker-controlled watershed
+   (``skimage.segmentation.watershed``, :func:`trialkit.photos.regions.coupon_outline`),
+   the largest connected region (``skimage.measure.label``) with its holes filled.  No
+   region at least :data:`MIN_COUPON_SHARE` of the photo and
    :data:`MIN_CONTRAST` ΔE from the background: "no coupon found".
 4. **Rust-ness** of each pixel: its CIELAB colour (``skimage.color.rgb2lab``, D65)
    projected on the warm hue direction h = :data:`RUST_HUE_DEG` in the a*-b* plane,
@@ -64,8 +66,9 @@ from typing import Any
 import numpy as np
 
 from trialkit.exceptions import EXIT_REFUSED, PhotoError
+from trialkit.photos.edge_cut import edge_cut
 from trialkit.photos.reading import Photo, read_photo
-from trialkit.photos.regions import MIN_CONTRAST, foreground_labels
+from trialkit.photos.regions import MIN_CONTRAST, background_colour, coupon_outline
 from trialkit.photos.settings import PhotoSettings
 from trialkit.responses.rust_grade import d610_grade
 
@@ -102,7 +105,8 @@ class PhotoCoverage:
     coupon_found_by : str
         ``"outline"`` or ``"region"``.
     white_balance : str
-        ``"grey card"`` or ``"none"``; ``gains`` the channel gains applied.
+        ``"grey card"`` or ``"white card"`` (the card that set it, :func:`card_kind`) or
+        ``"none"``; ``gains`` the channel gains applied.
     rule : str
         ``"otsu"``, ``"fixed"`` (Otsu's classes were not two) or ``"marked"``.
     threshold : float
@@ -150,8 +154,9 @@ class PhotoCoverage:
     def method_text(self) -> str:
         """One line naming the method and its settings (the record log's source)."""
         sep = "" if self.separation is None else f", classes {self.separation:.1f} apart"
-        wb = ("white balance from the card " + "/".join(f"{g:.2f}" for g in self.gains)
-              if self.white_balance == "grey card" else "no white balance")
+        wb = (f"white balance from the {self.white_balance} "
+              + "/".join(f"{g:.2f}" for g in self.gains)
+              if self.white_balance != "none" else "no white balance")
         s = self.settings
         return (f"coupon by {self.coupon_found_by}; {wb}; CIELAB rust-ness (hue "
                 f"{RUST_HUE_DEG:g} deg) {self.rule} cut {self.threshold:.1f}{sep}; "
@@ -236,22 +241,36 @@ def _white_balance(photo: Photo, settings: PhotoSettings, notes: list[str]
     return np.clip(photo.rgb * gains, 0.0, 1.0), tuple(float(g) for g in gains), whole
 
 
+def card_kind(lab: np.ndarray, card_box: tuple) -> str:
+    """``"white card"`` or ``"grey card"``: what the card in ``card_box`` looks like.
+
+    A card at least as light as the background (the frame's median L*, on the usual
+    white or light paper) is called white, a darker one grey.  The name only describes the
+    card; the correction is the same for both.  On a background darker than the card a
+    grey card is called white.
+
+    Examples
+    --------
+    >>> from skimage.color import rgb2lab
+    >>> img = np.full((40, 40, 3), 0.92); img[10:20, 10:20] = 0.96; img[25:35, 25:35] = 0.7
+    >>> card_kind(rgb2lab(img), (10, 10, 20, 20)), card_kind(rgb2lab(img), (25, 25, 35, 35))
+    ('white card', 'grey card')
+    """
+    x0, y0, x1, y1 = card_box
+    card = float(np.median(lab[y0:y1, x0:x1, 0]))
+    return "white card" if card >= float(background_colour(lab)[0]) else "grey card"
+
+
 def _find_coupon(photo: Photo, lab: np.ndarray, settings: PhotoSettings,
                  card: tuple | None, notes: list[str]) -> np.ndarray:
     """Boolean mask of the coupon (the region's box, or the largest outlined region)."""
-    from scipy.ndimage import binary_fill_holes
-
     h, w = lab.shape[:2]
     mask = np.zeros((h, w), bool)
     if settings.region is not None:
         x0, y0, x1, y1 = _scaled_box(settings.region, photo, "region")
         mask[y0:y1, x0:x1] = True
     else:
-        labels, diff = foreground_labels(lab, exclude=card)
-        if labels.max() > 0:
-            sizes = np.bincount(labels.ravel())
-            sizes[0] = 0
-            mask = binary_fill_holes(labels == int(np.argmax(sizes)))
+        mask, diff = coupon_outline(lab, exclude=card)
         contrast = float(np.median(diff[mask])) if mask.any() else 0.0
         if mask.sum() < MIN_COUPON_SHARE * h * w or contrast < MIN_CONTRAST:
             raise PhotoError(
@@ -352,11 +371,14 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
         r = gaussian(r, sigma=settings.smoothing, preserve_range=True)
     values = r[mask]
     threshold, rule, separation = _cut(values, r, photo, settings)
-    rust = mask & (r > threshold)
-    n_coupon, n_rust = int(mask.sum()), int(rust.sum())
+    local = edge_cut(r, mask, threshold)[mask]
+    n_coupon = int(mask.sum())
+    rust = np.zeros(mask.shape, bool)
+    rust[mask] = values > local
+    n_rust = int(rust.sum())
     pct = 100.0 * n_rust / n_coupon
-    low = 100.0 * float((values > threshold + CUT_SENSITIVITY).sum()) / n_coupon
-    high = 100.0 * float((values > threshold - CUT_SENSITIVITY).sum()) / n_coupon
+    low = 100.0 * float((values > local + CUT_SENSITIVITY).sum()) / n_coupon
+    high = 100.0 * float((values > local - CUT_SENSITIVITY).sum()) / n_coupon
     if rule == "fixed" and separation is not None \
             and separation >= settings.min_separation:
         notes.append(f"the coupon's colours form two classes {separation:.1f} apart on the "
@@ -370,7 +392,7 @@ def measure_coverage(path: str | os.PathLike, settings: PhotoSettings | None = N
         photo=photo.path.name, sha256=photo.sha256, rust_pct=pct, d610_grade=d610_grade(pct),
         coupon_px=n_coupon, rust_px=n_rust,
         coupon_found_by="region" if settings.region is not None else "outline",
-        white_balance="grey card" if card is not None else "none", gains=gains,
+        white_balance="none" if card is None else card_kind(lab, card), gains=gains,
         rule=rule, threshold=threshold, separation=separation,
         size=(rgb.shape[1], rgb.shape[0]), scale=photo.scale, settings=settings,
         rust_pct_low=low, rust_pct_high=high, notes=notes,
