@@ -12,16 +12,15 @@ the whole photo cannot suit a coupon whose bare steel differs from the paper by 
 much as its rust does (at a high rusted share Otsu's cut lands on the steel's own
 difference and loses the steel at the plate's edge; a lower cut adds the blur's rim
 around the rust).  The outline is placed by a random walker from markers (Grady 2006,
-``skimage.segmentation.random_walker``, on the unsmoothed difference): background markers
-are the pixels well outside a rough mask, coupon markers those well inside it
-(:data:`MARKER_MARGIN` pixels either way, ``skimage.morphology.erosion``); the rough mask
-is cut :data:`ROUGH_SHARE` of the way from the background's own difference up to Otsu's
-cut.  Each pixel between the markers goes to the side a random walk from it most
-probably reaches first; walks seldom cross a step of colour, so the outline runs through
-the middle of each edge whatever the height of the step there: bare steel and rust at the
-plate's edge are both kept, and no rim of blur is added.  (A watershed on the gradient
-must break a tie between the two pixels either side of a sharp edge, which adds a
-one-pixel rim; it also lost a steel-and-rust stretch of edge in tests.)
+``skimage.segmentation.random_walker`` on the difference map): background markers are the
+pixels well outside a rough mask cut half-way between the background's own difference and
+Otsu's cut, coupon markers those well inside it (:data:`MARKER_MARGIN` pixels either way,
+``skimage.morphology.erosion``), and each pixel between them goes to the side a random
+walk from it most probably reaches first.  Walks cross a blurred edge where its colour
+changes fastest, so the outline runs through the middle of each edge whatever the height
+of the step there: bare steel and rust at the plate's edge are both kept, and no rim of
+blur is added.  (A watershed on the gradient would do the same but must break a tie
+between the two pixels either side of a sharp edge, which adds a one-pixel rim.)
 
 Examples
 --------
@@ -44,19 +43,14 @@ import numpy as np
 FRAME = 0.03
 #: A region must differ from the background by at least this much (CIE76 ΔE, median).
 MIN_CONTRAST = 8.0
-#: The rough mask is cut this share of the way from the background's own difference up to
-#: Otsu's cut: low, so that the band around it holds the middle of a faint edge (bright
-#: steel on white paper) as well as that of a strong one (our own setting).
-ROUGH_SHARE = 1 / 3
-#: Pixels between the rough mask's edge and the markers on either side: the band in which
-#: the outline is placed (wider than a lens blur of a pixel or two; our own setting).
-MARKER_MARGIN = 3
+#: Pixels between the rough mask's edge and the watershed's markers on either side: the
+#: band in which the outline is placed (wider than a lens blur of a few pixels).
+MARKER_MARGIN = 4
 #: The random walker's beta (``skimage.segmentation.random_walker``, which divides it by
 #: ten times the SD of the difference map): how hard a walk crosses a step of colour.
-#: Our own setting, chosen on invented scenes (photo_scenes, seeds 40000-40039, and the
-#: plates of tests/test_photos_regions.py): at 8 their outlines missed or added at most
-#: 0.3 % of the plate's pixels; at 30 and above (the library's default is 130) the weights
-#: across a strong edge underflow and whole one-pixel rims go astray.
+#: Our own setting: at 2 and at 8 the outlines of 30 invented scenes (photo_scenes, seeds
+#: 40000-40029) missed or added at most 0.2 % of the plate's pixels; at the library's
+#: default of 130 the weights across a coupon's edge underflow and whole rims go astray.
 OUTLINE_BETA = 8.0
 
 
@@ -74,19 +68,18 @@ def background_colour(lab: np.ndarray) -> np.ndarray:
     return np.median(lab[_frame(lab.shape)], axis=0)
 
 
-def background_difference(lab: np.ndarray, smooth: bool = True) -> np.ndarray:
-    """ΔE*ab of every pixel from the background (the median of the outer frame), smoothed
-    by a Gaussian of 1 pixel unless ``smooth`` is False."""
+def background_difference(lab: np.ndarray) -> np.ndarray:
+    """ΔE*ab of every pixel from the background (the median of the outer frame), smoothed."""
     from skimage.color import deltaE_cie76
     from skimage.filters import gaussian
 
-    diff = deltaE_cie76(lab, background_colour(lab)[None, None, :])
-    return gaussian(diff, sigma=1.0, preserve_range=True) if smooth else diff
+    background = background_colour(lab)
+    return gaussian(deltaE_cie76(lab, background[None, None, :]), sigma=1.0,
+                    preserve_range=True)
 
 
-def _difference(lab: np.ndarray, exclude: tuple | None, smooth: bool = True
-                ) -> np.ndarray:
-    diff = background_difference(lab, smooth)
+def _difference(lab: np.ndarray, exclude: tuple | None) -> np.ndarray:
+    diff = background_difference(lab)
     if exclude is not None:
         x0, y0, x1, y1 = exclude
         diff[y0:y1, x0:x1] = 0.0
@@ -144,13 +137,12 @@ def coupon_outline(lab: np.ndarray, exclude: tuple | None = None
     if float(np.ptp(diff)) == 0:
         return np.zeros(diff.shape, bool), diff
     level = float(np.median(diff[_frame(diff.shape)]))
-    rough = opening(diff > level + ROUGH_SHARE * (_otsu_cut(diff) - level), disk(2))
+    rough = opening(diff > (level + _otsu_cut(diff)) / 2, disk(2))
     markers = np.zeros(diff.shape, np.int32)
     markers[erosion(~rough, disk(MARKER_MARGIN))] = 1
     markers[erosion(rough, disk(MARKER_MARGIN))] = 2
     if not (markers == 2).any():
         return np.zeros(diff.shape, bool), diff
-    inside = rough if not (markers == 1).any() else random_walker(
-        _difference(lab, exclude, smooth=False), markers, beta=OUTLINE_BETA,
-        mode="bf") == 2
+    inside = rough if not (markers == 1).any() else \
+        random_walker(diff, markers, beta=OUTLINE_BETA, mode="bf") == 2
     return largest_region(label(inside, connectivity=2)), diff
