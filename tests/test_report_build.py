@@ -66,6 +66,11 @@ def test_sweep_recommends_the_lean_level():
     assert rec["settings"] == {"chelator": pytest.approx(data.sweeps["removal"].lean_level)}
     text = " ".join(f["text"] for f in rt.report_of("sweep").findings)
     assert f"{data.sweeps['removal'].lean_level:.3g} % w/v" in text
+    # issue 15: the practical level is given an interval, or said to have none
+    lean = next(f["text"] for f in rt.report_of("sweep").findings
+                if "practical lean level" in f["text"])
+    assert "no interval of its own" in lean, lean
+    assert data.sweeps["removal"].to_dict()["sweep"]["lean_level_interval"] is None
 
 
 @pytest.mark.parametrize("kind", rt.ALL_KINDS)
