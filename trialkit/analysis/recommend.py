@@ -9,6 +9,7 @@ from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
+from scipy import stats
 
 from trialkit.analysis.censored_times import fastest_settings, uses_censored_model
 from trialkit.analysis.lean_settings import lean_settings
@@ -199,37 +200,91 @@ def _keep_limits(data: TrialAnalysis, primary: str, settings: dict, source: str,
                  f"(of {len(grid)} candidate settings, {int(ok.sum())} keep them)")
 
 
-def _flag_unlimited(data: TrialAnalysis, rows: list[dict], reasons: list[str]) -> None:
-    """Flag responses without a stated limit that are predicted clearly worse than the
-    best bath of the trial."""
+def clearly_better_setting(fit, others: pd.DataFrame, here: pd.DataFrame,
+                           aim: str) -> int | None:
+    """The row of ``others`` whose fitted mean is clearly better than at ``here``, or None.
+
+    Each difference from ``here`` is taken on the model's scale and divided by its
+    standard error and compared with Student's t at ``fit.alpha`` two-sided,
+    Bonferroni-corrected over the rows of ``others`` (so under a flat truth the flag is
+    raised at most ``fit.alpha`` of the time); of the rows clearly better, the one with
+    the best fitted mean is returned.
+
+    Examples
+    --------
+    >>> import numpy as np, pandas as pd
+    >>> from trialkit.analysis.model import fit_model
+    >>> from trialkit.trial.factors import Factor
+    >>> x = np.repeat([1.0, 5.0, 9.0], 4)
+    >>> y = 2 * x + np.tile([0.3, -0.3, 0.1, -0.1], 3)
+    >>> fit = fit_model(pd.DataFrame({"c": x, "r": y}), "r",
+    ...                 [Factor.continuous("c", 1, 9)], "main")
+    >>> clearly_better_setting(fit, pd.DataFrame({"c": [1.0, 5.0, 9.0]}),
+    ...                        pd.DataFrame({"c": [1.0]}), "higher")
+    2
+    """
+    if fit.df_resid <= 0 or others.empty:
+        return None
+    X = fit.design_rows(pd.concat([others, here], ignore_index=True))
+    d = X[:-1] - X[-1]
+    gain = (d @ fit.ls.beta) * (1.0 if aim == "higher" else -1.0)
+    se = np.sqrt(np.einsum("ij,jk,ik->i", d, fit.ls.xtx_inv, d) * fit.sigma2)
+    t = np.where(se > 0, gain / np.where(se > 0, se, 1.0), 0.0)
+    bound = float(stats.t.ppf(1 - fit.alpha / (2 * len(others)), fit.df_resid))
+    clear = t > bound
+    if not clear.any():
+        return None
+    return int(np.argmax(np.where(clear, gain, -np.inf)))  # the best of the clearly better
+
+
+def _flag_unlimited(data: TrialAnalysis, settings: dict, rows: list[dict],
+                    reasons: list[str]) -> None:
+    """Flag responses without a stated limit that are predicted clearly worse here than at
+    another of the trial's own settings.
+
+    Model against model: for each treated bath's settings (those that keep the stated
+    limits) the fitted difference from here, on the model's scale, is tested against its
+    standard error with a Bonferroni t bound over the settings compared; a response is
+    flagged when one of them is clearly better.  The best single bath observed would not
+    do: the largest of twenty noisy bath means lies above the mean at its settings, so it
+    would call almost any recipe worse.  Responses without a linear model (censored
+    times) are not flagged.
+    """
     if data.baths is None:
         return
     treated = data.baths[~data.baths["point"].isin(["control", "reference"])]
     traded = {a.response for a in getattr(data.desirability, "aims", ())}
-    for name in _limited(data):  # the best bath to compare with keeps the stated limits
+    limited = _limited(data)
+    for name in limited:  # the settings to compare with keep the stated limits
         if name in treated:
             spec = data.specs[name]
             keeps = treated[name].map(lambda v, s=spec: limit_shortfall(s, float(v)) == 0)
             treated = treated[keeps.fillna(False).astype(bool)]
+    factors = [f.name for f in data.trial.factors]
+    if any(n not in treated for n in factors) or set(settings) != set(factors):
+        return
+    others = treated[factors].drop_duplicates().reset_index(drop=True)
+    if others.empty:
+        return
+    here = pd.DataFrame([settings])[factors]
     for row in rows:
         spec = data.specs[row["response"]]
+        fit = data.fits.get(row["response"])
         if not spec.is_wanted or spec.aim == "on-target" or spec.unacceptable is not None \
-                or row["response"] in traded:  # a compromise already weighs it
-            continue
-        observed = treated[row["response"]].dropna().astype(float) \
-            if row["response"] in treated else pd.Series(dtype=float)
-        if observed.empty:
-            continue
-        best = observed.max() if spec.aim == "higher" else observed.min()
-        worse = best > row["ci_high"] if spec.aim == "higher" else best < row["ci_low"]
-        if worse:
+                or row["response"] in traded or fit is None or fit.df_resid <= 0:
+            continue  # a compromise already weighs it, or there is no test to make
+        k = clearly_better_setting(fit, others, here, spec.aim)
+        if k is not None:
             unit = data.unit(row["response"])
+            best = float(fit.predict(others.iloc[[k]]).predicted.iloc[0])
+            where = _settings_text(data, _plain_settings(others.iloc[k]))
+            among = ("settings that keep the stated limits" if limited else "settings")
             reasons.append(
                 f"{spoken_capitalised(row['response'])} is predicted "
                 f"{_fmt(row['predicted'], unit)} here "
                 f"(95 % CI {_fmt(row['ci_low'], unit)} to {_fmt(row['ci_high'], unit)}), "
-                f"clearly worse than the trial's best bath that keeps the stated limits "
-                f"({_fmt(best, unit)}); give "
+                f"clearly worse than at another of the trial's {among} "
+                f"({_fmt(best, unit)} at {where}); give "
                 f"{row['response']} a limit (unacceptable = ...) in the trial file if that "
                 "matters, and the recommendation will keep it.")
 
@@ -285,7 +340,7 @@ def recommend(data: TrialAnalysis) -> None:
             dict.fromkeys([*data.fits, *data.censored_fits])]
     met = all(limit_shortfall(data.specs[r["response"]], r["predicted"]) == 0
               for r in rows if r["response"] in limited)
-    _flag_unlimited(data, rows, reasons)
+    _flag_unlimited(data, settings, rows, reasons)
     data.recommendation = {"settings": settings, "source": source,
                            "predictions": pd.DataFrame(rows), "limits_met": met,
                            "reasons": reasons, "primary": primary,
