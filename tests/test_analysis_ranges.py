@@ -135,7 +135,7 @@ measure = "gloss_units"
 
 
 def test_a_user_response_declares_its_range_and_the_analysis_keeps_to_it():
-    from trialkit.analysis.trial_analysis import _limits
+    from trialkit.analysis.trial_analysis import response_limits as _limits
     from trialkit.trial.file import parse_trial_text
 
     spec = parse_trial_text(RANGE_TRIAL.format(range='range = [0, "none"]')).responses[0]

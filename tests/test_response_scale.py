@@ -180,3 +180,35 @@ def test_a_bend_without_a_peak_is_not_called_a_peak():
     fit = fit_model(pd.DataFrame({"x": x, "y": y}), "y", [f], "x + x^2", block=None)
     text = next(s.text for s in model_findings(fit) if s.kind == "curvature")
     assert "without a peak or a dip" in text and "high end" in text
+
+
+def test_the_command_line_takes_the_scale_and_range_of_a_plain_table(tmp_path, capsys):
+    """``trialkit analyze TABLE --scale logit --range 0,100``: the table's fit is on the
+    logit scale inside 0-100; a removal_pct column is known to be a share without
+    --range; a logit scale with no bounds is refused with the option to give."""
+    from trialkit.cli import main
+
+    _, baths = _near_complete_sweep(tmp_path / "t", seed=102, scale="raw")
+    table = tmp_path / "baths.csv"
+    baths[["chelator", "removal"]].to_csv(table, index=False)
+
+    def fit_json(*extra):
+        assert main(["analyze", str(table), "--response", "removal", "--factor",
+                     "chelator", "--model", "quadratic", "--json", *extra]) == 0
+        return json.loads(capsys.readouterr().out)
+
+    plain = fit_json()
+    assert plain["scale_kind"] == "raw" and plain["physical_range"] == [None, None]
+    out = fit_json("--scale", "logit", "--range", "0,100")
+    assert out["physical_range"] == [0.0, 100.0] and out["scale_kind"] == "logit"
+    assert main(["analyze", str(table), "--response", "removal", "--factor", "chelator",
+                 "--scale", "logit"]) == 2
+    assert "--range 0,100" in capsys.readouterr().err
+    assert main(["analyze", str(table), "--response", "removal", "--factor", "chelator",
+                 "--range", "100,0"]) == 2
+    assert "LOW below HIGH" in capsys.readouterr().err
+    baths.rename(columns={"removal": "removal_pct"})[["chelator", "removal_pct"]].to_csv(
+        table, index=False)
+    assert main(["analyze", str(table), "--response", "removal_pct", "--factor",
+                 "chelator", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["physical_range"] == [0.0, 100.0]

@@ -232,7 +232,7 @@ def config_of(trial):
     return sec if isinstance(sec, AnalysisConfig) else AnalysisConfig()
 
 
-def _limits(spec) -> tuple:
+def response_limits(spec) -> tuple:
     """Physical range of a trial response: its ``range`` key, else from its measure, else
     its unit."""
     if getattr(spec, "range", None) is not None:
@@ -272,7 +272,7 @@ def analyse(data: TrialAnalysis, *, n_boot: int | None = None) -> TrialAnalysis:
             data.note("analysis", f"{spec.name}: no bath has a value yet")
             continue
         model = cfg.response_models.get(spec.name) or cfg.model
-        limits = _limits(spec)
+        limits = response_limits(spec)
         try:
             res = analyze_table(data.baths, spec.name, trial.factors, model=model,
                                 anova_type=cfg.anova_type, alpha=cfg.alpha, sweep=sweep,

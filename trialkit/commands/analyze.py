@@ -12,6 +12,7 @@ trial, :func:`trialkit.analysis.trial_analysis.analyze`, the object the report r
 from __future__ import annotations
 
 import argparse
+import math
 from pathlib import Path
 
 from trialkit.commands._output import print_json
@@ -45,6 +46,12 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--bootstrap", type=int, metavar="N",
                         help="bootstrap resamples for optimum intervals (default 2000)")
     parser.add_argument("--seed", type=int, help="seed of the bootstrap")
+    parser.add_argument("--scale", choices=("raw", "log", "logit"),
+                        help="scale the model is fitted on (default: the trial's [[response]] "
+                        "scale, else raw); log needs a lower bound, logit both (--range)")
+    parser.add_argument("--range", dest="response_range", metavar="LOW,HIGH",
+                        help="physical range of the response, e.g. 0,100 or 0,none "
+                        "(default: the trial's, else known from the column's measure name)")
     parser.add_argument("--compromise", action="store_true",
                         help="trial folders: best Derringer-Suich compromise of every "
                         "response that has lower and upper limits")
@@ -105,7 +112,8 @@ def run(args: argparse.Namespace) -> int:
         threshold=args.threshold if args.threshold is not None else cfg.threshold,
         n_boot=args.bootstrap if args.bootstrap is not None else cfg.bootstrap,
         seed=args.seed if args.seed is not None else source.seed,
-        tolerance=cfg.tolerance, relative_tolerance=cfg.relative_tolerance)
+        tolerance=cfg.tolerance, relative_tolerance=cfg.relative_tolerance,
+        **_range_and_scale(args, source, name, column))
     if args.json:
         out = result.to_dict()
         out["source"] = source.origin
@@ -199,6 +207,49 @@ def _split_plot(args: argparse.Namespace, table, path: Path) -> int:
     else:
         print(f"{method}; rows are baths\n{result!r}")
     return 0
+
+
+def _range_and_scale(args: argparse.Namespace, source, name: str, column: str) -> dict:
+    """The response's physical range and model scale: the options, else the trial's
+    [[response]], else the range known for the column's measure (``removal_pct``: 0-100)."""
+    from trialkit.analysis.trial_analysis import response_limits
+    from trialkit.exceptions import AnalysisError
+
+    spec = next((r for r in source.specs if r.name == name), None)
+    if args.response_range is not None:
+        limits = _parse_range(args.response_range)
+    elif spec is not None:
+        limits = response_limits(spec)
+    else:
+        from trialkit.responses.definitions import physical_range
+
+        limits = physical_range(column.removesuffix("_mean"))
+    scale = args.scale or (spec.scale if spec is not None else "raw")
+    lo, hi = limits
+    if (scale == "log" and lo is None) or (scale == "logit" and (lo is None or hi is None)):
+        raise AnalysisError(f"--scale {scale} needs the response's "
+                            f"{'lower bound' if scale == 'log' else 'two bounds'}; give "
+                            f"--range {'0,none' if scale == 'log' else '0,100'} (or the "
+                            "range of the [[response]] in the trial file)")
+    return {"limits": limits, "scale": scale}
+
+
+def _parse_range(text: str) -> tuple[float | None, float | None]:
+    """``"0,100"`` -> (0.0, 100.0); ``"0,none"`` -> (0.0, None)."""
+    from trialkit.exceptions import AnalysisError
+
+    parts = [p.strip().lower() for p in text.split(",")]
+    try:
+        if len(parts) != 2:
+            raise ValueError
+        lo, hi = (None if p in ("", "none") else float(p) for p in parts)
+    except ValueError:
+        raise AnalysisError(f"--range must be LOW,HIGH such as 0,100 or 0,none; got "
+                            f"{text!r}") from None
+    if any(v is not None and not math.isfinite(v) for v in (lo, hi)) or (
+            lo is not None and hi is not None and not lo < hi):
+        raise AnalysisError(f"--range needs finite bounds with LOW below HIGH; got {text!r}")
+    return lo, hi
 
 
 #: Largest number of bootstrap resamples asked for on the command line.
