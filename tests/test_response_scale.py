@@ -212,3 +212,20 @@ def test_the_command_line_takes_the_scale_and_range_of_a_plain_table(tmp_path, c
     assert main(["analyze", str(table), "--response", "removal_pct", "--factor",
                  "chelator", "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["physical_range"] == [0.0, 100.0]
+
+
+def test_parts_left_on_the_raw_scale_say_so(tmp_path):
+    """A two-level screen whose removal is modelled on the logit scale: its effects by
+    Lenth's method stay on the raw scale, and a note says so."""
+    trial, plan, baths = rt.screening(tmp_path / "s", seed=4)
+    path = tmp_path / "s" / "trial.toml"
+    text = path.read_text(encoding="utf-8")
+    path.write_text(text.replace('unit = "%"\naim = "higher"\n',
+                                 'unit = "%"\naim = "higher"\nscale = "logit"\n'),
+                    encoding="utf-8")
+    data = analyze(tmp_path / "s", baths=baths)
+    assert data.fits["removal"].transform.kind == "logit"
+    assert "removal" in data.effects
+    notes = " ".join(data.to_dict()["notes"]["analysis"])
+    assert "removal: the effects by Lenth's method are on the raw scale" in notes, notes
+    assert "attack: the effects" not in notes     # attack is on the raw scale anyway

@@ -350,8 +350,18 @@ def _split_plot(data: TrialAnalysis, spec) -> None:
             data.baths, spec.name, hard, easy, whole_plot="whole_plot", block=block,
             alpha=config_of(data.trial).alpha,
             levels={f.name: f.levels for f in data.trial.factors if not f.is_continuous})
+        _raw_scale_note(data, spec, "the split-plot tests and effects")
     except (TrialkitError, ValueError, np.linalg.LinAlgError) as exc:
         data.note("analysis", f"{spec.name}: no split-plot analysis ({first_line(exc)})")
+
+
+def _raw_scale_note(data: TrialAnalysis, spec, what: str) -> None:
+    """Say so when a part of the analysis is on the raw scale although the response asks
+    for another."""
+    if getattr(spec, "scale", "raw") != "raw":
+        data.note("analysis", f"{spec.name}: {what} are on the raw scale, in "
+                              f"{spec.unit or 'its unit'}; the {spec.scale} scale of its "
+                              "[[response]] applies to the fitted model and its predictions")
 
 
 def _effects(data: TrialAnalysis, spec) -> None:
@@ -359,10 +369,10 @@ def _effects(data: TrialAnalysis, spec) -> None:
 
     try:
         data.effects[spec.name] = two_level_effects(data.baths, spec.name, data.trial.factors)
+        _raw_scale_note(data, spec, "the effects by Lenth's method")
     except TrialkitError as exc:
         data.note("analysis", f"{spec.name}: effects by Lenth's method not available "
                               f"({first_line(exc)})")
-
 
 
 def _detectable(data: TrialAnalysis, spec) -> None:
