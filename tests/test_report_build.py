@@ -244,7 +244,7 @@ def test_screening_report_also_judges_effects_by_lenth():
 
     data, _ = rt.analysed("screening")
     sec = rt.report_of("screening").section("matters")
-    block = next(b for b in sec.blocks if b.kind == "list" and b.text.startswith("removal: "))
+    block = next(b for b in sec.blocks if b.kind == "list" and b.text.startswith("Removal: "))
     assert "Lenth" in block.text
     assert block.items == [f.text for f in effects_findings(data.effects["removal"], unit="%")]
 
@@ -341,3 +341,57 @@ def test_no_exponent_notation_or_python_repr_anywhere_a_reader_looks(kind):
     page = re.sub(r"<script.*?</script>", "", page, flags=re.S)
     hits = re.findall(r"\b\d(?:\.\d+)?e[+-]\d{2}\b|np\.(?:float|int)\d+\(", page)
     assert not hits, hits[:5]
+
+
+def _sentences(section) -> list[str]:
+    """Headings, paragraphs and list items of a report section (tables left out)."""
+    return [b.text for b in section.blocks] + [str(i) for b in section.blocks
+                                               for i in b.items]
+
+
+def test_what_matters_speaks_every_name_and_unit_as_a_reader_writes_it():
+    # issue 17 (numbers for people): plain names and units in the main sentences and
+    # headings -- the level comparisons and Lenth's alias chains included
+    report = rt.report_of("example:five-factor-screen")
+    said = _sentences(report.section("matters"))
+    text = "\n".join(said)
+    assert "**" not in text and "degC" not in text
+    assert not re.search(r"\bph\b", text), re.findall(r".{40}\bph\b.{20}", text)
+    assert not re.search(r"\b(rust_removed|time_to_clean)\b", text)
+    levels = [s for s in said if " gave " in s and "simultaneous 95 % CI" in s]
+    assert levels and any("g/m² more rust removed" in s for s in levels), levels
+    for s in levels:  # the difference written to its interval's digits
+        m = re.search(r"gave (-?[\d.]+) .*CI (-?[\d.]+) to (-?[\d.]+);", s)
+        decimals = {len(x.partition(".")[2]) for x in m.groups()}
+        assert len(decimals) == 1, s
+    lenth = [s for s in said if "Lenth's margin" in s and " = " in s]
+    assert lenth and all("pH = " in s or " = pH" in s or "pH" not in s.lower()
+                         for s in lenth if "ph" in s.lower())
+    brief = report.section("brief")
+    factors = next(b.table for b in brief.blocks if b.text == "Factors and their levels")
+    assert "°C" in " ".join(factors.unit) and "degC" not in " ".join(factors.levels)
+
+
+def test_the_confirmation_table_quotes_no_digit_its_interval_does_not_support():
+    report = rt.report_of("example:five-factor-screen")
+    table = next(b for b in report.section("confirm").blocks
+                 if b.text.startswith("Where the confirmation baths should land"))
+    header, rows = table.table_rows()
+    numbers = [c for c in header if c not in ("response", "unit")]
+    for row in rows:
+        cells = [row[header.index(c)] for c in numbers]
+        assert len({len(c.partition(".")[2]) for c in cells if c != "0"}) == 1, row
+        assert all(len(c.replace("-", "").replace(".", "").lstrip("0")) <= 4 for c in cells)
+
+
+def test_a_bath_short_of_the_level_is_said_to_count_in_the_censored_time_model():
+    # issue 15/17: the data-quality note must not say "not reported as a result" when a
+    # censored time model counts the bath as lasting at least its last inspection
+    report = rt.report_of("example:five-factor-screen")
+    notes = next(b.table for b in report.section("readings").blocks
+                 if b.text.startswith("Worth a look"))
+    ninety = [n for n in notes.note if n.startswith("90 % removal not reached")]
+    assert ninety and all("counts it as lasting at least that long" in n
+                          and "not reported as a result" not in n for n in ninety)
+    fifty = [n for n in notes.note if n.startswith("50 % removal not reached")]
+    assert fifty and all("not reported as a result" in n for n in fifty)  # no 50 % model

@@ -112,6 +112,22 @@ def readable_interval(value, low, high, digits: int = 2) -> tuple[str, str, str]
     return out[0], out[1], out[2]
 
 
+def readable_to_interval(values, low, high, digits: int = 2) -> list[str]:
+    """Several numbers written to the decimal place that gives the interval ``low``–``high``
+    ``digits`` significant digits (e.g. a prediction, its one-bath and its mean-of-three
+    intervals, all to the narrower interval's digits).
+
+    >>> readable_to_interval([80.8213, 67.455, 94.19], 74.93, 86.71)
+    ['81', '67', '94']
+    """
+    try:
+        floats = [float(v) for v in values]
+        spread = abs(float(high) - float(low))
+    except (TypeError, ValueError):
+        return [readable(v) for v in values]
+    return _to_spread(floats, spread, digits)
+
+
 def _to_spread(values: list[float], spread: float, digits: int) -> list[str]:
     """``values`` written to the decimal place that gives ``spread`` (an interval's width or
     a standard error) ``digits`` significant digits; :func:`readable` when that is not
@@ -227,12 +243,15 @@ def settings_text(settings: Mapping[str, Any] | None,
 def spoken(name: str, unit: str | None = None) -> str:
     """A factor's, response's or model term's name as a sentence says it: underscores as
     spaces, a factor named ``ph`` (or measured in pH) as ``pH``, an interaction ``a:b`` as
-    ``a × b``.  Tables and JSON keep the name as the trial file spells it.
+    ``a × b`` (in an alias chain ``a = b:c`` every part so).  Tables and JSON keep the name
+    as the trial file spells it.
 
-    >>> spoken("rust_removed"), spoken("acidity", "pH")
-    ('rust removed', 'pH')
+    >>> spoken("rust_removed"), spoken("acidity", "pH"), spoken("ph = chelator:temperature")
+    ('rust removed', 'pH', 'pH = chelator × temperature')
     """
     text = str(name)
+    if " = " in text:  # an alias chain of a fraction: ``a = b:c``
+        return " = ".join(spoken(part) for part in text.split(" = "))
     if ":" in text:
         return " × ".join(spoken(part) for part in text.split(":"))
     if unit == "pH" or text.lower() == "ph":

@@ -14,7 +14,13 @@ from pathlib import Path
 import pandas as pd
 
 from trialkit.analysis.trial_data import TrialAnalysis
-from trialkit.numbers import readable, readable_interval, spoken, spoken_capitalised
+from trialkit.numbers import (
+    readable,
+    readable_interval,
+    readable_to_interval,
+    spoken,
+    spoken_capitalised,
+)
 from trialkit.report import figure_list as figs
 from trialkit.report.answer import answer_blocks, settings_phrase
 from trialkit.report.comparison_text import comparison_blocks
@@ -88,13 +94,23 @@ def write_report(data: TrialAnalysis, out: str | Path, *,
 
 # -- sections ---------------------------------------------------------------------------
 def _notes(data: TrialAnalysis, *topics: str) -> list[Block]:
-    return [Block.note(t) for topic in topics for t in data.notes.get(topic, [])]
+    """The analysis' notes on ``topics``, a leading response name as a sentence says it."""
+    return [Block.note(_spoken_lead(t, data)) for topic in topics
+            for t in data.notes.get(topic, [])]
+
+
+def _spoken_lead(note: str, data: TrialAnalysis) -> str:
+    """``"time_to_clean: no model ..."`` -> ``"Time to clean: no model ..."``."""
+    name, sep, rest = note.partition(": ")
+    if sep and name in data.specs:
+        return f"{spoken_capitalised(name)}: {rest}"
+    return note
 
 
 def _levels(f) -> str:
     if f.is_continuous:
         extra = f" (levels {', '.join(readable(v) for v in f.levels)})" if f.levels else ""
-        return f"{readable(f.low)} to {readable(f.high)} {f.unit}".rstrip() + extra
+        return f"{readable(f.low)} to {readable(f.high)} {pretty_unit(f.unit)}".rstrip() + extra
     return ", ".join(map(str, f.levels))
 
 
@@ -116,7 +132,7 @@ def _brief(data: TrialAnalysis) -> list[Block]:
     blocks = [Block.pairs(pairs)]
     if t.notes:
         blocks.append(Block.para(f"Notes: {t.notes}"))
-    ftab = pd.DataFrame([{"factor": f.name, "kind": f.kind, "unit": f.unit or "",
+    ftab = pd.DataFrame([{"factor": f.name, "kind": f.kind, "unit": pretty_unit(f.unit),
                           "levels": _levels(f)} for f in t.factors])
     blocks.append(Block.frame(ftab, "Factors and their levels"))
     if t.responses:
@@ -229,11 +245,12 @@ def _matters(data: TrialAnalysis, findings) -> list[Block]:
         said = [f.text for f in findings if f.response == name]
         unit = pretty_unit(data.unit(name)) or "no unit"
         if said:
-            blocks.append(Block.bullets(said, f"{name} ({unit})"))
+            blocks.append(Block.bullets(said, f"{spoken_capitalised(name)} ({unit})"))
         if name in data.effects and data.fits[name].df_resid > 0:
             lenth = effects_findings(data.effects[name], unit=data.unit(name))
             blocks.append(Block.bullets(
-                [f.text for f in lenth], f"{name}: the two-level effects judged by Lenth's "
+                [f.text for f in lenth], f"{spoken_capitalised(name)}: the two-level effects "
+                "judged by Lenth's "
                 "method (no model needed; useful when the model has few residual degrees "
                 "of freedom)"))
         blocks += comparison_blocks(data, name)
@@ -351,8 +368,11 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
     lay = data.trial.layout
     n = 3
     pred = rec["predictions"]
-    tab = pred[["response", "unit", "predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]] \
-        .assign(unit=lambda d: d.unit.map(pretty_unit))
+    numbers = ["predicted", "pi_low", "pi_high", "pi3_low", "pi3_high"]
+    tab = pred[["response", "unit"] + numbers].assign(unit=lambda d: d.unit.map(pretty_unit))
+    # every number of a row to the digits of its narrower (mean-of-n) interval
+    tab[numbers] = [readable_to_interval(row, row[3], row[4])
+                    for row in pred[numbers].itertuples(index=False)]
     tab = tab.rename(columns={"pi_low": "one bath: low", "pi_high": "one bath: high",
                               "pi3_low": f"mean of {n}: low", "pi3_high": f"mean of {n}: high"})
     blocks = []
@@ -360,9 +380,12 @@ def _confirm(data: TrialAnalysis) -> list[Block]:
         rows = []
         for name, c in data.confirmations.items():
             m = c.mean
-            rows.append({"response": name, "baths": m["n"], "observed mean": m["observed"],
-                         "predicted": m["predicted"], "interval low": m["pi_low"],
-                         "interval high": m["pi_high"],
+            observed, predicted, low, high = readable_to_interval(
+                [m["observed"], m["predicted"], m["pi_low"], m["pi_high"]], m["pi_low"],
+                m["pi_high"])
+            rows.append({"response": name, "baths": m["n"], "observed mean": observed,
+                         "predicted": predicted, "interval low": low,
+                         "interval high": high,
                          "baths inside": f"{int(c.table.inside.sum())} of {len(c.table)}",
                          "confirmed": "yes" if c.all_inside else "no"})
         settings = settings_phrase(next(iter(data.confirmations.values())).settings,

@@ -9,31 +9,39 @@ from __future__ import annotations
 
 import pandas as pd
 
-from trialkit.numbers import readable, readable_p
+from trialkit.numbers import p_phrase, readable_interval, readable_unit, spoken, spoken_capitalised
 from trialkit.report.document import Block
 
 
 def _unit(unit: str) -> str:
+    unit = readable_unit(unit)
     return {"%": " points"}.get(unit, f" {unit}" if unit else "")
 
 
 def level_sentences(rows: list[dict], unit: str, aim: str) -> list[str]:
     """One sentence per clearly different pair of levels (adjusted p < 0.05), in words:
-    ``"sodium citrate removed 18 points less than tetrasodium EDTA (95 % CI 11 to 25)"``;
-    pairs whose interval spans zero are summed up in one sentence."""
+    ``"salt = sodium citrate gave 18 points less removal than tetrasodium EDTA
+    (simultaneous 95 % CI 11 to 25; Tukey-adjusted p = 0.002)"``, the difference written to
+    its interval's digits; pairs whose interval spans zero are summed up in one sentence.
+
+    >>> print(level_sentences([{"factor": "agitation", "response": "rust_removed",
+    ...     "level_a": "periodic", "level_b": "none", "difference": 10.93, "low": 0.739,
+    ...     "high": 21.1, "p_adjusted": 0.037}], "g/m**2", "higher")[0])
+    ... # doctest: +NORMALIZE_WHITESPACE
+    agitation = periodic gave 11 g/m² more rust removed than none
+    (simultaneous 95 % CI 1 to 21; Tukey-adjusted p = 0.037)
+    """
     said, alike = [], []
     for r in sorted(rows, key=lambda r: -abs(r["difference"])):
         a, b, d = r["level_a"], r["level_b"], r["difference"]
         if r["p_adjusted"] < 0.05:
             better, worse = (a, b) if (d > 0) == (aim != "lower") else (b, a)
-            size = abs(d)
             lo, hi = sorted((abs(r["low"]), abs(r["high"])))
+            size, lo_text, hi_text = readable_interval(abs(d), lo, hi)
             word = "more" if (aim != "lower") else "less"
-            p_text = readable_p(r["p_adjusted"])
-            p_text = p_text if p_text.startswith("<") else f"= {p_text}"
-            said.append(f"{r['factor']} = {better} gave {readable(size, 3)}{_unit(unit)} "
-                        f"{word} {r['response']} than {worse} (simultaneous 95 % CI "
-                        f"{readable(lo, 3)} to {readable(hi, 3)}; Tukey-adjusted p {p_text})")
+            said.append(f"{spoken(r['factor'])} = {better} gave {size}{_unit(unit)} "
+                        f"{word} {spoken(r['response'])} than {worse} (simultaneous 95 % CI "
+                        f"{lo_text} to {hi_text}; Tukey-adjusted {p_phrase(r['p_adjusted'])})")
         else:
             alike.append(f"{a} and {b}")
     if alike:
@@ -50,12 +58,14 @@ def comparison_blocks(data, name: str) -> list[Block]:
     for factor in dict.fromkeys(r["factor"] for r in rows):
         mine = [r for r in rows if r["factor"] == factor]
         blocks.append(Block.bullets(level_sentences(mine, data.unit(name), spec.aim),
-                                    f"{name}: the levels of {factor} compared"))
+                                    f"{spoken_capitalised(name)}: the levels of {spoken(factor)} "
+                                    "compared"))
     vs = [v for v in data.versus_controls if v["response"] == name]
     if vs:
         table = pd.DataFrame(vs)[["treatment", "control", "difference", "low", "high",
                                   "p_adjusted"]]
-        blocks.append(Block.frame(table, f"{name}: each treatment against the untreated "
-                                         "and reference baths (Dunnett, simultaneous 95 % "
-                                         "intervals of the difference)"))
+        blocks.append(Block.frame(table, f"{spoken_capitalised(name)}: each treatment "
+                                         "against the untreated and reference baths "
+                                         "(Dunnett, simultaneous 95 % intervals of the "
+                                         "difference)"))
     return blocks

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import base64
 
+from trialkit.numbers import spoken, spoken_capitalised
 from trialkit.report.document import Block
 
 DPI = 100
@@ -44,32 +45,34 @@ def effect_figures(data, name: str) -> list[Block]:
     from trialkit.figures import plots
     from trialkit.figures import surface_views as surfaces
     fit, unit = data.fits[name], data.unit(name)
+    said = spoken(name)
     out = []
     if name in data.sweeps:
         sw = surfaces.from_sweep(data.sweeps[name], unit=unit)
         out.append(embed(lambda: plots.sweep(sw),
-                         f"{name} across the {sw.factor} sweep: fitted curve with 95 % band, "
+                         f"{spoken_capitalised(name)} across the {spoken(sw.factor)} sweep: "
+                         "fitted curve with 95 % band, "
                          "bath means, best level and practical lean level"))
         return out
     out.append(embed(lambda: plots.main_effects(fit, unit=unit),
-                     f"Main effects on {name}: predicted along each factor, others at their "
+                     f"Main effects on {said}: predicted along each factor, others at their "
                      "middle; points are the baths"))
     term = _best_interaction(fit)
     if term is not None:
         a, b = term.factors
         out.append(embed(lambda: plots.interaction(fit, a, b, unit=unit),
-                         f"Interaction of {a} and {b} on {name}"))
+                         f"Interaction of {spoken(a)} and {spoken(b)} on {said}"))
     if name in data.effects:
         eff = data.effects[name]
         out.append(embed(lambda: plots.effect_margins(eff, unit=unit),
-                         f"Effects on {name} in the order of the alias table, against "
+                         f"Effects on {said} in the order of the alias table, against "
                          "Lenth's margin of error (ME) and simultaneous margin (SME)"))
         out.append(embed(lambda: plots.half_normal(eff, unit=unit),
-                         f"Half-normal plot of the effects on {name}"))
+                         f"Half-normal plot of the effects on {said}"))
     if name in data.surfaces and len(data.surfaces[name].factors) >= 2:
         sv = surfaces.from_surface(data.surfaces[name], unit=unit)
         out.append(embed(lambda: plots.contour(sv),
-                         f"Contours of the fitted {name} with the baths and the best point"))
+                         f"Contours of the fitted {said} with the baths and the best point"))
     return out
 
 

@@ -8,7 +8,9 @@ import re
 
 import pandas as pd
 
+from trialkit.analysis.censored_times import CENSORED_LEVELS
 from trialkit.analysis.trial_data import TrialAnalysis
+from trialkit.numbers import spoken
 from trialkit.report.document import Block
 from trialkit.report.photo_quality import photo_blocks
 
@@ -112,6 +114,33 @@ def _sources(hist: pd.DataFrame) -> str:
     return text + (f" and {photos} photo(s)" if photos else "")
 
 
+def _censored_levels(data: TrialAnalysis) -> dict[int, str]:
+    """Removal level (%) -> the time response whose censored model counts the baths that
+    did not reach it."""
+    out = {}
+    for name in getattr(data, "censoring", {}) or {}:
+        spec = data.specs.get(name)
+        level = CENSORED_LEVELS.get(getattr(spec, "measure", None) or name)
+        if level is not None:
+            out[int(level)] = name
+    return out
+
+
+def _censoring_said(note: str, data: TrialAnalysis) -> str:
+    """A bath's "level not reached" note, told that a censored time model counts it.
+
+    Without a time model for that level the bath's time is simply not reported; with one,
+    the bath is not dropped: it counts as lasting at least its last inspection.
+    """
+    for level, name in _censored_levels(data).items():
+        if f"{level} % removal not reached within the readings" in note:
+            return note.replace("; not reported as a result.",
+                                f"; no time is quoted for it, and the model of "
+                                f"{spoken(name)} counts it as lasting at least that long "
+                                "(right-censored).")
+    return note
+
+
 def _response_notes(data: TrialAnalysis) -> list[Block]:
     """Bath conditions off the plan, values the responses left out, and notes worth a
     look, grouped."""
@@ -126,7 +155,8 @@ def _response_notes(data: TrialAnalysis) -> list[Block]:
                                                  "value": p.value, "problem": p.message}
                                                 for p in probs][:40]),
                                   "Flagged values (left out of the results)"))
-    warns = list(getattr(data.responses, "warnings", []) or [])
+    warns = [_censoring_said(w, data) for w in
+             list(getattr(data.responses, "warnings", []) or [])]
     if warns:
         blocks.append(Block.frame(grouped_notes(warns), "Worth a look: one row per kind of "
                                                         "note, with the baths it concerns"))
