@@ -395,3 +395,16 @@ def test_a_bath_short_of_the_level_is_said_to_count_in_the_censored_time_model()
                           and "not reported as a result" not in n for n in ninety)
     fifty = [n for n in notes.note if n.startswith("50 % removal not reached")]
     assert fifty and all("not reported as a result" in n for n in fifty)  # no 50 % model
+
+
+def test_surface_terms_and_treatments_are_named_as_a_reader_says_them():
+    # issue 17: quadratic terms and the Dunnett treatments of the surface example read
+    # "pH²" and "chelator 7 % w/v, pH 7.5", not "ph^2" and "ph 7.5 pH"
+    report = rt.report_of("example:surface-follow-up")
+    text = "\n".join(_sentences(report.section("matters")))
+    assert "pH²" in text and "^2" not in text
+    tables = [b.table for b in report.section("matters").blocks if b.table is not None
+              and "treatment" in b.table]
+    labels = [t for table in tables for t in table.treatment]
+    assert labels and all(re.search(r"pH \d", t) and not re.search(r"\d pH\b|\bph\b", t)
+                          for t in labels)

@@ -248,12 +248,16 @@ def spoken(name: str, unit: str | None = None) -> str:
 
     >>> spoken("rust_removed"), spoken("acidity", "pH"), spoken("ph = chelator:temperature")
     ('rust removed', 'pH', 'pH = chelator × temperature')
+    >>> spoken("ph^2"), spoken("chelator:ph")
+    ('pH²', 'chelator × pH')
     """
     text = str(name)
     if " = " in text:  # an alias chain of a fraction: ``a = b:c``
         return " = ".join(spoken(part) for part in text.split(" = "))
     if ":" in text:
         return " × ".join(spoken(part) for part in text.split(":"))
+    if text.endswith("^2"):  # a quadratic term
+        return spoken(text[:-2], unit) + "²"
     if unit == "pH" or text.lower() == "ph":
         return "pH"
     return text.replace("_", " ")

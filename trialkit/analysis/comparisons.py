@@ -35,7 +35,7 @@ import pandas as pd
 from scipy import stats
 
 from trialkit.exceptions import AnalysisError
-from trialkit.numbers import readable
+from trialkit.numbers import settings_text
 from trialkit.trial.factors import Factor
 
 TUKEY = "Tukey HSD (Tukey-Kramer, from the fitted model)"
@@ -103,16 +103,11 @@ def level_comparisons(fit, factor: Factor, response: str, *, alpha: float = 0.05
 
 
 def treatment_label(row: pd.Series, factors: Sequence[Factor]) -> str:
-    """``"chelator 5 % w/v, surfactant = added"``: a treatment named by its settings."""
-    parts = []
-    for f in factors:
-        v = row[f.name]
-        if f.is_continuous:
-            unit = f" {f.unit}" if f.unit else ""
-            parts.append(f"{f.name} {readable(float(v))}{unit}")
-        else:
-            parts.append(f"{f.name} = {v}")
-    return ", ".join(parts)
+    """``"chelator 5 % w/v, pH 6, surfactant = added"``: a treatment named by its settings
+    (:func:`trialkit.numbers.settings_text`)."""
+    settings = {f.name: (float(row[f.name]) if f.is_continuous else str(row[f.name]))
+                for f in factors}
+    return settings_text(settings, {f.name: f.unit for f in factors}, digits=4)
 
 
 def versus_controls(baths: pd.DataFrame, response: str, factors: Sequence[Factor], *,
