@@ -190,10 +190,10 @@ def report_findings(data: TrialAnalysis) -> list:
                     f"{_size(sw.tolerance, unit)} of the best, is "
                     f"{readable(sw.lean_level, 3)} {f.unit} (a rule applied to the fitted curve, "
                     f"so it has no interval of its own)."
-                    + (f" Above the best level {spoken(name)} gets worse again, by "
-                       f"{_size(sw.drop_at_high, unit)} at the top of the range"
-                       f" ({'higher' if sw.aim == 'lower' else 'lower'}"
-                       f" {spoken(name)})." if sw.falls_off else ""))
+                    + (f" Above the best level {spoken(name)} gets worse again: "
+                       f"{_size(sw.drop_at_high, unit)} "
+                       f"{'higher' if sw.aim == 'lower' else 'lower'} at the top of the "
+                       "range than at the best." if sw.falls_off else ""))
             out.append(Finding(text, name, f.name, "sweep",
                                {"best": sw.best, "lean_level": sw.lean_level,
                                 "fieller_low": sw.fieller_low,

@@ -114,26 +114,29 @@ def _sources(hist: pd.DataFrame) -> str:
     return text + (f" and {photos} photo(s)" if photos else "")
 
 
-def _censored_levels(data: TrialAnalysis) -> dict[int, str]:
+def _censored_levels(data: TrialAnalysis) -> dict[int, tuple[str, set]]:
     """Removal level (%) -> the time response whose censored model counts the baths that
-    did not reach it."""
+    did not reach it, and those baths."""
     out = {}
-    for name in getattr(data, "censoring", {}) or {}:
+    for name, censoring in (getattr(data, "censoring", {}) or {}).items():
         spec = data.specs.get(name)
         level = CENSORED_LEVELS.get(getattr(spec, "measure", None) or name)
         if level is not None:
-            out[int(level)] = name
+            out[int(level)] = (name, set(censoring.get("censored_baths", [])))
     return out
 
 
 def _censoring_said(note: str, data: TrialAnalysis) -> str:
     """A bath's "level not reached" note, told that a censored time model counts it.
 
-    Without a time model for that level the bath's time is simply not reported; with one,
-    the bath is not dropped: it counts as lasting at least its last inspection.
+    Without a time model for that level (or for a bath the model leaves out, such as an
+    untreated control) the bath's time is simply not reported; with one, the bath is not
+    dropped: it counts as lasting at least its last inspection.
     """
-    for level, name in _censored_levels(data).items():
-        if f"{level} % removal not reached within the readings" in note:
+    m = _WHO.match(note)
+    for level, (name, baths) in _censored_levels(data).items():
+        if (m and m.group("who") in baths
+                and f"{level} % removal not reached within the readings" in note):
             return note.replace("; not reported as a result.",
                                 f"; no time is quoted for it, and the model of "
                                 f"{spoken(name)} counts it as lasting at least that long "
